@@ -1,0 +1,43 @@
+"""Physical constants and published thresholds, each with its source, in one place."""
+
+import math
+
+#: Vacuum permeability [H/m]. CODATA 2018 gives 1.25663706212e-6; the pre-2019 exact value
+#: 4e-7*pi differs from it by 5e-10 relative, far below anything a wiring plan resolves.
+MU0 = 4e-7 * math.pi
+
+#: mu0 / (4 pi) [T m/A], the Biot-Savart prefactor.
+MU0_OVER_4PI = 1e-7
+
+#: WMM2025 validity window [decimal years] (WMM2025 technical report).
+WMM_VALID_FROM = 2025.0
+WMM_VALID_UNTIL = 2030.0
+
+#: Horizontal field below which compasses are unreliable ("blackout zone") [nT]
+#: (WMM2025 documentation).
+BLACKOUT_H_NT = 2000.0
+#: Horizontal field below which compasses degrade ("caution zone") [nT] (WMM2025 documentation).
+CAUTION_H_NT = 6000.0
+
+#: IEC 60945, compass safe distance: equipment may cause at most 5.4/H degrees at a standard
+#: compass and 18/H degrees at a steering compass, H in microtesla. As a horizontal disturbance
+#: this is H*sin(k/H deg), which to first order is k*pi/180 microtesla whatever H is.
+SAFE_DISTANCE_DEG_UT = {"standard": 5.4, "steering": 18.0}
+
+#: ISO 25862 Annex E: DC wiring within this distance of a magnetic compass should be laid bipolar;
+#: items of unknown safe distance kept at least this far away [m].
+ISO25862_BIPOLAR_RADIUS_M = 5.0
+
+#: Magnetometer practice (common practice, no source): a disturbance above this fraction of the
+#: Earth's total field means the sensor should move.
+MAGNETOMETER_MAX_FRACTION = 0.30
+
+#: Common practice, no source: keep high-current DC cables about this far from a heading sensor [m].
+PRACTICE_CLEARANCE_M = 1.0
+
+#: WGS-84 ellipsoid (NIMA TR8350.2): semi-major axis [km] and flattening.
+WGS84_A_KM = 6378.137
+WGS84_F = 1 / 298.257223563
+
+#: Geomagnetic reference radius of the WMM [km] (WMM2025 report).
+WMM_REFERENCE_RADIUS_KM = 6371.2
