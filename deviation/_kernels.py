@@ -63,7 +63,7 @@ def _kernel(start, end, current, radius2, length2, points, field, inside):  # pr
                 num = (na + nb) * (1.0 if positive else nanb - dot)
                 den = nanb * (nanb + dot if positive else c2)
                 near2 = min(a2, b2)
-                bad = (near2 <= r2) or ((dot <= near2) and (c2 <= r2l2))
+                bad = (near2 <= r2) or ((dot < near2) and (c2 <= r2l2))
                 f = 0.0 if bad else num / den
                 hit[j] = max(hit[j], 1.0 if bad else 0.0)
                 gx[j] = cx * f

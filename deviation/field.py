@@ -136,39 +136,93 @@ def segment_field(start_m, end_m, current_a, points_m, *, radius_m=0.0, return_i
     return (field, inside) if return_inside else field
 
 
-def _numpy_segment_field(start, end, current, radius2, length2, points, field, inside):
-    """Blocked NumPy evaluation; accumulates the unscaled field (without mu0/4pi) into ``field``."""
-    n_seg = len(start)
-    block = max(1, _NUMPY_BLOCK_PAIRS // n_seg)
+def _block_geometry(start, end, radius2, length2, points):
+    """Unit-current field (without mu0/4pi) of every segment at every point of a block.
+
+    Returns gx, gy, gz of shape (p, s) and the inside mask (p, s).
+    """
     sx, sy, sz = start.T[:, None, :]
     ex, ey, ez = end.T[:, None, :]
+    px, py, pz = points.T[:, :, None]
+    ax, ay, az = sx - px, sy - py, sz - pz                           # (p, s) each
+    bx, by, bz = ex - px, ey - py, ez - pz
+    cx = ay * bz - az * by
+    cy = az * bx - ax * bz
+    cz = ax * by - ay * bx
+    a2 = ax * ax + ay * ay + az * az
+    b2 = bx * bx + by * by + bz * bz
+    dot = ax * bx + ay * by + az * bz
+    c2 = cx * cx + cy * cy + cz * cz
+    na = np.sqrt(a2)
+    nb = np.sqrt(b2)
+    nanb = na * nb
+    positive = dot >= 0
+    with np.errstate(divide="ignore", invalid="ignore"):
+        factor = (na + nb) * np.where(positive, 1.0, nanb - dot)
+        factor /= nanb * np.where(positive, nanb + dot, c2)
+    near2 = np.minimum(a2, b2)
+    hit = (near2 <= radius2) | ((dot < near2) & (c2 <= radius2 * length2))
+    if hit.any():
+        factor[hit] = 0.0
+    return cx * factor, cy * factor, cz * factor, hit
+
+
+def _numpy_segment_field(start, end, current, radius2, length2, points, field, inside):
+    """Blocked NumPy evaluation; accumulates the unscaled field (without mu0/4pi) into ``field``."""
+    block = max(1, _NUMPY_BLOCK_PAIRS // len(start))
     for p0 in range(0, len(points), block):
-        px, py, pz = points[p0:p0 + block].T[:, :, None]
-        ax, ay, az = sx - px, sy - py, sz - pz                       # (p, s) each
-        bx, by, bz = ex - px, ey - py, ez - pz
-        cx = ay * bz - az * by
-        cy = az * bx - ax * bz
-        cz = ax * by - ay * bx
-        a2 = ax * ax + ay * ay + az * az
-        b2 = bx * bx + by * by + bz * bz
-        dot = ax * bx + ay * by + az * bz
-        c2 = cx * cx + cy * cy + cz * cz
-        na = np.sqrt(a2)
-        nb = np.sqrt(b2)
-        nanb = na * nb
-        positive = dot >= 0
-        with np.errstate(divide="ignore", invalid="ignore"):
-            factor = (na + nb) * np.where(positive, 1.0, nanb - dot)
-            factor /= nanb * np.where(positive, nanb + dot, c2)
-        near2 = np.minimum(a2, b2)
-        hit = (near2 <= radius2) | ((dot <= near2) & (c2 <= radius2 * length2))
-        if hit.any():
-            inside[p0:p0 + block] |= hit.any(axis=1)
-            factor[hit] = 0.0
+        gx, gy, gz, hit = _block_geometry(start, end, radius2, length2, points[p0:p0 + block])
+        inside[p0:p0 + block] |= hit.any(axis=1)
         out = field[p0:p0 + block]
-        out[:, :, 0] += (cx * factor) @ current                      # unit-current geometry x currents
-        out[:, :, 1] += (cy * factor) @ current
-        out[:, :, 2] += (cz * factor) @ current
+        out[:, :, 0] += gx @ current                                  # geometry x currents
+        out[:, :, 1] += gy @ current
+        out[:, :, 2] += gz @ current
+
+
+def segment_field_by_group(start_m, end_m, weight, group, n_groups, points_m, *, radius_m=0.0):
+    """Field of each group of segments (e.g. each cable run) at each point, in one pass.
+
+    Parameters
+    ----------
+    start_m, end_m : (S, 3) array [m]
+    weight : (S,) array [A]
+        Current of each segment (e.g. +1 and -1 for a run's supply and return at unit current).
+    group : (S,) int array
+        Group of each segment, in 0..n_groups-1, non-decreasing (segments of a group contiguous).
+    n_groups : int
+    points_m : (P, 3) array [m]
+    radius_m : float or (S,) array [m]
+
+    Returns
+    -------
+    field : (P, n_groups, 3) array [T]
+    inside : (P, n_groups) bool array
+        True where a point lies within a conductor of that group (its field is then not valid).
+
+    Notes
+    -----
+    The same closed form as :func:`segment_field`; the sum over segments is taken per group.
+    """
+    group = np.asarray(group)
+    if np.any(np.diff(group) < 0):
+        raise ValueError("segments must be sorted by group")
+    start, end, weight2, radius2, length2, index, _ = _as_segments(start_m, end_m, weight, radius_m)
+    weight = weight2[:, 0]
+    group = group[index]
+    points = np.ascontiguousarray(points_m, dtype=float).reshape(-1, 3)
+    field = np.zeros((len(points), n_groups, 3))
+    inside = np.zeros((len(points), n_groups), dtype=bool)
+    if not len(start):
+        return field, inside
+    firsts = np.flatnonzero(np.r_[True, np.diff(group) != 0])
+    present = group[firsts]
+    block = max(1, _NUMPY_BLOCK_PAIRS // len(start))
+    for p0 in range(0, len(points), block):
+        gx, gy, gz, hit = _block_geometry(start, end, radius2, length2, points[p0:p0 + block])
+        for c, g in enumerate((gx, gy, gz)):
+            field[p0:p0 + block, present, c] = np.add.reduceat(g * weight, firsts, axis=1)
+        inside[p0:p0 + block][:, present] = np.logical_or.reduceat(hit, firsts, axis=1)
+    return field * MU0_OVER_4PI, inside
 
 
 def _nearest_segment(start, end, point):

@@ -183,7 +183,8 @@ def max_change_deg(b_state, b_reference, horizontal, heel_deg=0.0, *, samples=72
         Disturbances in the vessel frame, same unit as ``horizontal``.
     horizontal : float
         The Earth's horizontal field H.
-    heel_deg : float [deg]
+    heel_deg : float or array [deg]
+        Broadcast against the leading dimensions of the disturbances.
     samples : int
         Headings sampled before refining.
     iterations : int
@@ -202,7 +203,12 @@ def max_change_deg(b_state, b_reference, horizontal, heel_deg=0.0, *, samples=72
     """
     b_s = np.asarray(b_state, dtype=float)
     b_r = np.asarray(b_reference, dtype=float)
-    b_s, b_r = np.broadcast_arrays(b_s, b_r)
+    heel = np.asarray(heel_deg, dtype=float)
+    shape = np.broadcast_shapes(b_s.shape[:-1], b_r.shape[:-1], heel.shape)
+    b_s = np.broadcast_to(b_s, shape + (3,))
+    b_r = np.broadcast_to(b_r, shape + (3,))
+    heel = np.broadcast_to(heel, shape)
+    heel_deg = heel[..., None]                          # against the headings axis
     step = 2 * np.pi / samples
     grid = np.arange(samples) * step
     sampled = np.abs(_wrapped_change(b_s, b_r, horizontal, grid, heel_deg))
@@ -225,8 +231,7 @@ def max_change_deg(b_state, b_reference, horizontal, heel_deg=0.0, *, samples=72
         new = value(np.where(right, x2, x1))
         f1, f2 = np.where(right, f2, new), np.where(right, new, f1)
     best = np.maximum(np.maximum(f1, f2), sampled.max(axis=-1))
-    overwhelmed = is_overwhelmed(b_s, horizontal, heel_deg) | is_overwhelmed(b_r, horizontal,
-                                                                             heel_deg)
+    overwhelmed = is_overwhelmed(b_s, horizontal, heel) | is_overwhelmed(b_r, horizontal, heel)
     return np.where(overwhelmed, 180.0, best)
 
 
@@ -239,7 +244,9 @@ def max_heeled_change_deg(b_state, b_reference, horizontal, max_heel_deg, *, hee
     """
     limit = abs(float(max_heel_deg))
     heels = np.unique(np.concatenate([np.linspace(-limit, limit, heel_steps), [0.0]]))
-    return np.max([max_change_deg(b_state, b_reference, horizontal, h) for h in heels], axis=0)
+    b_s = np.asarray(b_state, dtype=float)[..., None, :]
+    b_r = np.asarray(b_reference, dtype=float)[..., None, :]
+    return np.max(max_change_deg(b_s, b_r, horizontal, heels), axis=-1)
 
 
 def fraction_of_total_field(b_vessel, total):

@@ -1,0 +1,675 @@
+"""Read a plan workbook (.xlsx) or a folder of .csv sheets into a validated :class:`Plan`.
+
+Every problem found is collected as a :class:`Finding` naming the file, sheet, row and column;
+if there are any, :class:`PlanError` carries all of them and nothing is computed. The input is
+only ever opened for reading.
+"""
+
+from __future__ import annotations
+
+import csv
+import datetime as dt
+import difflib
+import math
+import re
+import zipfile
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from . import units
+from .constants import WMM_VALID_FROM, WMM_VALID_UNTIL
+from .geomag import decimal_year
+from .plan import (DEFAULT_STATE, SAFE_DISTANCE_FOR, SENSOR_KINDS, Equipment, Finding, Plan,
+                   PlanError, Run, Sensor, Site)
+from .routing import RETURN_KINDS, RunGeometry, route_runs
+
+SHEETS = ("site", "points", "runs", "states", "sensors", "equipment")
+REQUIRED_SHEETS = ("runs", "sensors")
+#: Rows per sheet beyond which a plan is refused (a wiring plan has hundreds, not millions).
+MAX_ROWS = 20_000
+#: Largest uncompressed size of a workbook's members, and largest expansion ratio, before reading.
+MAX_UNZIPPED_BYTES = 200 * 1024 * 1024
+MAX_ZIP_RATIO = 200
+
+COLUMNS = {
+    "site": {"required": ("setting", "value"), "known": ("setting", "value", "note")},
+    "points": {"required": ("point", "x", "y", "z"), "known": ("point", "x", "y", "z", "note")},
+    "runs": {"required": ("run", "route", "return"),
+             "known": ("run", "circuits", "route", "return", "return_route", "spacing", "lay",
+                       "size", "current_a", "note")},
+    "sensors": {"required": ("sensor", "at", "kind", "budget_deg"),
+                "known": ("sensor", "at", "kind", "budget_deg", "reference_state", "max_heel_deg",
+                          "note")},
+    "equipment": {"required": ("item", "at"),
+                  "known": ("item", "at", "safe_distance", "safe_distance_for", "moment_am2",
+                            "axis", "states", "note")},
+}
+SITE_SETTINGS = ("units", "latitude", "longitude", "date", "altitude_m", "horizontal_field_ut",
+                 "vertical_field_ut")
+
+
+def canonical(name) -> str:
+    """Sheet and column names: case-insensitive, surrounding spaces ignored, inner spaces as _."""
+    return re.sub(r"[\s_]+", "_", str(name).strip().lower())
+
+
+def key(name) -> str:
+    """Names of runs, points, circuits, states, sensors: compared case- and space-insensitively."""
+    return re.sub(r"\s+", " ", str(name).strip().lower())
+
+
+@dataclass
+class Sheet:
+    name: str
+    label: str
+    columns: dict            # canonical column -> header text
+    rows: list               # (row number, {canonical column: value})
+    state_columns: list      # for the states sheet: (canonical, header text) in order
+
+
+class _Collector:
+    def __init__(self, file):
+        self.file = file
+        self.findings = []
+
+    def add(self, sheet, row, column, message):
+        self.findings.append(Finding(self.file, sheet, row, column, message))
+
+
+# Reading the raw sheets ---------------------------------------------------------------------------
+
+def _blank(value):
+    return value is None or (isinstance(value, str) and value.strip() == "")
+
+
+def _clean(value):
+    if isinstance(value, str):
+        value = value.strip()
+        return None if value == "" else value
+    return value
+
+
+def _table(name, label, grid, first_row, collector):
+    """A sheet from a grid of cells (list of rows), the header in the first non-empty row."""
+    rows = [(first_row + i, r) for i, r in enumerate(grid)]
+    rows = [(n, r) for n, r in rows if any(not _blank(c) for c in r)]
+    if not rows:
+        collector.add(name, None, None, "the sheet is empty; it needs a header row")
+        return None
+    header_row, header = rows[0]
+    columns, positions, state_columns = {}, {}, []
+    for index, cell in enumerate(header):
+        if _blank(cell):
+            continue
+        col = canonical(cell)
+        if col in columns:
+            collector.add(name, header_row, str(cell).strip(), "this column appears twice")
+            continue
+        columns[col] = str(cell).strip()
+        positions[col] = index
+        if name == "states" and index > 0 and col != "note":
+            state_columns.append((col, str(cell).strip()))
+    data = []
+    for number, cells in rows[1:]:
+        values = {col: _clean(cells[i]) if i < len(cells) else None for col, i in positions.items()}
+        if name == "states" and header and not _blank(header[0]):
+            values["circuit"] = _clean(cells[0]) if cells else None
+        data.append((number, values))
+    if len(data) > MAX_ROWS:
+        collector.add(name, None, None, f"{len(data)} rows is more than the {MAX_ROWS} a plan may "
+                      "have; split the plan or remove empty formatted rows")
+        return None
+    return Sheet(name, label, columns, data, state_columns)
+
+
+def _check_zip(path, collector):
+    try:
+        with zipfile.ZipFile(path) as archive:
+            members = archive.infolist()
+    except zipfile.BadZipFile:
+        collector.add(None, None, None, "this is not an .xlsx workbook (not a zip archive); "
+                      "save it from the spreadsheet as .xlsx, or give a folder of .csv sheets")
+        return False
+    unpacked = sum(m.file_size for m in members)
+    packed = max(1, sum(m.compress_size for m in members))
+    if unpacked > MAX_UNZIPPED_BYTES or unpacked / packed > MAX_ZIP_RATIO and unpacked > 10e6:
+        collector.add(None, None, None, f"the workbook would unpack to {unpacked / 1e6:.0f} MB "
+                      f"from {packed / 1e6:.1f} MB; refused as unsafe (limit "
+                      f"{MAX_UNZIPPED_BYTES / 1e6:.0f} MB)")
+        return False
+    return True
+
+
+def _read_xlsx(path, collector):
+    if not _check_zip(path, collector):
+        return {}
+    import openpyxl  # defusedxml, when installed, guards openpyxl's XML parsing
+
+    try:
+        book = openpyxl.load_workbook(path, read_only=False, data_only=True)
+    except Exception as error:  # openpyxl raises many kinds on damaged files
+        collector.add(None, None, None, f"cannot be read as an .xlsx workbook ({error.__class__.__name__}"
+                      f": {error}); open and save it again in the spreadsheet")
+        return {}
+    sheets = {}
+    for worksheet in book.worksheets:
+        name = canonical(worksheet.title)
+        if name not in SHEETS:
+            continue
+        if worksheet.max_row > MAX_ROWS + 100:
+            collector.add(name, None, None, f"{worksheet.max_row} rows is more than the {MAX_ROWS} "
+                          "a plan may have")
+            continue
+        for merged in worksheet.merged_cells.ranges:
+            collector.add(name, merged.min_row, worksheet.cell(1, merged.min_col).value or
+                          merged.coord, f"merged cells ({merged.coord}) are not allowed in a plan; "
+                          "unmerge them and fill each cell")
+        grid = [list(r) for r in worksheet.iter_rows(values_only=True)]
+        sheet = _table(name, worksheet.title, grid, 1, collector)
+        if sheet is not None:
+            sheets[name] = sheet
+    book.close()
+    return sheets
+
+
+def _read_csv_folder(path, collector):
+    sheets = {}
+    for file in sorted(path.iterdir()):
+        if file.suffix.lower() != ".csv" or canonical(file.stem) not in SHEETS:
+            continue
+        name = canonical(file.stem)
+        try:
+            text = file.read_text(encoding="utf-8-sig")
+        except UnicodeDecodeError:
+            collector.add(name, None, None, f"{file.name} is not UTF-8 text; save it as CSV UTF-8")
+            continue
+        if text.count("\n") > MAX_ROWS + 100:
+            collector.add(name, None, None, f"more than the {MAX_ROWS} rows a plan may have")
+            continue
+        grid = list(csv.reader(text.splitlines()))
+        sheet = _table(name, file.name, grid, 1, collector)
+        if sheet is not None:
+            sheets[name] = sheet
+    return sheets
+
+
+# Cell readers -------------------------------------------------------------------------------------
+
+def _number(value, what, collector, sheet, row, column):
+    if isinstance(value, bool) or isinstance(value, (dt.date, dt.datetime)):
+        collector.add(sheet, row, column, f'"{value}" is not {what}')
+        return None
+    try:
+        number = float(str(value).strip()) if isinstance(value, str) else float(value)
+    except (TypeError, ValueError):
+        collector.add(sheet, row, column, f'"{value}" is not {what}')
+        return None
+    if not math.isfinite(number):
+        collector.add(sheet, row, column, f'"{value}" is not {what}')
+        return None
+    return number
+
+
+def _length(value, default_unit, collector, sheet, row, column):
+    if isinstance(value, (dt.date, dt.datetime, bool)):
+        collector.add(sheet, row, column, f'"{value}" is not a length')
+        return None
+    try:
+        return units.parse_length(value, default_unit)
+    except units.UnitError as error:
+        collector.add(sheet, row, column, str(error))
+        return None
+
+
+def _suggest(word, choices):
+    close = difflib.get_close_matches(key(word), [key(c) for c in choices], n=1, cutoff=0.6)
+    if not close:
+        return ""
+    original = next(c for c in choices if key(c) == close[0])
+    return f'; did you mean "{original}"?'
+
+
+def _position(text, points, default_unit, collector, sheet, row, column):
+    """A point name or ``x, y, z`` (each may carry a unit)."""
+    if isinstance(text, (int, float)) and not isinstance(text, bool):
+        collector.add(sheet, row, column, f'"{text}" is not a position; give a point name or x, y, z')
+        return None
+    text = str(text).strip()
+    if key(text) in points:
+        return points[key(text)]
+    parts = [p for p in text.split(",")]
+    if len(parts) == 3:
+        coords = []
+        for part in parts:
+            try:
+                coords.append(units.parse_length(part, default_unit))
+            except units.UnitError:
+                coords = None
+                break
+        if coords is not None:
+            return np.array(coords)
+    names = [n for n in points.names] if hasattr(points, "names") else []
+    collector.add(sheet, row, column, f'"{text}" is neither a point in the points sheet nor '
+                  f'x, y, z{_suggest(text, names)}')
+    return None
+
+
+class _Points(dict):
+    def __init__(self):
+        super().__init__()
+        self.names = []
+
+
+# The sheets ---------------------------------------------------------------------------------------
+
+def _check_columns(sheet, collector):
+    spec = COLUMNS[sheet.name]
+    ok = True
+    for col in spec["required"]:
+        if col not in sheet.columns:
+            close = difflib.get_close_matches(col, list(sheet.columns), n=1, cutoff=0.6)
+            hint = f'; is "{sheet.columns[close[0]]}" meant to be it?' if close else ""
+            collector.add(sheet.name, None, col, f"the required column is missing{hint}")
+            ok = False
+    return ok
+
+
+def _read_site(sheet, collector):
+    values, rows = {}, {}
+    if sheet is not None and _check_columns(sheet, collector):
+        for number, row in sheet.rows:
+            setting = row.get("setting")
+            if setting is None:
+                if row.get("value") is not None:
+                    collector.add("site", number, "setting", "a value without a setting name")
+                continue
+            name = canonical(setting)
+            if name not in SITE_SETTINGS:
+                collector.add("site", number, "setting", f'"{setting}" is not a setting; expected '
+                              f'one of {", ".join(SITE_SETTINGS)}{_suggest(name, SITE_SETTINGS)}')
+                continue
+            values[name], rows[name] = row.get("value"), number
+
+    def number(name, low, high, what):
+        if values.get(name) is None:
+            return None
+        got = _number(values[name], what, collector, "site", rows[name], "value")
+        if got is not None and not low <= got <= high:
+            collector.add("site", rows[name], "value", f"{name} {got:g} is outside {low:g} to {high:g}")
+            return None
+        return got
+
+    unit = str(values.get("units") or "m").strip().lower()
+    if unit not in units.LENGTH_UNITS:
+        collector.add("site", rows.get("units"), "value", f'units "{unit}" is not one of '
+                      f'{", ".join(units.LENGTH_UNITS)}')
+        unit = "m"
+    latitude = number("latitude", -90, 90, "a latitude in decimal degrees")
+    longitude = number("longitude", -180, 360, "a longitude in decimal degrees")
+    altitude = number("altitude_m", -1000, 100_000, "a height in metres") or 0.0
+    horizontal = number("horizontal_field_ut", 0.001, 100, "a horizontal field in microtesla")
+    vertical = number("vertical_field_ut", -100, 100, "a vertical field in microtesla")
+    if values.get("horizontal_field_ut") is None and (values.get("latitude") is None
+                                                      or values.get("longitude") is None):
+        collector.add("site", None, None, "give latitude and longitude (for the WMM2025 field) "
+                      "or horizontal_field_ut (measured)")
+    raw_date = values.get("date")
+    try:
+        if raw_date is None:
+            year, date_text = decimal_year(dt.date.today()), dt.date.today().isoformat()
+        elif isinstance(raw_date, (dt.date, dt.datetime)):
+            year, date_text = decimal_year(raw_date), raw_date.strftime("%Y-%m-%d")
+        elif isinstance(raw_date, (int, float)) or re.fullmatch(r"\d{4}(\.\d+)?", str(raw_date)):
+            year, date_text = float(raw_date), f"{float(raw_date):.2f}"
+        else:
+            year, date_text = decimal_year(str(raw_date)), str(raw_date)
+    except ValueError:
+        collector.add("site", rows.get("date"), "value", f'"{raw_date}" is not a date '
+                      "(YYYY-MM-DD or a decimal year such as 2027.5)")
+        year, date_text = decimal_year(dt.date.today()), dt.date.today().isoformat()
+    if horizontal is None and not WMM_VALID_FROM <= year <= WMM_VALID_UNTIL:
+        collector.add("site", rows.get("date"), "value" if "date" in rows else None,
+                      f"{year:.2f} is outside the validity of WMM-2025 ({WMM_VALID_FROM:.1f}-"
+                      f"{WMM_VALID_UNTIL:.1f}); give the site's field from a measurement or a "
+                      "current model instead")
+    return Site(unit, latitude, longitude, year, date_text, altitude, horizontal, vertical)
+
+
+def _read_points(sheet, unit, collector):
+    points = _Points()
+    if sheet is None or not _check_columns(sheet, collector):
+        return points
+    for number, row in sheet.rows:
+        name = row.get("point")
+        if name is None:
+            collector.add("points", number, "point", "the point has no name")
+            continue
+        if key(name) in points:
+            collector.add("points", number, "point", f'"{name}" is named twice')
+            continue
+        coords = []
+        for axis in ("x", "y", "z"):
+            if row.get(axis) is None:
+                collector.add("points", number, axis, "a length is needed")
+                coords = None
+                break
+            value = _length(row[axis], unit, collector, "points", number, axis)
+            coords = None if value is None or coords is None else coords + [value]
+        if coords is not None:
+            points[key(name)] = np.array(coords)
+            points.names.append(str(name))
+    return points
+
+
+def _read_states(sheet, collector):
+    """Circuit currents: ({circuit key: (K,) amperes}, [state names], {circuit key: name})."""
+    if sheet is None:
+        return None, [DEFAULT_STATE], {}
+    if "circuit" not in sheet.columns:
+        first = next(iter(sheet.columns.values()), None)
+        if first is None or canonical(first) != "circuit":
+            collector.add("states", None, "circuit", "the first column must be circuit")
+            return {}, [], {}
+    states = [label for _, label in sheet.state_columns]
+    if not states:
+        collector.add("states", None, None, "no operating states: add a column per state "
+                      "(e.g. harbour, night motoring) holding each circuit's current in A")
+    currents, names = {}, {}
+    for number, row in sheet.rows:
+        circuit = row.get("circuit")
+        if circuit is None:
+            collector.add("states", number, "circuit", "the circuit has no name")
+            continue
+        if key(circuit) in currents:
+            collector.add("states", number, "circuit", f'"{circuit}" is listed twice')
+            continue
+        values = []
+        for col, label in sheet.state_columns:
+            cell = row.get(col)
+            values.append(0.0 if cell is None else
+                          _number(cell, "a current in amperes", collector, "states", number, label))
+        # A bad cell is reported above; the circuit stays known so runs naming it find it.
+        currents[key(circuit)] = np.array([0.0 if v is None else v for v in values], dtype=float)
+        names[key(circuit)] = str(circuit)
+    return currents, states, names
+
+
+def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, collector):
+    runs, currents = [], []
+    if sheet is None or not _check_columns(sheet, collector):
+        return runs, np.zeros((0, n_states))
+    small = "in" if site.units in units.IMPERIAL else "mm"
+    if circuit_currents is None and "current_a" not in sheet.columns:
+        collector.add("runs", None, "current_a", "the column is needed when the plan has no states "
+                      "sheet (or add a states sheet and a circuits column)")
+    if circuit_currents is not None and "circuits" not in sheet.columns:
+        collector.add("runs", None, "circuits", "the column is needed with a states sheet")
+    seen = set()
+    for number, row in sheet.rows:
+        bad = len(collector.findings)
+        name = row.get("run")
+        if name is None:
+            collector.add("runs", number, "run", "the run has no name")
+            name = f"row {number}"
+        elif key(name) in seen:
+            collector.add("runs", number, "run", f'"{name}" is named twice')
+        seen.add(key(name))
+        name = str(name)
+
+        route = _route(row.get("route"), points, site.units, collector, number, "route")
+        kind = row.get("return")
+        kind = key(kind) if kind is not None else None
+        if kind not in RETURN_KINDS:
+            given = "nothing" if kind is None else f'"{row.get("return")}"'
+            collector.add("runs", number, "return", f"{given} is not a return kind; expected one of "
+                          f'{", ".join(RETURN_KINDS)}{_suggest(kind or "", RETURN_KINDS)}')
+        size_label, radius, default_spacing = None, 0.0, None
+        if row.get("size") is not None:
+            try:
+                size_label, _bare, outer = units.conductor_size(row["size"])
+                radius, default_spacing = outer / 2, outer
+            except units.UnitError as error:
+                collector.add("runs", number, "size", str(error))
+        spacing = lay = back = None
+        if kind in ("paired", "twisted"):
+            if row.get("spacing") is not None:
+                spacing = _length(row["spacing"], small, collector, "runs", number, "spacing")
+            elif default_spacing is not None:
+                spacing = default_spacing
+            elif row.get("size") is None:
+                collector.add("runs", number, "spacing", f"a {kind} run needs a spacing or a size "
+                              "(e.g. 10 AWG) to place its return")
+            if spacing is not None and spacing <= 0:
+                collector.add("runs", number, "spacing", "the spacing must be more than zero")
+        if kind == "twisted":
+            if row.get("lay") is None:
+                collector.add("runs", number, "lay", "a twisted run needs its lay length "
+                              "(the length of one full twist)")
+            else:
+                lay = _length(row["lay"], small, collector, "runs", number, "lay")
+                if lay is not None and lay <= 0:
+                    collector.add("runs", number, "lay", "the lay length must be more than zero")
+        if kind == "separate":
+            if row.get("return_route") is None:
+                collector.add("runs", number, "return_route", "a separate return needs its route "
+                              "from the load back to the source")
+            else:
+                back = _route(row["return_route"], points, site.units, collector, number,
+                              "return_route")
+        elif row.get("return_route") is not None and kind in RETURN_KINDS:
+            collector.add("runs", number, "return_route", f"a return route is only used with "
+                          f'return "separate", not "{kind}"')
+
+        run_current = np.zeros(n_states)
+        circuits = ()
+        if circuit_currents is None:
+            if row.get("current_a") is None:
+                collector.add("runs", number, "current_a", "the run's current in amperes is needed")
+            else:
+                value = _number(row["current_a"], "a number of amperes", collector, "runs", number,
+                                "current_a")
+                run_current = np.array([value if value is not None else 0.0])
+        elif row.get("circuits") is None:
+            collector.add("runs", number, "circuits", "name the circuit(s) this run carries, "
+                          "separated by ;")
+        else:
+            circuits = tuple(c.strip() for c in str(row["circuits"]).split(";") if c.strip())
+            for circuit in circuits:
+                if key(circuit) not in circuit_currents:
+                    collector.add("runs", number, "circuits", f'circuit "{circuit}" is not in the '
+                                  f"states sheet{_suggest(circuit, list(circuit_names.values()))}")
+                else:
+                    run_current = run_current + circuit_currents[key(circuit)]
+        if len(collector.findings) > bad:
+            continue
+        geometry = RunGeometry(name, route, kind, back, spacing, lay, radius)
+        length = np.linalg.norm(np.diff(route, axis=0), axis=1).sum()
+        if length == 0:
+            collector.add("runs", number, "route", "the route has no length (all waypoints coincide)")
+            continue
+        runs.append(Run(name, circuits, geometry, size_label, str(row.get("note") or ""), number))
+        currents.append(run_current)
+    return runs, np.array(currents).reshape(len(runs), n_states)
+
+
+def _route(text, points, unit, collector, row, column):
+    if text is None:
+        collector.add("runs", row, column, "the route is empty; give waypoints separated by >")
+        return None
+    waypoints = []
+    for part in str(text).split(">"):
+        if not part.strip():
+            collector.add("runs", row, column, "an empty waypoint (two > in a row, or one at an end)")
+            return None
+        position = _position(part, points, unit, collector, "runs", row, column)
+        if position is None:
+            return None
+        waypoints.append(position)
+    if len(waypoints) < 2:
+        collector.add("runs", row, column, "a route needs at least two waypoints, separated by >")
+        return None
+    return np.array(waypoints)
+
+
+def _read_sensors(sheet, site, points, states, collector):
+    sensors = []
+    if sheet is None or not _check_columns(sheet, collector):
+        return sensors
+    seen = set()
+    for number, row in sheet.rows:
+        bad = len(collector.findings)
+        name = row.get("sensor")
+        if name is None:
+            collector.add("sensors", number, "sensor", "the sensor has no name")
+        elif key(name) in seen:
+            collector.add("sensors", number, "sensor", f'"{name}" is named twice')
+        seen.add(key(name) if name else None)
+        position = None
+        if row.get("at") is None:
+            collector.add("sensors", number, "at", "where is it? give a point name or x, y, z")
+        else:
+            position = _position(row["at"], points, site.units, collector, "sensors", number, "at")
+        kind = key(row.get("kind") or "")
+        if kind not in SENSOR_KINDS:
+            collector.add("sensors", number, "kind", f'"{row.get("kind") or ""}" is not a sensor '
+                          f'kind; expected one of {", ".join(SENSOR_KINDS)}'
+                          f"{_suggest(kind, SENSOR_KINDS)}")
+        budget = None
+        if row.get("budget_deg") is None:
+            collector.add("sensors", number, "budget_deg", "the deviation budget in degrees is "
+                          "needed (e.g. 1 for a steering compass)")
+        else:
+            budget = _number(row["budget_deg"], "a number of degrees", collector, "sensors",
+                             number, "budget_deg")
+            if budget is not None and not 0 < budget <= 180:
+                collector.add("sensors", number, "budget_deg", "the budget must be more than 0 and "
+                              "at most 180 degrees")
+        reference = row.get("reference_state")
+        if reference is not None:
+            matches = [s for s in states if key(s) == key(reference)]
+            if not matches:
+                collector.add("sensors", number, "reference_state", f'"{reference}" is not a state'
+                              f"{_suggest(str(reference), states)}")
+            else:
+                reference = matches[0]
+        heel = 0.0
+        if row.get("max_heel_deg") is not None:
+            heel = _number(row["max_heel_deg"], "a number of degrees", collector, "sensors",
+                           number, "max_heel_deg")
+            if heel is not None and not 0 <= heel <= 90:
+                collector.add("sensors", number, "max_heel_deg", "the heel must be 0 to 90 degrees")
+        if len(collector.findings) == bad:
+            sensors.append(Sensor(str(name), position, kind, budget, reference, heel,
+                                  str(row.get("note") or ""), number))
+    return sensors
+
+
+def _read_equipment(sheet, site, points, states, collector):
+    items = []
+    if sheet is None or not _check_columns(sheet, collector):
+        return items
+    for number, row in sheet.rows:
+        bad = len(collector.findings)
+        name = row.get("item") or f"row {number}"
+        position = None
+        if row.get("at") is None:
+            collector.add("equipment", number, "at", "where is it? give a point name or x, y, z")
+        else:
+            position = _position(row["at"], points, site.units, collector, "equipment", number, "at")
+        safe = safe_for = moment = axis = None
+        if row.get("safe_distance") is not None:
+            safe = _length(row["safe_distance"], site.units, collector, "equipment", number,
+                           "safe_distance")
+            safe_for = key(row.get("safe_distance_for") or "")
+            if safe_for not in SAFE_DISTANCE_FOR:
+                collector.add("equipment", number, "safe_distance_for", "say which compass the "
+                              "label is for: standard or steering (IEC 60945)")
+            if safe is not None and safe <= 0:
+                collector.add("equipment", number, "safe_distance", "must be more than zero")
+        elif row.get("moment_am2") is not None:
+            moment = _number(row["moment_am2"], "a magnetic moment in A·m²", collector, "equipment",
+                             number, "moment_am2")
+            if row.get("axis") is not None:
+                parts = str(row["axis"]).split(",")
+                try:
+                    axis = np.array([float(p) for p in parts])
+                    if axis.shape != (3,) or not np.linalg.norm(axis) > 0:
+                        raise ValueError
+                    axis = axis / np.linalg.norm(axis)
+                except ValueError:
+                    collector.add("equipment", number, "axis", f'"{row["axis"]}" is not a direction '
+                                  "x, y, z (blank: the worst orientation)")
+        else:
+            collector.add("equipment", number, "safe_distance", "give safe_distance (from the "
+                          "label) or moment_am2")
+        present = None
+        if row.get("states") is not None:
+            present = []
+            for part in str(row["states"]).split(";"):
+                matches = [s for s in states if key(s) == key(part)]
+                if not matches:
+                    collector.add("equipment", number, "states", f'"{part.strip()}" is not a state'
+                                  f"{_suggest(part, states)}")
+                else:
+                    present.append(matches[0])
+            present = tuple(present)
+        if len(collector.findings) == bad:
+            items.append(Equipment(str(name), position, safe, safe_for, moment, axis, present,
+                                   str(row.get("note") or ""), number))
+    return items
+
+
+def _check_sensors_outside_conductors(plan, collector):
+    from .field import point_segment_distance
+
+    conductors = route_runs([r.geometry for r in plan.runs])
+    if not len(conductors) or not plan.sensors:
+        return
+    positions = np.array([s.position_m for s in plan.sensors])
+    distance = point_segment_distance(conductors.start_m, conductors.end_m, positions)
+    inside = distance <= conductors.radius_m[None, :]
+    for i, sensor in enumerate(plan.sensors):
+        if not inside[i].any():
+            continue
+        s = int(np.argmax(inside[i]))
+        run = plan.runs[conductors.run_index[s]]
+        collector.add("sensors", sensor.row, "at", f'sensor "{sensor.name}" lies inside run '
+                      f'"{run.name}" ({distance[i, s] * 1000:.1f} mm from a conductor\'s axis, '
+                      f"radius {conductors.radius_m[s] * 1000:.1f} mm); move the sensor or the run")
+
+
+def read_plan(path) -> Plan:
+    """Read and validate a plan; raises :class:`PlanError` with every finding."""
+    path = Path(path)
+    collector = _Collector(str(path))
+    if not path.exists():
+        raise PlanError([Finding(str(path), None, None, None, "no such file or folder")])
+    if path.is_dir():
+        sheets = _read_csv_folder(path, collector)
+    elif path.suffix.lower() in (".xlsx", ".xlsm"):
+        sheets = _read_xlsx(path, collector)
+    else:
+        raise PlanError([Finding(str(path), None, None, None, "a plan is an .xlsx workbook or a "
+                                 "folder of .csv sheets (site.csv, runs.csv, ...)")])
+    if collector.findings and not sheets:
+        raise PlanError(collector.findings)
+    for name in REQUIRED_SHEETS:
+        if name not in sheets:
+            collector.add(name, None, None, "the sheet is missing")
+    site = _read_site(sheets.get("site"), collector)
+    points = _read_points(sheets.get("points"), site.units, collector)
+    circuit_currents, states, circuit_names = _read_states(sheets.get("states"), collector)
+    runs, run_currents = _read_runs(sheets.get("runs"), site, points, circuit_currents, len(states),
+                                    circuit_names, collector)
+    sensors = _read_sensors(sheets.get("sensors"), site, points, states, collector)
+    equipment = _read_equipment(sheets.get("equipment"), site, points, states, collector)
+    if "sensors" in sheets and not sensors and not collector.findings:
+        collector.add("sensors", None, None, "the plan has no sensors to check")
+    plan = Plan(str(path), site, dict(points), runs, states, run_currents, sensors, equipment)
+    if not collector.findings:
+        _check_sensors_outside_conductors(plan, collector)
+    if collector.findings:
+        raise PlanError(collector.findings)
+    return plan

@@ -1,0 +1,42 @@
+"""Shared helpers: small plans written as folders of CSV sheets."""
+
+import csv
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[1]
+SAMPLES = ROOT / "sample_installs"
+
+
+def write_plan(folder, sheets):
+    """Write {sheet name: rows} as CSV files in ``folder``; returns the folder."""
+    folder = Path(folder)
+    folder.mkdir(parents=True, exist_ok=True)
+    for name, rows in sheets.items():
+        with open(folder / f"{name}.csv", "w", newline="", encoding="utf-8") as f:
+            csv.writer(f, lineterminator="\n").writerows(rows)
+    return folder
+
+
+def straight_wire_plan(h_ut=20.0, current=10.0, depth_m=0.5, budget=1.0, extra_runs=(),
+                       kind="none", reference=None, states=None):
+    """A compass above a 100 m straight run laid forward, the site field given in the plan."""
+    runs = [["run", "circuits", "route", "return", "size", "spacing", "lay", "return_route"],
+            ["long feed", "feed", f"-50, 0, {-depth_m} > 50, 0, {-depth_m}", kind, "", "", "", ""]]
+    runs += [list(r) for r in extra_runs]
+    states = states or [["circuit", "on"], ["feed", current]]
+    return {
+        "site": [["setting", "value"], ["horizontal_field_ut", h_ut], ["vertical_field_ut", 40]],
+        "runs": runs,
+        "states": states,
+        "sensors": [["sensor", "at", "kind", "budget_deg", "reference_state", "max_heel_deg"],
+                    ["compass", "0, 0, 0", "magnetic compass", budget, reference or "", ""]],
+    }
+
+
+@pytest.fixture
+def plan_dir(tmp_path):
+    def make(sheets, name="plan"):
+        return write_plan(tmp_path / name, sheets)
+    return make
