@@ -154,98 +154,194 @@ def run_fields_at(conductors, n_runs, points_m):
     return unit, nearest
 
 
-def equipment_at(plan, position, state, horizontal_t):
-    """Contributions of the items present in a state at a position."""
+def asin_deg(ratio):
+    """arcsin in degrees of |b|/H, elementwise; 180 where |b| >= H (the sensor is overwhelmed)."""
+    ratio = np.asarray(ratio, dtype=float)
+    return np.where(ratio < 1.0, np.degrees(np.arcsin(np.clip(ratio, 0.0, 1.0))), 180.0)
+
+
+def _asin_deg(ratio):
+    return float(asin_deg(ratio))
+
+
+def item_effect(item, points_m, horizontal_t):
+    """One magnetised item at many points.
+
+    Returns
+    -------
+    field : (P, 3) array [T] or None
+        The vector field where the orientation is known, else None.
+    bound : (P,) array [T]
+        Largest horizontal field it may cause where the orientation is unknown, else zeros.
+    distance : (P,) array [m]
+    """
+    points = np.asarray(points_m, dtype=float).reshape(-1, 3)
+    distance = np.linalg.norm(points - item.position_m, axis=1)
+    apart = np.maximum(distance, 1e-9)
+    if item.safe_distance_m is not None:
+        at_label = safe_distance_disturbance_t(item.safe_distance_for, horizontal_t)
+        return None, at_label * (item.safe_distance_m / apart) ** 3, distance
+    if item.axis is not None:
+        field = dipole_field([item.moment_am2 * item.axis], [item.position_m], points)
+        return field, np.zeros(len(points)), distance
+    return None, dipole_field_bound(item.moment_am2, apart), distance
+
+
+def equipment_arrays(plan, sensor, points_m, horizontal_t):
+    """Equipment at many points in every state: oriented fields (P, K, 3), bounds (P, K), and the
+    bounds of items whose presence differs from the sensor's reference state (P, K)."""
+    points = np.asarray(points_m, dtype=float).reshape(-1, 3)
+    n_states = len(plan.state_names)
+    oriented = np.zeros((len(points), n_states, 3))
+    bound = np.zeros((len(points), n_states))
+    changing = np.zeros((len(points), n_states))
+    reference = sensor.reference_state
+    for item in plan.equipment:
+        field, size, _ = item_effect(item, points, horizontal_t)
+        present = np.array([item.present_in(s) for s in plan.state_names], dtype=float)
+        if field is not None:
+            oriented += field[:, None, :] * present[None, :, None]
+        bound += size[:, None] * present[None, :]
+        if reference:
+            differs = present != float(item.present_in(reference))
+            changing += size[:, None] * differs[None, :]
+    return oriented, bound, changing
+
+
+@dataclass
+class Figures:
+    """Budget figures of one sensor at P positions in K states; arrays (P, K) [deg]."""
+
+    vector_deviation_deg: np.ndarray
+    max_deviation_deg: np.ndarray
+    heeled_max_deviation_deg: np.ndarray
+    change_from_reference_deg: np.ndarray | None
+    budget_used_deg: np.ndarray
+    overwhelmed: np.ndarray
+    within_budget: np.ndarray
+
+
+def budget_figures(plan, sensor, site, totals_t, bound_t, changing_t, *, exact=True):
+    """The figures held against a sensor's budget, vectorised over positions and states.
+
+    Parameters
+    ----------
+    totals_t : (P, K, 3) array [T]
+        Vector sum of runs and oriented items, vessel frame.
+    bound_t, changing_t : (P, K) arrays [T]
+        Equipment bounds of unknown direction, all of them and those whose presence differs
+        from the reference state (the others are adjusted out with it).
+    exact : bool
+        With a reference state, True computes the largest change over headings exactly (to
+        1e-8 deg); False uses the first-order figure asin(|delta b_h|/H), a fast screen for
+        searches (exact in the limit of small disturbances).
+
+    Notes
+    -----
+    Without a reference state the figure is the absolute deviation asin((|b_h| + bounds)/H) at the
+    worst heel in ±max_heel (exact, see :func:`deviation.heading.worst_heel_deg`); with one it is
+    the largest change of deviation from the reference state over headings and heel, plus the
+    changing bounds as degrees.
+    """
+    h = site.horizontal_t
+    level = heading.horizontal_disturbance(totals_t)
+    if sensor.max_heel_deg:
+        heeled = heading.horizontal_disturbance(
+            totals_t, heading.worst_heel_deg(totals_t, sensor.max_heel_deg))
+    else:
+        heeled = level
+    vector = asin_deg(level / h)
+    absolute = asin_deg((level + bound_t) / h)
+    heeled_absolute = asin_deg((heeled + bound_t) / h)
+    change = None
+    if sensor.reference_state:
+        ref_k = plan.state_names.index(sensor.reference_state)
+        reference = np.broadcast_to(totals_t[:, ref_k:ref_k + 1, :], totals_t.shape)
+        extra = np.where(changing_t > 0, asin_deg(changing_t / h), 0.0)
+        if exact:
+            level_change = heading.max_change_deg(totals_t, reference, h)
+            heeled_change = (heading.max_heeled_change_deg(totals_t, reference, h,
+                                                           sensor.max_heel_deg)
+                             if sensor.max_heel_deg else level_change)
+        else:
+            delta = totals_t - reference
+            level_change = asin_deg(heading.horizontal_disturbance(delta) / h)
+            heeled_change = (asin_deg(heading.horizontal_disturbance(
+                delta, heading.worst_heel_deg(delta, sensor.max_heel_deg)) / h)
+                if sensor.max_heel_deg else level_change)
+        change = np.minimum(180.0, level_change + extra)
+        used = np.minimum(180.0, heeled_change + extra)
+    else:
+        used = heeled_absolute
+    overwhelmed = (level + bound_t >= h) | (heeled + bound_t >= h)
+    within = (used <= sensor.budget_deg) & ~overwhelmed
+    return Figures(vector, absolute, heeled_absolute, change, used, overwhelmed, within)
+
+
+def equipment_at(plan, sensor, position, state, horizontal_t):
+    """Display rows of the items present in a state at one position."""
     out = []
+    in_reference = sensor.reference_state is not None
     for item in plan.equipment:
         if not item.present_in(state):
             continue
-        distance = float(np.linalg.norm(position - item.position_m))
-        if item.safe_distance_m is not None:
-            at_label = safe_distance_disturbance_t(item.safe_distance_for, horizontal_t)
-            bound = at_label * (item.safe_distance_m / max(distance, 1e-9)) ** 3
-            out.append(EquipmentContribution(item.name, distance, "safe distance", None, bound,
-                                             _asin_deg(bound / horizontal_t),
-                                             distance < item.safe_distance_m,
-                                             item.safe_distance_m))
-        elif item.axis is not None:
-            b = dipole_field([item.moment_am2 * item.axis], [item.position_m], [position])[0]
-            size = float(heading.horizontal_disturbance(b))
-            out.append(EquipmentContribution(item.name, distance, "moment", b, 0.0,
-                                             _asin_deg(size / horizontal_t), False, None))
+        field, bound, distance = item_effect(item, position[None, :], horizontal_t)
+        distance, bound = float(distance[0]), float(bound[0])
+        if field is not None:
+            size = float(heading.horizontal_disturbance(field[0]))
         else:
-            bound = float(dipole_field_bound(item.moment_am2, max(distance, 1e-9)))
-            out.append(EquipmentContribution(item.name, distance, "moment", None, bound,
-                                             _asin_deg(bound / horizontal_t), False, None))
+            size = bound
+        out.append(EquipmentContribution(
+            item.name, distance, "safe distance" if item.safe_distance_m is not None else "moment",
+            None if field is None else field[0], bound, _asin_deg(size / horizontal_t),
+            item.safe_distance_m is not None and distance < item.safe_distance_m,
+            item.safe_distance_m,
+            compensated=in_reference and item.present_in(sensor.reference_state)))
     return out
 
 
 def evaluate_sensor(plan, sensor, site, unit_fields, nearest, position=None):
-    """Budget of one sensor (at its own position, or at ``position``) in every state."""
-    position = sensor.position_m if position is None else position
+    """Budget of one sensor (at its own position, or at ``position``) in every state.
+
+    ``unit_fields`` (R, 3) [T/A] and ``nearest`` (R,) [m] are each run's field at unit current
+    and its nearest distance, at that position.
+    """
+    position = sensor.position_m if position is None else np.asarray(position, dtype=float)
     h = site.horizontal_t
     currents = plan.run_currents_a                                 # (R, K)
     per_run = unit_fields[None, :, :] * currents.T[:, :, None]      # (K, R, 3)
-    items = {state: equipment_at(plan, position, state, h) for state in plan.state_names}
-    oriented = {state: sum((e.field_t for e in items[state] if e.field_t is not None),
-                           np.zeros(3)) for state in plan.state_names}
-    totals = {state: per_run[k].sum(axis=0) + oriented[state]
-              for k, state in enumerate(plan.state_names)}
-    reference = sensor.reference_state
-    ref_k = plan.state_names.index(reference) if reference else None
-    if reference:
-        in_reference = {e.name for e in items[reference]}
-        for state in plan.state_names:
-            for item in items[state]:
-                item.compensated = item.name in in_reference
+    oriented, bound, changing = equipment_arrays(plan, sensor, position[None, :], h)
+    totals = per_run.sum(axis=1)[None] + oriented                   # (1, K, 3)
+    figures = budget_figures(plan, sensor, site, totals, bound, changing)
+    ref_k = plan.state_names.index(sensor.reference_state) if sensor.reference_state else None
     results = []
     for k, state in enumerate(plan.state_names):
-        b = totals[state]
-        bound = sum(e.bound_t for e in items[state])
-        level = float(heading.horizontal_disturbance(b))
-        heel = float(heading.worst_heel_deg(b, sensor.max_heel_deg)) if sensor.max_heel_deg else 0.0
-        heeled = float(heading.horizontal_disturbance(b, heel))
-        absolute = _asin_deg((level + bound) / h)
-        heeled_absolute = _asin_deg((heeled + bound) / h)
         run_sizes = heading.horizontal_disturbance(per_run[k])
-        magnitude_bound = _asin_deg((run_sizes.sum() + bound) / h)
-        change = None
-        run_changes = [None] * len(plan.runs)
-        if ref_k is not None:
-            # Items present in both states are compensated by the adjustment; the others count,
-            # added as a bound in degrees.
-            in_state = {e.name for e in items[state]}
-            in_reference = {e.name for e in items[reference]}
-            changing = (sum(e.bound_t for e in items[state] if e.name not in in_reference)
-                        + sum(e.bound_t for e in items[reference] if e.name not in in_state))
-            extra = _asin_deg(changing / h) if changing else 0.0
-            level_change = float(heading.max_change_deg(b, totals[reference], h))
-            heeled_change = (float(heading.max_heeled_change_deg(b, totals[reference], h,
-                                                                 sensor.max_heel_deg))
-                             if sensor.max_heel_deg else level_change)
-            change = min(180.0, level_change + extra)
-            used = min(180.0, heeled_change + extra)
-            run_changes = [_asin_deg(float(heading.horizontal_disturbance(
-                per_run[k, r] - per_run[ref_k, r])) / h) for r in range(len(plan.runs))]
-        else:
-            used = heeled_absolute
-        overwhelmed = level + bound >= h or heeled + bound >= h
         runs = []
         for r, run in enumerate(plan.runs):
-            own = _asin_deg(float(run_sizes[r]) / h)
-            figure = run_changes[r] if ref_k is not None else own
+            own = _asin_deg(run_sizes[r] / h)
+            change = (None if ref_k is None else _asin_deg(
+                heading.horizontal_disturbance(per_run[k, r] - per_run[ref_k, r]) / h))
+            figure = own if change is None else change
             runs.append(RunContribution(run.name, float(currents[r, k]), per_run[k, r].copy(),
-                                        float(nearest[r]), own, run_changes[r],
+                                        float(nearest[r]), own, change,
                                         figure / sensor.budget_deg, run.geometry.return_kind))
         runs.sort(key=lambda c: (-c.share_of_budget, c.name))
+        b = totals[0, k]
         results.append(StateResult(
-            state=state, field_t=b, vector_deviation_deg=_asin_deg(level / h),
-            max_deviation_deg=absolute, magnitude_bound_deg=magnitude_bound,
-            change_from_reference_deg=change, heeled_max_deviation_deg=heeled_absolute,
-            budget_used_deg=used, within_budget=(used <= sensor.budget_deg and not overwhelmed),
-            overwhelmed=overwhelmed,
+            state=state, field_t=b,
+            vector_deviation_deg=float(figures.vector_deviation_deg[0, k]),
+            max_deviation_deg=float(figures.max_deviation_deg[0, k]),
+            magnitude_bound_deg=_asin_deg((run_sizes.sum() + bound[0, k]) / h),
+            change_from_reference_deg=(None if figures.change_from_reference_deg is None
+                                       else float(figures.change_from_reference_deg[0, k])),
+            heeled_max_deviation_deg=float(figures.heeled_max_deviation_deg[0, k]),
+            budget_used_deg=float(figures.budget_used_deg[0, k]),
+            within_budget=bool(figures.within_budget[0, k]),
+            overwhelmed=bool(figures.overwhelmed[0, k]),
             fraction_of_total=float(np.linalg.norm(b)) / site.total_t,
-            equipment_bound_t=bound, runs=runs, equipment=items[state]))
+            equipment_bound_t=float(bound[0, k]), runs=runs,
+            equipment=equipment_at(plan, sensor, position, state, h)))
     return results
 
 

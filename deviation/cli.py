@@ -43,6 +43,7 @@ def plan_errors(command):
 
     @functools.wraps(command)
     def wrapper(*args, **kwargs):
+        from .files import OutputError
         from .geomag import OutsideModelError
         from .plan import PlanError
 
@@ -50,7 +51,7 @@ def plan_errors(command):
             return command(*args, **kwargs)
         except PlanError as error:
             raise PlanProblem(error.findings) from None
-        except OutsideModelError as error:
+        except (OutsideModelError, OutputError) as error:
             raise CommandProblem(str(error)) from None
 
     return wrapper
@@ -195,6 +196,107 @@ def new(plan, units, force):
         raise CommandProblem(f"{path} exists; choose another name or add --force")
     write_template(path, units)
     click.echo(f"Wrote {path}: fill in the sheets, then run `deviation check {path}`.")
+
+
+def _triple(text, unit, name):
+    from .units import UnitError, parse_length
+
+    parts = text.split(",")
+    try:
+        if len(parts) != 3:
+            raise UnitError("three")
+        return [parse_length(p, unit) for p in parts]
+    except UnitError:
+        raise click.BadParameter(f'"{text}" is not x,y,z (each a length, e.g. 1.2,-0.5,30cm)',
+                                 param_hint=name) from None
+
+
+@main.command()
+@plan_argument
+@click.option("--sensor", "sensor_name", required=True, help="The sensor to find a spot for.")
+@click.option("--region", nargs=2, metavar="X0,Y0,Z0 X1,Y1,Z1",
+              help="Opposite corners of the box to search (plan units unless a unit is given). "
+                   "Without it, the plan's spots sheet is ranked.")
+@click.option("--step", default=None,
+              help="Grid resolution of the answer, e.g. 2cm or 1in (default 2 cm, or 1 in in an "
+                   "imperial plan).")
+@click.option("--top", type=click.IntRange(1, 100), default=10, show_default=True,
+              help="Spots listed.")
+@click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
+              help="Draw a map of the worst case over the region at the best spot's height "
+                   "(FILE.png or FILE.svg).")
+@json_option
+@width_option
+@plan_errors
+def spot(plan, sensor_name, region, step, top, plot_path, as_json, width):
+    """Find the mounting spot where a sensor's budget figure is smallest.
+
+    Searches a box coarse to fine (the figure is the worst over states, heel and reference-state
+    change, as the budget defines it), or ranks the candidates of the plan's spots sheet.
+    """
+    import time
+
+    from .analysis import analyse
+    from .files import check_output
+    from .reader import key
+    from .units import parse_length
+
+    the_plan = load(plan)
+    sensors = {key(s.name): s for s in the_plan.sensors}
+    if key(sensor_name) not in sensors:
+        names = ", ".join(s.name for s in the_plan.sensors)
+        raise CommandProblem(f'no sensor "{sensor_name}" in the plan; it has: {names}')
+    sensor = sensors[key(sensor_name)]
+    if plot_path:
+        check_output(plot_path, plan)
+    unit = the_plan.site.units
+    analysis = analyse(the_plan)
+    started = time.perf_counter()
+    if region:
+        from .render.terminal import progress_bar
+        from .spot import search_box
+
+        low = _triple(region[0], unit, "--region")
+        high = _triple(region[1], unit, "--region")
+        default = "1 in" if the_plan.imperial else "2 cm"
+        try:
+            step_m = parse_length(step or default, unit)
+        except ValueError as error:
+            raise click.BadParameter(str(error), param_hint="--step") from None
+        if step_m <= 0:
+            raise click.BadParameter("the step must be more than zero", param_hint="--step")
+        with progress_bar(enabled=not as_json) as progress:
+            result = search_box(the_plan, analysis, sensor, low, high, step_m, progress=progress,
+                                top=top)
+    else:
+        from .spot import rank_positions
+
+        if not the_plan.spots:
+            raise CommandProblem("give --region X0,Y0,Z0 X1,Y1,Z1, or add a spots sheet of "
+                                 "candidate positions to the plan")
+        names = [name for name, _ in the_plan.spots]
+        result = rank_positions(the_plan, analysis, sensor, [p for _, p in the_plan.spots], names)
+        result.spots = result.spots[:top]
+    seconds = time.perf_counter() - started
+    if plot_path:
+        if not region:
+            raise CommandProblem("--plot needs --region (a map of a box)")
+        from .render.plots import spot_map
+        from .spot import slice_map
+
+        z = result.spots[0].position_m[2] if result.spots else sensor.position_m[2]
+        x, y, figure = slice_map(the_plan, analysis, sensor, result.region[0], result.region[1], z)
+        spot_map(the_plan, analysis, result, x, y, figure, plot_path)
+    if as_json:
+        from .render.json_out import spots_json
+
+        click.echo(json.dumps(spots_json(result), indent=2, ensure_ascii=False))
+        return
+    from .render.terminal import render_spots
+
+    render_spots(result, the_plan, console_for(width), seconds)
+    if plot_path:
+        click.echo(f"Map written to {plot_path}")
 
 
 if __name__ == "__main__":  # pragma: no cover

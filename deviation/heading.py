@@ -197,9 +197,10 @@ def max_change_deg(b_state, b_reference, horizontal, heel_deg=0.0, *, samples=72
 
     Notes
     -----
-    The change is a smooth periodic function of heading with at most a few extrema; it is sampled
-    every 360/samples degrees, then the best sample's bracket is refined by golden-section search
-    (to 1e-8 degree of heading with the defaults).
+    The change is a smooth periodic function of heading with a few extrema; it is sampled every
+    360/samples degrees (every 0.5 degree when a disturbance exceeds 0.8 H, where the peaks
+    narrow), then the brackets of the three best local maxima are refined by golden-section
+    search (to 1e-8 degree of heading with the defaults).
     """
     b_s = np.asarray(b_state, dtype=float)
     b_r = np.asarray(b_reference, dtype=float)
@@ -209,17 +210,24 @@ def max_change_deg(b_state, b_reference, horizontal, heel_deg=0.0, *, samples=72
     b_r = np.broadcast_to(b_r, shape + (3,))
     heel = np.broadcast_to(heel, shape)
     heel_deg = heel[..., None]                          # against the headings axis
+    ratio = max(float(np.max(horizontal_disturbance(b_s, heel), initial=0.0)),
+                float(np.max(horizontal_disturbance(b_r, heel), initial=0.0))) / horizontal
+    if ratio > 0.8:                         # peaks narrow as |b_h| nears H: sample finer
+        samples = max(samples, 720)
     step = 2 * np.pi / samples
     grid = np.arange(samples) * step
     sampled = np.abs(_wrapped_change(b_s, b_r, horizontal, grid, heel_deg))
-    centre = grid[np.argmax(sampled, axis=-1)]
+    # Refine the three best local maxima of the samples: the change has a positive and a
+    # negative lobe of similar height, and the best sample may sit on the lower one.
+    peak = (sampled >= np.roll(sampled, 1, axis=-1)) & (sampled >= np.roll(sampled, -1, axis=-1))
+    ranked = np.argsort(np.where(peak, -sampled, np.inf), axis=-1)[..., :3]
+    centre = grid[ranked]                                       # (..., 3)
     low, high = centre - step, centre + step
     x1 = high - _GOLDEN * (high - low)
     x2 = low + _GOLDEN * (high - low)
 
     def value(heading_rad):
-        heading_rad = np.asarray(heading_rad)[..., None]
-        return np.abs(_wrapped_change(b_s, b_r, horizontal, heading_rad, heel_deg))[..., 0]
+        return np.abs(_wrapped_change(b_s, b_r, horizontal, heading_rad, heel_deg))
 
     f1, f2 = value(x1), value(x2)
     for _ in range(iterations):
@@ -230,7 +238,7 @@ def max_change_deg(b_state, b_reference, horizontal, heel_deg=0.0, *, samples=72
             np.where(right, low + _GOLDEN * (high - low), x1)
         new = value(np.where(right, x2, x1))
         f1, f2 = np.where(right, f2, new), np.where(right, new, f1)
-    best = np.maximum(np.maximum(f1, f2), sampled.max(axis=-1))
+    best = np.maximum(np.maximum(f1, f2).max(axis=-1), sampled.max(axis=-1))
     overwhelmed = is_overwhelmed(b_s, horizontal, heel) | is_overwhelmed(b_r, horizontal, heel)
     return np.where(overwhelmed, 180.0, best)
 

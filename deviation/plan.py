@@ -101,6 +101,7 @@ class Plan:
     run_currents_a: np.ndarray        # (R, K) amperes of each run in each state
     sensors: list
     equipment: list = field(default_factory=list)
+    spots: list = field(default_factory=list)   # (name, (3,) position) candidates to rank
 
     @property
     def imperial(self):

@@ -25,7 +25,7 @@ from .plan import (DEFAULT_STATE, SAFE_DISTANCE_FOR, SENSOR_KINDS, Equipment, Fi
                    PlanError, Run, Sensor, Site)
 from .routing import RETURN_KINDS, RunGeometry, route_runs
 
-SHEETS = ("site", "points", "runs", "states", "sensors", "equipment")
+SHEETS = ("site", "points", "runs", "states", "sensors", "equipment", "spots")
 REQUIRED_SHEETS = ("runs", "sensors")
 #: Rows per sheet beyond which a plan is refused (a wiring plan has hundreds, not millions).
 MAX_ROWS = 20_000
@@ -42,6 +42,7 @@ COLUMNS = {
     "sensors": {"required": ("sensor", "at", "kind", "budget_deg"),
                 "known": ("sensor", "at", "kind", "budget_deg", "reference_state", "max_heel_deg",
                           "note")},
+    "spots": {"required": ("spot", "at"), "known": ("spot", "at", "note")},
     "equipment": {"required": ("item", "at"),
                   "known": ("item", "at", "safe_distance", "safe_distance_for", "moment_am2",
                             "axis", "states", "note")},
@@ -621,6 +622,20 @@ def _read_equipment(sheet, site, points, states, collector):
     return items
 
 
+def _read_spots(sheet, site, points, collector):
+    spots = []
+    if sheet is None or not _check_columns(sheet, collector):
+        return spots
+    for number, row in sheet.rows:
+        if row.get("at") is None:
+            collector.add("spots", number, "at", "where is it? give a point name or x, y, z")
+            continue
+        position = _position(row["at"], points, site.units, collector, "spots", number, "at")
+        if position is not None:
+            spots.append((str(row.get("spot") or f"row {number}"), position))
+    return spots
+
+
 def _check_sensors_outside_conductors(plan, collector):
     from .field import point_segment_distance
 
@@ -667,7 +682,8 @@ def read_plan(path) -> Plan:
     equipment = _read_equipment(sheets.get("equipment"), site, points, states, collector)
     if "sensors" in sheets and not sensors and not collector.findings:
         collector.add("sensors", None, None, "the plan has no sensors to check")
-    plan = Plan(str(path), site, dict(points), runs, states, run_currents, sensors, equipment)
+    spots = _read_spots(sheets.get("spots"), site, points, collector)
+    plan = Plan(str(path), site, dict(points), runs, states, run_currents, sensors, equipment, spots)
     if not collector.findings:
         _check_sensors_outside_conductors(plan, collector)
     if collector.findings:

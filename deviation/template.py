@@ -2,10 +2,7 @@
 
 from __future__ import annotations
 
-import os
-import tempfile
-from pathlib import Path
-
+from .files import write_atomically
 from .plan import SAFE_DISTANCE_FOR, SENSOR_KINDS
 from .routing import RETURN_KINDS
 from .units import LENGTH_UNITS
@@ -67,6 +64,11 @@ SHEET_COLUMNS = {
         ("states", "States it is present or powered in, separated by ; (blank: all)."),
         ("note", "Free text."),
     ],
+    "spots": [
+        ("spot", "Name of a candidate mounting position for `deviation spot` to rank."),
+        ("at", "Point name or x, y, z."),
+        ("note", "Free text."),
+    ],
 }
 
 EXAMPLE_ROWS = {
@@ -84,6 +86,7 @@ EXAMPLE_ROWS = {
     "states": [["instruments", 1.5, 3.0, "example circuit"]],
     "sensors": [["steering compass", "helm", "magnetic compass", 1.0, "harbour", 20, "example"]],
     "equipment": [["speaker", "1.2, 0.4, 1.4", "0.8 m", "standard", None, None, None, "example"]],
+    "spots": [["bulkhead", "1.5, 0.3, 1.8", "example candidate"]],
 }
 
 CHOICES = {
@@ -134,18 +137,3 @@ def write_template(path, units="m"):
             rule.add("B2")
             sheet.add_data_validation(rule)
     write_atomically(path, book.save)
-
-
-def write_atomically(path, save):
-    """Call ``save(temporary_path)`` then rename onto ``path``; on failure nothing is left."""
-    path = Path(path)
-    handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part",
-                                         dir=path.parent if str(path.parent) else ".")
-    os.close(handle)
-    try:
-        save(temporary)
-        os.replace(temporary, path)
-    except BaseException:
-        if os.path.exists(temporary):
-            os.unlink(temporary)
-        raise

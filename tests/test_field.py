@@ -260,3 +260,9 @@ def test_reversed_current_flips_the_field(a, b, p, current):
                                atol=0)
     np.testing.assert_allclose(segment_field([b], [a], [current], [p]), -forward, rtol=1e-12,
                                atol=1e-20)
+
+
+def test_tiny_segment_pointing_at_observer_is_not_inside():
+    # Regression (found by hypothesis): a segment shorter than rounding, on the observer's line.
+    b = segment_field([[0, 0, 0]], [[0, 0, 5.9e-161]], [1.0], [[0, 0, 1.0]])
+    assert np.all(b == 0)

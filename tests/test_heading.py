@@ -109,3 +109,11 @@ def test_change_never_below_dense_sampling(values):
 
 def test_fraction_of_total_field():
     assert hd.fraction_of_total_field(np.array([3.0, 4.0, 0.0]), 50.0) == pytest.approx(0.1)
+
+
+def test_change_finds_the_higher_of_two_lobes():
+    # Regression (found by hypothesis): the best 5-degree sample sat on the lower lobe.
+    b_state, b_reference = np.array([7.0, 0.125, 0.0]), np.array([0.25, 0.0, 0.0])
+    dense = np.abs(hd.deviation_deg(b_state, 20.0, HEADINGS)
+                   - hd.deviation_deg(b_reference, 20.0, HEADINGS)).max()
+    assert hd.max_change_deg(b_state, b_reference, 20.0) == pytest.approx(dense, abs=1e-6)

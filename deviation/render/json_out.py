@@ -83,3 +83,20 @@ def analysis_json(analysis, findings=()):
         "findings": [f.as_json() for f in findings],
         "cautions": list(CAUTIONS),
     }
+
+
+def spot_json(spot):
+    return {"position_m": [round(float(v), 6) for v in spot.position_m],
+            "budget_used_deg": _deg(spot.budget_used_deg), "worst_state": spot.worst_state,
+            "within_budget": spot.within_budget, "name": spot.name,
+            "dominant_runs": [{"run": name, "share": round(share, 4)}
+                              for name, share in spot.dominant_runs]}
+
+
+def spots_json(search):
+    """The result of ``spot --json``: best first."""
+    return {"sensor": search.sensor.name,
+            "spots": [spot_json(s) for s in search.spots],
+            "current": spot_json(search.current) if search.current else None,
+            "evaluated": search.evaluated, "grid_points": search.grid_points,
+            "step_m": search.step_m}

@@ -175,3 +175,63 @@ def _render_state(st, sensor, analysis, console, unit, all_runs, hints):
     if hints:
         for hint in st.hints:
             console.print(f"  → {hint.text()}")
+
+
+class progress_bar:
+    """A context giving the spot search a progress callback; draws only on a terminal."""
+
+    def __init__(self, enabled=True, minimum=200_000):
+        self.enabled = enabled
+        self.minimum = minimum
+        self.progress = None
+
+    def __enter__(self):
+        def start(total):
+            console = Console(stderr=True)
+            if not (self.enabled and console.is_terminal and total >= self.minimum):
+                return None
+            from rich.progress import Progress
+
+            self.progress = Progress(console=console, transient=True)
+            self.progress.start()
+            task = self.progress.add_task("searching", total=total)
+            return lambda n: self.progress.advance(task, n)
+
+        return start
+
+    def __exit__(self, *exc):
+        if self.progress is not None:
+            self.progress.stop()
+        return False
+
+
+def render_spots(search, plan, console, seconds):
+    unit = plan.site.units
+    sensor = search.sensor
+    table = Table(title=f"Best spots for {sensor.name} (budget {sensor.budget_deg:g}°)",
+                  box=_box(console), title_justify="left")
+    table.add_column("#", justify="right")
+    if any(s.name for s in search.spots):
+        table.add_column("spot")
+    for axis in "xyz":
+        table.add_column(axis, justify="right", no_wrap=True)
+    table.add_column("figure °", justify="right")
+    table.add_column("worst state")
+    table.add_column("dominated by", overflow="fold")
+    for rank, s in enumerate(search.spots, start=1):
+        named = [s.name or ""] if any(x.name for x in search.spots) else []
+        runs = ", ".join(f"{name} {share * 100:.0f} %" for name, share in s.dominant_runs)
+        table.add_row(str(rank), *named, *(format_length(v, unit) for v in s.position_m),
+                      Text(degrees(s.budget_used_deg), style=_style(s.within_budget)),
+                      s.worst_state, runs or "—")
+    console.print(table)
+    if search.current is not None:
+        now = search.current
+        console.print(f"Where it is now ({_where(now.position_m, unit)}): "
+                      f"{degrees(now.budget_used_deg)}° in {now.worst_state}")
+    if search.step_m:
+        console.print(f"Searched {search.evaluated:,} positions for a {search.grid_points:,}-point "
+                      f"grid at {format_length(search.step_m, unit)} steps in {seconds:.1f} s.")
+    console.print("The figure is the one held against the budget: the worst state, heel and "
+                  "change from the reference state. Check the spot for vibration, heat, access "
+                  "and equipment not in the plan before mounting.")
