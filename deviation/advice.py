@@ -11,7 +11,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from .analysis import evaluate_sensor, run_fields_at
+from .analysis import budget_figures, equipment_arrays, run_fields_at
 from .constants import ISO25862_BIPOLAR_RADIUS_M, MAGNETOMETER_MAX_FRACTION
 from .routing import route_runs
 from .units import conductor_size, format_length
@@ -29,6 +29,8 @@ ASSUMED_SPACING_M = 0.0043
 #: Largest detour tried when solving for a clearance [m].
 MAX_DETOUR_M = 10.0
 HINTS_PER_STATE = 4
+#: Runs given remedies per state: the largest culprits first.
+CULPRITS_PER_STATE = 5
 
 
 @dataclass(frozen=True)
@@ -113,27 +115,27 @@ def rule_findings(analysis):
 # Hints --------------------------------------------------------------------------------------------
 
 class _Evaluator:
-    """Re-evaluates one sensor's budget with one run's geometry replaced."""
+    """Re-evaluates one sensor's budget figures with one run's geometry replaced."""
 
     def __init__(self, analysis, index):
         self.plan = analysis.plan
         self.site = analysis.site
         self.sensor = analysis.sensors[index].sensor
-        self.unit, self.nearest = run_fields_at(analysis.conductors, len(self.plan.runs),
-                                                self.sensor.position_m[None, :])
-        self.unit, self.nearest = self.unit[0], self.nearest[0]
+        position = self.sensor.position_m[None, :]
+        unit, _ = run_fields_at(analysis.conductors, len(self.plan.runs), position)
+        self.unit = unit[0]                                            # (R, 3) [T/A]
+        self.currents = self.plan.run_currents_a                       # (R, K)
+        oriented, self.bound, self.changing = equipment_arrays(self.plan, self.sensor, position,
+                                                               self.site.horizontal_t)
+        self.totals = (self.unit.T @ self.currents).T[None] + oriented  # (1, K, 3)
 
     def with_run(self, r, geometry):
-        conductors = route_runs([geometry])
-        unit, nearest = run_fields_at(conductors, 1, self.sensor.position_m[None, :])
-        fields, distances = self.unit.copy(), self.nearest.copy()
-        fields[r], distances[r] = unit[0, 0], nearest[0, 0]
-        return evaluate_sensor(self.plan, self.sensor, self.site, fields, distances), \
-            float(nearest[0, 0])
-
-
-def _figure(states, name):
-    return next(s for s in states if s.state == name)
+        """Figures (arrays (1, K)) with run ``r`` routed as ``geometry``, and its nearest distance."""
+        unit, nearest = run_fields_at(route_runs([geometry]), 1, self.sensor.position_m[None, :])
+        swap = np.outer(self.currents[r], unit[0, 0] - self.unit[r])   # (K, 3)
+        figures = budget_figures(self.plan, self.sensor, self.site, self.totals + swap[None],
+                                 self.bound, self.changing)
+        return figures, float(nearest[0, 0])
 
 
 def _pair_spacing(run):
@@ -174,8 +176,8 @@ def detour(route, sensor, offset_m):
     return out
 
 
-def _solve_clearance(evaluator, r, run, state, budget):
-    """Smallest detour (bisection) that brings the sensor within budget in a state, if any."""
+def _solve_clearance(evaluator, r, run, k, budget):
+    """Smallest detour (bisection) that brings the sensor within budget in state k, if any."""
     route = run.geometry.route_m
     sensor = evaluator.sensor.position_m
 
@@ -188,8 +190,8 @@ def _solve_clearance(evaluator, r, run, state, budget):
             shifted = detour(back, sensor, offset)
             back = shifted if shifted is not None else back
         geometry = replace(run.geometry, route_m=new_route, return_route_m=back)
-        states, nearest = evaluator.with_run(r, geometry)
-        return _figure(states, state).budget_used_deg, nearest
+        figures, nearest = evaluator.with_run(r, geometry)
+        return float(figures.budget_used_deg[0, k]), nearest
 
     far = attempt(MAX_DETOUR_M)
     if far is None or far[0] > budget:
@@ -214,10 +216,10 @@ def hints_for(analysis, index):
     plan = analysis.plan
     evaluator = _Evaluator(analysis, index)
     by_name = {r.name: i for i, r in enumerate(plan.runs)}
-    for st in result.states:
+    for k, st in enumerate(result.states):
         over = not st.within_budget
         candidates = [c for c in st.runs if c.share_of_budget >= HINT_SHARE
-                      or (over and c.share_of_budget >= HINT_SHARE_OVER)]
+                      or (over and c.share_of_budget >= HINT_SHARE_OVER)][:CULPRITS_PER_STATE]
         hints = []
         for contribution in candidates:
             r = by_name[contribution.name]
@@ -239,12 +241,12 @@ def hints_for(analysis, index):
                                          spacing_m=spacing_twist, lay_m=ASSUMED_LAY_M,
                                          return_route_m=None)))
             for action, geometry in remedies:
-                states, _ = evaluator.with_run(r, geometry)
-                after = _figure(states, st.state)
+                figures, _ = evaluator.with_run(r, geometry)
                 hints.append(Hint(sensor.name, st.state, run.name, action, st.budget_used_deg,
-                                  after.budget_used_deg, after.within_budget))
+                                  float(figures.budget_used_deg[0, k]),
+                                  bool(figures.within_budget[0, k])))
             if over:
-                solved = _solve_clearance(evaluator, r, run, st.state, sensor.budget_deg)
+                solved = _solve_clearance(evaluator, r, run, k, sensor.budget_deg)
                 if solved is not None:
                     figure, nearest = solved
                     clearance = format_length(nearest, plan.site.units)

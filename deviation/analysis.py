@@ -314,18 +314,20 @@ def evaluate_sensor(plan, sensor, site, unit_fields, nearest, position=None):
     totals = per_run.sum(axis=1)[None] + oriented                   # (1, K, 3)
     figures = budget_figures(plan, sensor, site, totals, bound, changing)
     ref_k = plan.state_names.index(sensor.reference_state) if sensor.reference_state else None
+    own = asin_deg(heading.horizontal_disturbance(per_run) / h)              # (K, R)
+    change = (None if ref_k is None else
+              asin_deg(heading.horizontal_disturbance(per_run - per_run[ref_k][None]) / h))
+    counted = own if change is None else change
+    run_sizes_all = heading.horizontal_disturbance(per_run)
     results = []
     for k, state in enumerate(plan.state_names):
-        run_sizes = heading.horizontal_disturbance(per_run[k])
-        runs = []
-        for r, run in enumerate(plan.runs):
-            own = _asin_deg(run_sizes[r] / h)
-            change = (None if ref_k is None else _asin_deg(
-                heading.horizontal_disturbance(per_run[k, r] - per_run[ref_k, r]) / h))
-            figure = own if change is None else change
-            runs.append(RunContribution(run.name, float(currents[r, k]), per_run[k, r].copy(),
-                                        float(nearest[r]), own, change,
-                                        figure / sensor.budget_deg, run.geometry.return_kind))
+        run_sizes = run_sizes_all[k]
+        runs = [RunContribution(run.name, float(currents[r, k]), per_run[k, r].copy(),
+                                float(nearest[r]), float(own[k, r]),
+                                None if change is None else float(change[k, r]),
+                                float(counted[k, r]) / sensor.budget_deg,
+                                run.geometry.return_kind)
+                for r, run in enumerate(plan.runs)]
         runs.sort(key=lambda c: (-c.share_of_budget, c.name))
         b = totals[0, k]
         results.append(StateResult(
@@ -348,7 +350,8 @@ def evaluate_sensor(plan, sensor, site, unit_fields, nearest, position=None):
 def analyse(plan: Plan) -> Analysis:
     """Compute the deviation budget of every sensor in every state."""
     site = site_field(plan.site)
-    conductors = route_runs([r.geometry for r in plan.runs])
+    conductors = (plan.conductors if plan.conductors is not None
+                  else route_runs([r.geometry for r in plan.runs]))
     positions = np.array([s.position_m for s in plan.sensors]).reshape(-1, 3)
     unit, nearest = run_fields_at(conductors, len(plan.runs), positions)
     sensors = []

@@ -167,16 +167,24 @@ def _block_geometry(start, end, radius2, length2, points):
     return cx * factor, cy * factor, cz * factor, hit
 
 
+def _tiles(n_points, n_segments):
+    """(points slice, segments slice) tiles of at most about _NUMPY_BLOCK_PAIRS pairs."""
+    seg_block = max(1, min(n_segments, _NUMPY_BLOCK_PAIRS))
+    point_block = max(1, _NUMPY_BLOCK_PAIRS // seg_block)
+    for p0 in range(0, n_points, point_block):
+        for s0 in range(0, n_segments, seg_block):
+            yield slice(p0, p0 + point_block), slice(s0, s0 + seg_block)
+
+
 def _numpy_segment_field(start, end, current, radius2, length2, points, field, inside):
-    """Blocked NumPy evaluation; accumulates the unscaled field (without mu0/4pi) into ``field``."""
-    block = max(1, _NUMPY_BLOCK_PAIRS // len(start))
-    for p0 in range(0, len(points), block):
-        gx, gy, gz, hit = _block_geometry(start, end, radius2, length2, points[p0:p0 + block])
-        inside[p0:p0 + block] |= hit.any(axis=1)
-        out = field[p0:p0 + block]
-        out[:, :, 0] += gx @ current                                  # geometry x currents
-        out[:, :, 1] += gy @ current
-        out[:, :, 2] += gz @ current
+    """Tiled NumPy evaluation; accumulates the unscaled field (without mu0/4pi) into ``field``."""
+    for p, s in _tiles(len(points), len(start)):
+        gx, gy, gz, hit = _block_geometry(start[s], end[s], radius2[s], length2[s], points[p])
+        inside[p] |= hit.any(axis=1)
+        out = field[p]
+        out[:, :, 0] += gx @ current[s]                               # geometry x currents
+        out[:, :, 1] += gy @ current[s]
+        out[:, :, 2] += gz @ current[s]
 
 
 def segment_field_by_group(start_m, end_m, weight, group, n_groups, points_m, *, radius_m=0.0):
@@ -214,14 +222,14 @@ def segment_field_by_group(start_m, end_m, weight, group, n_groups, points_m, *,
     inside = np.zeros((len(points), n_groups), dtype=bool)
     if not len(start):
         return field, inside
-    firsts = np.flatnonzero(np.r_[True, np.diff(group) != 0])
-    present = group[firsts]
-    block = max(1, _NUMPY_BLOCK_PAIRS // len(start))
-    for p0 in range(0, len(points), block):
-        gx, gy, gz, hit = _block_geometry(start, end, radius2, length2, points[p0:p0 + block])
+    for p, s in _tiles(len(points), len(start)):
+        gx, gy, gz, hit = _block_geometry(start[s], end[s], radius2[s], length2[s], points[p])
+        tile_group = group[s]
+        firsts = np.flatnonzero(np.r_[True, np.diff(tile_group) != 0])
+        present = tile_group[firsts]
         for c, g in enumerate((gx, gy, gz)):
-            field[p0:p0 + block, present, c] = np.add.reduceat(g * weight, firsts, axis=1)
-        inside[p0:p0 + block][:, present] = np.logical_or.reduceat(hit, firsts, axis=1)
+            field[p, present, c] += np.add.reduceat(g * weight[s], firsts, axis=1)
+        inside[p, present] |= np.logical_or.reduceat(hit, firsts, axis=1)
     return field * MU0_OVER_4PI, inside
 
 
@@ -247,14 +255,17 @@ def point_segment_distance(start_m, end_m, points_m):
     start = np.asarray(start_m, dtype=float).reshape(-1, 3)
     end = np.asarray(end_m, dtype=float).reshape(-1, 3)
     points = np.asarray(points_m, dtype=float).reshape(-1, 3)
-    axis = end - start
-    length2 = np.einsum("ij,ij->i", axis, axis)
-    rel = points[:, None, :] - start[None, :, :]
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t = np.where(length2 > 0, np.einsum("psc,sc->ps", rel, axis) / length2, 0.0)
-    t = np.clip(t, 0.0, 1.0)
-    foot = start[None, :, :] + t[..., None] * axis[None, :, :]
-    return np.linalg.norm(points[:, None, :] - foot, axis=-1)
+    distance = np.empty((len(points), len(start)))
+    for p, s in _tiles(len(points), len(start)):
+        axis = end[s] - start[s]
+        length2 = np.einsum("ij,ij->i", axis, axis)
+        rel = points[p, None, :] - start[None, s, :]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t = np.where(length2 > 0, np.einsum("psc,sc->ps", rel, axis) / length2, 0.0)
+        t = np.clip(t, 0.0, 1.0)
+        offset = rel - t[..., None] * axis[None, :, :]
+        distance[p, s] = np.sqrt(np.einsum("psc,psc->ps", offset, offset))
+    return distance
 
 
 def dipole_field(moment_am2, position_m, points_m):

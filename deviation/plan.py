@@ -102,6 +102,7 @@ class Plan:
     sensors: list
     equipment: list = field(default_factory=list)
     spots: list = field(default_factory=list)   # (name, (3,) position) candidates to rank
+    conductors: object = None         # the routed runs (routing.Conductors), made once by the reader
 
     @property
     def imperial(self):

@@ -639,7 +639,7 @@ def _read_spots(sheet, site, points, collector):
 def _check_sensors_outside_conductors(plan, collector):
     from .field import point_segment_distance
 
-    conductors = route_runs([r.geometry for r in plan.runs])
+    conductors = plan.conductors
     if not len(conductors) or not plan.sensors:
         return
     positions = np.array([s.position_m for s in plan.sensors])
@@ -684,6 +684,8 @@ def read_plan(path) -> Plan:
         collector.add("sensors", None, None, "the plan has no sensors to check")
     spots = _read_spots(sheets.get("spots"), site, points, collector)
     plan = Plan(str(path), site, dict(points), runs, states, run_currents, sensors, equipment, spots)
+    if not collector.findings:
+        plan.conductors = route_runs([r.geometry for r in plan.runs])
     if not collector.findings:
         _check_sensors_outside_conductors(plan, collector)
     if collector.findings:
