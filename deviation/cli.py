@@ -198,6 +198,60 @@ def new(plan, units, force):
     click.echo(f"Wrote {path}: fill in the sheets, then run `deviation check {path}`.")
 
 
+@main.command()
+@plan_argument
+@click.option("--sensor", "sensor_name", default=None, help="Only this sensor (default: all).")
+@click.option("--step", "step_deg", type=click.Choice(["5", "10", "15", "30", "45"]), default="15",
+              show_default=True, help="Degrees of magnetic heading between rows.")
+@click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
+              help="Draw the deviation curves of all states (FILE.png or FILE.svg; with several "
+                   "sensors, one file each, named FILE-sensor.png).")
+@json_option
+@width_option
+@plan_errors
+def card(plan, sensor_name, step_deg, plot_path, as_json, width):
+    """The predicted deviation card: deviation at each magnetic heading, and the compass heading
+    to steer, per sensor and operating state."""
+    from .analysis import analyse
+    from .card import cards
+    from .files import check_output
+
+    the_plan = load(plan)
+    analysis = analyse(the_plan)
+    made = cards(analysis, float(step_deg), sensor_name)
+    if not made:
+        names = ", ".join(s.name for s in the_plan.sensors)
+        raise CommandProblem(f'no sensor "{sensor_name}" in the plan; it has: {names}')
+    if plot_path:
+        from pathlib import Path
+
+        from .render.plots import card_curves
+
+        targets = [Path(plot_path)] if len(made) == 1 else [
+            Path(plot_path).with_name(f"{Path(plot_path).stem}-{_slug(c.sensor.name)}"
+                                      f"{Path(plot_path).suffix}") for c in made]
+        for target, one in zip(targets, made):
+            check_output(target, plan)
+            card_curves(one, analysis.site, target)
+    if as_json:
+        from .render.json_out import cards_json
+
+        click.echo(json.dumps(cards_json(made), indent=2, ensure_ascii=False))
+        return
+    from .render.terminal import render_cards
+
+    render_cards(made, analysis, console_for(width))
+    if plot_path:
+        click.echo(f"Curves written to {plot_path}" if len(made) == 1 else
+                   "Curves written: " + ", ".join(str(t) for t in targets))
+
+
+def _slug(name):
+    import re
+
+    return re.sub(r"[^A-Za-z0-9]+", "-", name).strip("-").lower() or "sensor"
+
+
 def _triple(text, unit, name):
     from .units import UnitError, parse_length
 

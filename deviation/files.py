@@ -30,6 +30,10 @@ def write_atomically(path, save):
     os.close(handle)
     try:
         save(temporary)
+        # mkstemp makes a private file; give the output the permissions a new file gets here.
+        mask = os.umask(0)
+        os.umask(mask)
+        os.chmod(temporary, 0o666 & ~mask)
         os.replace(temporary, path)
     except BaseException:
         if os.path.exists(temporary):

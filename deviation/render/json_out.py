@@ -100,3 +100,20 @@ def spots_json(search):
             "current": spot_json(search.current) if search.current else None,
             "evaluated": search.evaluated, "grid_points": search.grid_points,
             "step_m": search.step_m}
+
+
+def cards_json(cards):
+    """The result of ``card --json``."""
+    return {"sensors": [{
+        "sensor": c.sensor.name,
+        "reference_state": c.sensor.reference_state,
+        "states": [{
+            "state": st.state,
+            "headings": [{"heading_deg": float(psi), "deviation_deg": _deg(d),
+                          "compass_deg": _deg(cmp),
+                          "change_from_reference_deg": None if st.change_deg is None
+                          else _deg(st.change_deg[i])}
+                         for i, (psi, d, cmp) in enumerate(zip(st.headings_deg, st.deviation_deg,
+                                                               st.compass_deg))]}
+            for st in c.states]} for c in cards],
+        "cautions": list(CAUTIONS)}

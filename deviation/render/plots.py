@@ -148,3 +148,13 @@ def _save(fig, path):
 
         write_atomically(path, save)
     return data
+
+
+def card_curves(card, site, path=None):
+    """Deviation curves of one sensor's card, drawn every degree, all states."""
+    from ..heading import deviation_deg
+
+    headings = np.linspace(0, 360, 361)
+    curves = {st.state: deviation_deg(st.field_t, site.horizontal_t, headings)
+              for st in card.states}
+    return deviation_curves(card.sensor.name, headings, curves, path)

@@ -235,3 +235,39 @@ def render_spots(search, plan, console, seconds):
     console.print("The figure is the one held against the budget: the worst state, heel and "
                   "change from the reference state. Check the spot for vibration, heat, access "
                   "and equipment not in the plan before mounting.")
+
+
+def _signed(deviation):
+    side = "E" if deviation > 0.005 else "W" if deviation < -0.005 else " "
+    return f"{abs(deviation):.2f}°{side}"
+
+
+def render_cards(cards, analysis, console):
+    console.print(Text("Predicted deviation card", style="bold"))
+    console.print(f"Site  {site_line(analysis.site, analysis.plan.site.units)}")
+    console.print("Level, from the plan's wiring and oriented magnets; east positive. Steer the "
+                  "compass heading to make good the magnetic heading.")
+    for card in cards:
+        sensor = card.sensor
+        console.print()
+        reference = sensor.reference_state
+        note = f"; change from {reference!r} in brackets" if reference else ""
+        table = Table(title=f"{sensor.name} ({sensor.kind}){note}", title_justify="left",
+                      box=_box(console), padding=(0, 1), pad_edge=False)
+        table.add_column("magnetic", justify="right", no_wrap=True)
+        for st in card.states:
+            table.add_column(f"{st.state}\ndeviation", justify="right", no_wrap=True)
+            table.add_column("steer", justify="right", no_wrap=True)
+        for i, psi in enumerate(card.states[0].headings_deg):
+            cells = [f"{psi:03.0f}°"]
+            for st in card.states:
+                text = _signed(st.deviation_deg[i])
+                if st.change_deg is not None and st.state != reference:
+                    text += f" ({st.change_deg[i]:+.2f})"
+                cells += [text, f"{st.compass_deg[i]:05.1f}°"]
+            table.add_row(*cells)
+        console.print(table)
+    console.print()
+    console.print(Text("Cautions", style="bold"))
+    for caution in CAUTIONS:
+        console.print(f"  • {caution}")
