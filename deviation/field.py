@@ -51,7 +51,9 @@ def _as_segments(start_m, end_m, current_a, radius_m):
         raise ValueError(f"start_m {start.shape} and end_m {end.shape} differ in shape")
     current = np.asarray(current_a, dtype=float)
     single_state = current.ndim == 1
-    current = current.reshape(len(start), -1)
+    current = current[:, None] if single_state else current
+    if current.shape[0] != len(start):
+        raise ValueError(f"current_a has {current.shape[0]} rows for {len(start)} segments")
     radius = np.broadcast_to(np.asarray(radius_m, dtype=float), (len(start),))
     # A zero-length segment carries no field; dropping it also keeps the on-axis test well posed.
     length2 = np.einsum("ij,ij->i", end - start, end - start)

@@ -23,14 +23,20 @@ from .constants import WMM_VALID_FROM, WMM_VALID_UNTIL
 from .geomag import decimal_year
 from .plan import (DEFAULT_STATE, SAFE_DISTANCE_FOR, SENSOR_KINDS, Equipment, Finding, Plan,
                    PlanError, Run, Sensor, Site)
-from .routing import RETURN_KINDS, RunGeometry, route_runs
+from .routing import CHORDS_PER_LAY, RETURN_KINDS, RunGeometry, route_runs
 
 SHEETS = ("site", "points", "runs", "states", "sensors", "equipment", "spots")
 REQUIRED_SHEETS = ("runs", "sensors")
 #: Rows per sheet beyond which a plan is refused (a wiring plan has hundreds, not millions).
 MAX_ROWS = 20_000
-#: Largest uncompressed size of a workbook's members, and largest expansion ratio, before reading.
-MAX_UNZIPPED_BYTES = 200 * 1024 * 1024
+#: Straight segments one run, and a whole plan, may need (a 100 m twisted run of 5 mm lay is
+#: 480 000; 10 million segments take about 0.7 GB).
+MAX_SEGMENTS_PER_RUN = 2_000_000
+MAX_SEGMENTS = 10_000_000
+#: Largest uncompressed size of a workbook and of one member, and largest expansion ratio, checked
+#: before parsing (a plan of 20 000 rows is a few MB).
+MAX_UNZIPPED_BYTES = 100 * 1024 * 1024
+MAX_MEMBER_BYTES = 50 * 1024 * 1024
 MAX_ZIP_RATIO = 200
 
 COLUMNS = {
@@ -126,52 +132,80 @@ def _table(name, label, grid, first_row, collector):
 
 
 def _check_zip(path, collector):
+    """Refuse, before parsing, what is not a zip or would unpack to far more than a plan needs."""
     try:
         with zipfile.ZipFile(path) as archive:
             members = archive.infolist()
-    except zipfile.BadZipFile:
+    except (zipfile.BadZipFile, OSError, ValueError):
         collector.add(None, None, None, "this is not an .xlsx workbook (not a zip archive); "
                       "save it from the spreadsheet as .xlsx, or give a folder of .csv sheets")
         return False
     unpacked = sum(m.file_size for m in members)
     packed = max(1, sum(m.compress_size for m in members))
-    if unpacked > MAX_UNZIPPED_BYTES or unpacked / packed > MAX_ZIP_RATIO and unpacked > 10e6:
+    largest = max(members, key=lambda m: m.file_size, default=None)
+    if (unpacked > MAX_UNZIPPED_BYTES or (largest and largest.file_size > MAX_MEMBER_BYTES)
+            or (unpacked / packed > MAX_ZIP_RATIO and unpacked > 10e6)):
         collector.add(None, None, None, f"the workbook would unpack to {unpacked / 1e6:.0f} MB "
-                      f"from {packed / 1e6:.1f} MB; refused as unsafe (limit "
+                      f"from {packed / 1e6:.1f} MB; refused as unsafe (a plan needs at most "
                       f"{MAX_UNZIPPED_BYTES / 1e6:.0f} MB)")
         return False
     return True
 
 
+def _root_cause(error):
+    """The innermost cause of an exception, as one short line."""
+    seen = set()
+    while (error.__cause__ or error.__context__) and id(error) not in seen:
+        seen.add(id(error))
+        error = error.__cause__ or error.__context__
+    text = str(error).strip().splitlines()[0] if str(error).strip() else ""
+    text = text if len(text) <= 120 else text[:117] + "..."
+    return f"{error.__class__.__name__}: {text}" if text else error.__class__.__name__
+
+
 def _read_xlsx(path, collector):
     if not _check_zip(path, collector):
         return {}
-    import openpyxl  # defusedxml, when installed, guards openpyxl's XML parsing
+    import openpyxl  # with defusedxml installed (a dependency), openpyxl parses XML through it
 
     try:
-        book = openpyxl.load_workbook(path, read_only=False, data_only=True)
-    except Exception as error:  # openpyxl raises many kinds on damaged files
-        collector.add(None, None, None, f"cannot be read as an .xlsx workbook ({error.__class__.__name__}"
-                      f": {error}); open and save it again in the spreadsheet")
+        values = openpyxl.load_workbook(path, read_only=False, data_only=True)
+        formulas = openpyxl.load_workbook(path, read_only=False, data_only=False)
+    except Exception as error:  # noqa: BLE001  damaged or hostile files raise many kinds
+        collector.add(None, None, None, f"cannot be read as an .xlsx workbook ({_root_cause(error)})"
+                      "; open and save it again in the spreadsheet")
         return {}
     sheets = {}
-    for worksheet in book.worksheets:
+    for worksheet in values.worksheets:
         name = canonical(worksheet.title)
         if name not in SHEETS:
             continue
         if worksheet.max_row > MAX_ROWS + 100:
             collector.add(name, None, None, f"{worksheet.max_row} rows is more than the {MAX_ROWS} "
-                          "a plan may have")
+                          "a plan may have; delete the empty formatted rows or split the plan")
             continue
         for merged in worksheet.merged_cells.ranges:
-            collector.add(name, merged.min_row, worksheet.cell(1, merged.min_col).value or
-                          merged.coord, f"merged cells ({merged.coord}) are not allowed in a plan; "
-                          "unmerge them and fill each cell")
+            collector.add(name, merged.min_row, str(worksheet.cell(1, merged.min_col).value or
+                                                    merged.coord),
+                          f"merged cells ({merged.coord}) are not allowed in a plan; unmerge them "
+                          "and fill each cell")
         grid = [list(r) for r in worksheet.iter_rows(values_only=True)]
+        # Formulas: their saved results are used; one without a saved result cannot be.
+        source = formulas[worksheet.title]
+        header = grid[0] if grid else []
+        for row in source.iter_rows():
+            for cell in row:
+                if cell.data_type == "f" and grid[cell.row - 1][cell.column - 1] is None:
+                    column = header[cell.column - 1] if cell.column - 1 < len(header) else None
+                    collector.add(name, cell.row, str(column or cell.coordinate),
+                                  f"cell {cell.coordinate} holds a formula ({cell.value}) with no "
+                                  "saved result; open and save the workbook in the spreadsheet, "
+                                  "or type the value")
         sheet = _table(name, worksheet.title, grid, 1, collector)
         if sheet is not None:
             sheets[name] = sheet
-    book.close()
+    values.close()
+    formulas.close()
     return sheets
 
 
@@ -181,13 +215,14 @@ def _read_csv_folder(path, collector):
         if file.suffix.lower() != ".csv" or canonical(file.stem) not in SHEETS:
             continue
         name = canonical(file.stem)
+        if file.stat().st_size > MAX_MEMBER_BYTES:
+            collector.add(name, None, None, f"{file.name} is {file.stat().st_size / 1e6:.0f} MB, "
+                          f"more than a plan's sheet may be ({MAX_MEMBER_BYTES / 1e6:.0f} MB)")
+            continue
         try:
             text = file.read_text(encoding="utf-8-sig")
         except UnicodeDecodeError:
             collector.add(name, None, None, f"{file.name} is not UTF-8 text; save it as CSV UTF-8")
-            continue
-        if text.count("\n") > MAX_ROWS + 100:
-            collector.add(name, None, None, f"more than the {MAX_ROWS} rows a plan may have")
             continue
         grid = list(csv.reader(text.splitlines()))
         sheet = _table(name, file.name, grid, 1, collector)
@@ -199,7 +234,12 @@ def _read_csv_folder(path, collector):
 # Cell readers -------------------------------------------------------------------------------------
 
 def _number(value, what, collector, sheet, row, column):
-    if isinstance(value, bool) or isinstance(value, (dt.date, dt.datetime)):
+    if isinstance(value, (dt.date, dt.datetime, dt.time)):
+        shown = value.isoformat()[:10] if isinstance(value, (dt.date, dt.datetime)) else value
+        collector.add(sheet, row, column, f"a date or time ({shown}) is not {what}; format the "
+                      "cell as a number")
+        return None
+    if isinstance(value, bool):
         collector.add(sheet, row, column, f'"{value}" is not {what}')
         return None
     try:
@@ -408,6 +448,7 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
     if circuit_currents is not None and "circuits" not in sheet.columns:
         collector.add("runs", None, "circuits", "the column is needed with a states sheet")
     seen = set()
+    total_segments = 0
     for number, row in sheet.rows:
         bad = len(collector.findings)
         name = row.get("run")
@@ -490,9 +531,29 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
         if length == 0:
             collector.add("runs", number, "route", "the route has no length (all waypoints coincide)")
             continue
+        segments = _segment_estimate(geometry, length)
+        if segments > MAX_SEGMENTS_PER_RUN:
+            collector.add("runs", number, "lay", f"a twisted run of {length:.1f} m with a "
+                          f"{lay * 1000:.1f} mm lay needs {segments:,.0f} segments, more than the "
+                          f"{MAX_SEGMENTS_PER_RUN:,} a run may have; check the lay and the route")
+            continue
         runs.append(Run(name, circuits, geometry, size_label, str(row.get("note") or ""), number))
         currents.append(run_current)
+        total_segments += segments
+    if total_segments > MAX_SEGMENTS:
+        collector.add("runs", None, None, f"the runs need {total_segments:,.0f} straight segments, "
+                      f"more than the {MAX_SEGMENTS:,} a plan may have (twisted runs take "
+                      f"{CHORDS_PER_LAY * 2} per lay length); check the lay lengths")
     return runs, np.array(currents).reshape(len(runs), n_states)
+
+
+def _segment_estimate(geometry, length):
+    """Straight segments the router will make of a run (twisted: chords per lay, both helices)."""
+    route = len(geometry.route_m) + (len(geometry.return_route_m)
+                                     if geometry.return_route_m is not None else 0)
+    if geometry.return_kind == "twisted":
+        return 2 * (length / geometry.lay_m * CHORDS_PER_LAY + len(geometry.route_m)) + 2
+    return 2 * route + 2
 
 
 def _route(text, points, unit, collector, row, column):
@@ -670,8 +731,9 @@ def read_plan(path) -> Plan:
                                  "folder of .csv sheets (site.csv, runs.csv, ...)")])
     if collector.findings and not sheets:
         raise PlanError(collector.findings)
+    reported = {f.sheet for f in collector.findings}
     for name in REQUIRED_SHEETS:
-        if name not in sheets:
+        if name not in sheets and name not in reported:
             collector.add(name, None, None, "the sheet is missing")
     site = _read_site(sheets.get("site"), collector)
     points = _read_points(sheets.get("points"), site.units, collector)

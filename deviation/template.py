@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import re
+
 from .files import write_atomically
 from .plan import SAFE_DISTANCE_FOR, SENSOR_KINDS
 from .routing import RETURN_KINDS
@@ -136,4 +138,82 @@ def write_template(path, units="m"):
                                   allow_blank=True)
             rule.add("B2")
             sheet.add_data_validation(rule)
+    write_atomically(path, book.save)
+
+
+def _xyz(position):
+    """A position cell that reads back exactly: metres with full float precision."""
+    return ", ".join(f"{float(v)!r} m" for v in position)
+
+
+def _route_text(points):
+    return " > ".join(_xyz(p) for p in points)
+
+
+def plan_rows(plan):
+    """The plan's content as rows per sheet, in the workbook layout, lengths in metres.
+
+    Lengths are written as text with full float precision, so they read back exactly; other
+    numbers are workbook numbers, which keep 15 significant digits (the xlsx number format).
+    """
+    site = plan.site
+    rows = {"site": [["setting", "value", "note"], ["units", "m", "written by deviation"]]}
+    date = site.date_text if re.fullmatch(r"\d{4}-\d{2}-\d{2}", site.date_text) else None
+    if date:
+        rows["site"].append(["date", date, None])
+    for name, value in (("latitude", site.latitude_deg), ("longitude", site.longitude_deg),
+                        ("date", None if date else site.decimal_year),
+                        ("altitude_m", site.altitude_m),
+                        ("horizontal_field_ut", site.horizontal_ut),
+                        ("vertical_field_ut", site.vertical_ut)):
+        if value is not None:
+            rows["site"].append([name, float(value), None])
+    rows["points"] = [["point", "x", "y", "z", "note"]]
+    runs = [["run", "circuits", "route", "return", "return_route", "spacing", "lay", "size",
+             "current_a", "note"]]
+    for r, run in enumerate(plan.runs):
+        g = run.geometry
+        runs.append([run.name, f"run {r + 1}", _route_text(g.route_m), g.return_kind,
+                     _route_text(g.return_route_m) if g.return_route_m is not None else None,
+                     f"{g.spacing_m!r} m" if g.spacing_m is not None else None,
+                     f"{g.lay_m!r} m" if g.lay_m is not None else None,
+                     run.size, None, run.note or None])
+    rows["runs"] = runs
+    # One circuit per run keeps every run's current in every state exactly.
+    rows["states"] = [["circuit", *plan.state_names, "note"]] + [
+        [f"run {r + 1}", *(float(c) for c in plan.run_currents_a[r]), None]
+        for r in range(len(plan.runs))]
+    rows["sensors"] = [["sensor", "at", "kind", "budget_deg", "reference_state", "max_heel_deg",
+                        "note"]] + [[s.name, _xyz(s.position_m), s.kind, float(s.budget_deg),
+                                     s.reference_state, float(s.max_heel_deg), s.note or None]
+                                    for s in plan.sensors]
+    rows["equipment"] = [["item", "at", "safe_distance", "safe_distance_for", "moment_am2", "axis",
+                          "states", "note"]] + [
+        [e.name, _xyz(e.position_m),
+         f"{e.safe_distance_m!r} m" if e.safe_distance_m is not None else None,
+         e.safe_distance_for, e.moment_am2,
+         ", ".join(repr(float(v)) for v in e.axis) if e.axis is not None else None,
+         "; ".join(e.states) if e.states is not None else None, e.note or None]
+        for e in plan.equipment]
+    rows["spots"] = [["spot", "at", "note"]] + [[name, _xyz(p), None] for name, p in plan.spots]
+    return rows
+
+
+def write_plan(plan, path):
+    """Write a plan as a workbook in the template's layout (atomically); it reads back unchanged."""
+    from openpyxl import Workbook
+    from openpyxl.styles import Font
+
+    book = Workbook()
+    book.remove(book.active)
+    for name, rows in plan_rows(plan).items():
+        sheet = book.create_sheet(name)
+        for r, row in enumerate(rows, start=1):
+            for c, value in enumerate(row, start=1):
+                cell = sheet.cell(row=r, column=c, value=value)
+                if isinstance(value, str):
+                    cell.data_type = "s"
+                if r == 1:
+                    cell.font = Font(bold=True)
+        sheet.freeze_panes = "A2"
     write_atomically(path, book.save)

@@ -3,7 +3,15 @@
 import csv
 from pathlib import Path
 
+import os
+
 import pytest
+from hypothesis import settings
+
+# In CI the property tests and the reader fuzzing run a fixed, reproducible set of examples.
+settings.register_profile("ci", derandomize=True, print_blob=True)
+if os.environ.get("CI"):
+    settings.load_profile("ci")
 
 ROOT = Path(__file__).resolve().parents[1]
 SAMPLES = ROOT / "sample_installs"
