@@ -178,7 +178,7 @@ def search_box(plan, analysis, sensor, low_m, high_m, step_m, *, progress=None, 
     pick = _distinct_best(candidates[best], exact, top, 2 * step_m - 1e-12)
     spots = [_spot(plan, conductors, candidates[best][i], exact[i], state[i], sensor.budget_deg,
                    sensor.reference_state) for i in pick]
-    return SpotSearch(sensor, spots, _current(plan, analysis, sensor), len(candidates) + len(best),
+    return SpotSearch(sensor, spots, _current(plan, analysis, sensor), len(candidates),
                       grid_points, step_m, (low, high))
 
 

@@ -128,3 +128,11 @@ def test_help_does_not_import_numpy():
     code = "import sys, deviation.cli; print('numpy' in sys.modules, 'rich' in sys.modules)"
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.split() == ["False", "False"]
+
+
+def test_cli_reference_is_current():
+    # docs/cli.md is generated from --help; regenerate with `python -m deviation.docs > docs/cli.md`.
+    from conftest import ROOT
+    from deviation.docs import cli_reference
+
+    assert (ROOT / "docs" / "cli.md").read_text() == cli_reference()

@@ -18,7 +18,7 @@ import numpy as np
 from .. import __version__
 from ..card import cards
 from ..files import check_output, write_atomically
-from ..units import LENGTH_UNITS
+from ..units import LENGTH_UNITS, format_length
 from .common import CAUTIONS, degrees, verdict
 
 
@@ -336,7 +336,7 @@ def html_report(analysis, findings):
                     if s.reference_state else "not adjusted: the absolute deviation counts")
         heel = f"; heel ±{s.max_heel_deg:g}°" if s.max_heel_deg else ""
         parts.append(f"<section class=sensor><h2>{_e(s.name)}</h2><p>{_e(s.kind)} at "
-                     + ", ".join(f"{axis} {_length(plan, v):.3f} {unit}"
+                     + ", ".join(f"{axis} {format_length(v, unit)}"
                                  for axis, v in zip("xyz", s.position_m))
                      + f"; budget {s.budget_deg:g}°; {adjusted}{heel}</p>")
         for st in result.states:
