@@ -182,7 +182,7 @@ def test_matches_scipy_quad_of_the_biot_savart_integrand():
         p = p * 2
         direction = b - a
 
-        def integrand(t, c):
+        def integrand(t, c, a=a, p=p, direction=direction):
             r = p - (a + t * direction)
             return np.cross(direction, r)[c] / np.linalg.norm(r) ** 3
 

@@ -1,7 +1,6 @@
 """Bad input, hostile files and numerical edge cases: one clear finding or a finite figure."""
 
 import datetime as dt
-import io
 import json
 import math
 import re

@@ -27,7 +27,7 @@ def _scale(plan):
 
 
 def _draw_runs(axes, conductors, plan, alpha=0.9, scale=1.0):
-    for r, run in enumerate(plan.runs):
+    for run in plan.runs:
         route = run.geometry.route_m / scale
         axes.plot(route[:, 1], route[:, 0], lw=1.4, alpha=alpha, color="#333333")
         if run.geometry.return_kind == "separate":

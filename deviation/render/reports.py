@@ -83,6 +83,9 @@ def _totals(sensor, st):
             (f"held against the budget ({figure}{heel})", st.budget_used_deg)]
 
 
+#: Number formats of the run table's columns after the name, in the html report.
+HTML_FORMATS = ("{:g}", "{:.3f}", "{:.3f}", "{:.3f}", "{:.2f}", "{:.2f}", "{:.0f}")
+
 RUN_HEADERS = ["run / item", "current [A]", "nearest [{u}]", "horizontal [µT]", "vertical [µT]",
                "max deviation [°]", "change from reference [°]", "budget used [%]"]
 
@@ -348,17 +351,15 @@ def html_report(analysis, findings):
             for values in _run_rows(plan, s, st):
                 if values[7] is not None and values[7] < 0.5 and values[1] is not None:
                     continue                      # runs below 0.5 % of the budget: omitted
-                parts.append("<tr><td>" + _e(values[0]) + "</td>"
-                             + "".join(f"<td>{_num(v, '{:g}' if i == 0 else '{:.3f}' if i < 4 else '{:.2f}' if i < 6 else '{:.2f}')}</td>"
-                                       for i, v in enumerate(values[1:7]))
-                             + f"<td>{_num(values[7], '{:.0f}')}</td></tr>")
+                cells = "".join(f"<td>{_num(v, fmt)}</td>" for v, fmt in zip(values[1:], HTML_FORMATS))
+                parts.append(f"<tr><td>{_e(values[0])}</td>{cells}</tr>")
             for label, value in _totals(s, st):
                 parts.append(f"<tr class=total><td colspan=5>{_e(label)}</td>"
                              f"<td>{degrees(value)}</td><td colspan=2></td></tr>")
             parts.append("</table><p class=meta>Runs below 0.5 % of the budget are omitted.</p>")
             for hint in st.hints:
                 parts.append(f"<p class=hint>→ {_e(hint.text())}</p>")
-        parts.append(f"<h3>Predicted deviation card</h3>")
+        parts.append("<h3>Predicted deviation card</h3>")
         parts.append(_img(plots.card_curves(one, site), f"deviation curves of {s.name}"))
         parts.append("<table><tr><th>magnetic [°]</th>"
                      + "".join(f"<th>{_e(st.state)} deviation [°]</th><th>steer [°]</th>"
