@@ -226,17 +226,18 @@ def hints_for(analysis, index):
             run = plan.runs[r]
             kind = run.geometry.return_kind
             spacing, size_text = _pair_spacing(run)
+            units = plan.site.units
             remedies = []
             if kind in ("separate", "none"):
                 remedies.append((f'route the return of "{run.name}" beside its supply '
-                                 f"(paired, {spacing * 1000:.1f} mm centres, {size_text})",
+                                 f"(paired, {format_length(spacing, units)} centres, {size_text})",
                                  replace(run.geometry, return_kind="paired", spacing_m=spacing,
                                          return_route_m=None)))
             if kind in ("separate", "none", "paired"):
                 spacing_twist = run.geometry.spacing_m or spacing
                 remedies.append((f'twist "{run.name}" with its return (lay '
-                                 f"{ASSUMED_LAY_M * 1000:.0f} mm assumed, "
-                                 f"{spacing_twist * 1000:.1f} mm centres)",
+                                 f"{format_length(ASSUMED_LAY_M, units)} assumed, "
+                                 f"{format_length(spacing_twist, units)} centres)",
                                  replace(run.geometry, return_kind="twisted",
                                          spacing_m=spacing_twist, lay_m=ASSUMED_LAY_M,
                                          return_route_m=None)))

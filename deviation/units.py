@@ -51,7 +51,11 @@ def format_length(metres: float, unit_system: str) -> str:
     """A length for display in the plan's unit system (metric: m or mm; imperial: ft or in)."""
     if unit_system in IMPERIAL:
         inches = metres / 0.0254
+        if abs(inches) < 1:
+            return f"{inches:.2f} in"
         return f"{inches:.1f} in" if abs(inches) < 24 else f"{inches / 12:.2f} ft"
+    if abs(metres) < 0.01:
+        return f"{metres * 1000:.1f} mm"
     return f"{metres * 1000:.0f} mm" if abs(metres) < 1 else f"{metres:.2f} m"
 
 
