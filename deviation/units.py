@@ -49,6 +49,8 @@ def parse_length(text, default_unit="m") -> float:
 
 def format_length(metres: float, unit_system: str) -> str:
     """A length for display in the plan's unit system (metric: m or mm; imperial: ft or in)."""
+    if metres == 0:
+        return "0 in" if unit_system in IMPERIAL else "0 mm"
     if unit_system in IMPERIAL:
         inches = metres / 0.0254
         if abs(inches) < 1:

@@ -50,3 +50,9 @@ def test_lengths_shown_in_the_plans_unit_system():
     assert format_length(2.5, "m") == "2.50 m"
     assert format_length(0.3048, "ft") == "12.0 in"
     assert format_length(3.048, "ft") == "10.00 ft"
+
+
+def test_small_and_zero_lengths_keep_their_digits():
+    assert format_length(0.0, "m") == "0 mm"
+    assert format_length(0.0043, "m") == "4.3 mm"
+    assert format_length(0.0038, "ft") == "0.15 in"
