@@ -14,7 +14,7 @@ import numpy as np
 from .analysis import budget_figures, equipment_arrays, run_fields_at
 from .constants import ISO25862_BIPOLAR_RADIUS_M, MAGNETOMETER_MAX_FRACTION
 from .routing import route_runs
-from .units import conductor_size, format_length
+from .units import LENGTH_UNITS, conductor_size, format_length
 
 #: A run is given hints where its own figure uses at least this share of the sensor's budget,
 #: or where the sensor is over budget and the run uses at least HINT_SHARE_OVER.
@@ -209,6 +209,24 @@ def _solve_clearance(evaluator, r, run, k, budget):
     return figure, nearest
 
 
+#: Half-size of the box the "move the sensor" hint proposes to search around it [m].
+SPOT_BOX_HALF_M = 0.5
+
+
+def _spot_command(plan, sensor):
+    """A runnable spot-search command for a box around the sensor, in the plan's units."""
+    scale = LENGTH_UNITS[plan.site.units]
+    low = (sensor.position_m - SPOT_BOX_HALF_M) / scale
+    high = (sensor.position_m + SPOT_BOX_HALF_M) / scale
+
+    def corner(values):
+        return ",".join(f"{v:.4g}" for v in values)
+
+    return (f'or move the sensor: `deviation spot "{plan.source}" --sensor "{sensor.name}" '
+            f"--region {corner(low)} {corner(high)}` searches ±{format_length(SPOT_BOX_HALF_M, plan.site.units)} "
+            "around it")
+
+
 def hints_for(analysis, index):
     """Hints for one sensor, attached to its state results."""
     result = analysis.sensors[index]
@@ -266,9 +284,7 @@ def hints_for(analysis, index):
                                    "no rerouting of a single run brings the sensor within budget "
                                    "here; change several runs, or move the sensor", st.budget_used_deg,
                                    None, None))
-            chosen.append(Hint(sensor.name, st.state, None,
-                               f"or move the sensor: `deviation spot PLAN --sensor "
-                               f"\"{sensor.name}\" --region X0,Y0,Z0 X1,Y1,Z1` searches a box",
+            chosen.append(Hint(sensor.name, st.state, None, _spot_command(plan, sensor),
                                st.budget_used_deg, None, None))
         st.hints = chosen
 
