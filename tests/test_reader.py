@@ -31,7 +31,7 @@ def test_sailboat_reads_units_sizes_and_states():
     assert stern.geometry.lay_m == pytest.approx(0.025)            # "25 mm"
     assert plan.state_names == ["harbour", "night motoring", "anchoring"]
     k = plan.state_names.index("anchoring")
-    assert plan.run_currents_a[plan.runs.index(windlass), k] == 85
+    assert plan.run_currents_a[plan.runs.index(windlass), k] == 85     # the sample's states.csv
 
 
 def test_imperial_plan_reads_feet_and_inch_spacing():
