@@ -111,6 +111,8 @@ def segment_field(start_m, end_m, current_a, points_m, *, radius_m=0.0, return_i
     J. D. Hanson and S. P. Hirshman, "Compact expressions for the Biot-Savart fields of a
     filamentary segment", Phys. Plasmas 9, 4410 (2002).
     """
+    if backend not in ("auto", "numpy", "compiled"):
+        raise ValueError(f"backend must be auto, numpy or compiled, not {backend!r}")
     start, end, current, radius2, length2, index, single = _as_segments(
         start_m, end_m, current_a, radius_m)
     points = np.ascontiguousarray(points_m, dtype=float).reshape(-1, 3)
@@ -121,8 +123,6 @@ def segment_field(start_m, end_m, current_a, points_m, *, radius_m=0.0, return_i
         pairs = len(start) * len(points)
         use_compiled = backend == "compiled" or (
             backend == "auto" and pairs >= COMPILED_MIN_PAIRS and _compiled_available())
-        if backend not in ("auto", "numpy", "compiled"):
-            raise ValueError(f"backend must be auto, numpy or compiled, not {backend!r}")
         if use_compiled:
             from . import _kernels
             _kernels.segment_field(start, end, current, radius2, length2, points, field, inside)
