@@ -136,10 +136,6 @@ class Analysis:
         return all(s.within_budget for s in self.sensors)
 
 
-def _asin_deg(ratio):
-    return math.degrees(math.asin(ratio)) if ratio < 1 else 180.0
-
-
 def run_fields_at(conductors, n_runs, points_m):
     """Field of each run at unit current [T/A], shape (P, R, 3), and nearest distances (P, R) [m]."""
     points = np.asarray(points_m, dtype=float).reshape(-1, 3)
@@ -300,13 +296,13 @@ def equipment_at(plan, sensor, position, state, horizontal_t):
     return out
 
 
-def evaluate_sensor(plan, sensor, site, unit_fields, nearest, position=None):
-    """Budget of one sensor (at its own position, or at ``position``) in every state.
+def evaluate_sensor(plan, sensor, site, unit_fields, nearest):
+    """Budget of one sensor in every state.
 
     ``unit_fields`` (R, 3) [T/A] and ``nearest`` (R,) [m] are each run's field at unit current
-    and its nearest distance, at that position.
+    and its nearest distance, at the sensor.
     """
-    position = sensor.position_m if position is None else np.asarray(position, dtype=float)
+    position = sensor.position_m
     h = site.horizontal_t
     currents = plan.run_currents_a                                 # (R, K)
     per_run = unit_fields[None, :, :] * currents.T[:, :, None]      # (K, R, 3)

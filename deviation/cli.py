@@ -57,6 +57,17 @@ def plan_errors(command):
     return wrapper
 
 
+def find_sensor(plan, name):
+    """The plan's sensor of this name (case and spaces ignored), or a clear error."""
+    from .reader import key
+
+    for sensor in plan.sensors:
+        if key(sensor.name) == key(name):
+            return sensor
+    names = ", ".join(s.name for s in plan.sensors)
+    raise CommandProblem(f'no sensor "{name}" in the plan; it has: {names}')
+
+
 def load(plan_path):
     from .reader import read_plan
 
@@ -227,11 +238,10 @@ def card(plan, sensor_name, step_deg, plot_path, as_json, width):
     from .files import check_output
 
     the_plan = load(plan)
+    if sensor_name:
+        sensor_name = find_sensor(the_plan, sensor_name).name
     analysis = analyse(the_plan)
     made = cards(analysis, float(step_deg), sensor_name)
-    if not made:
-        names = ", ".join(s.name for s in the_plan.sensors)
-        raise CommandProblem(f'no sensor "{sensor_name}" in the plan; it has: {names}')
     if plot_path:
         from pathlib import Path
 
@@ -302,15 +312,10 @@ def spot(plan, sensor_name, region, step, top, plot_path, as_json, width):
 
     from .analysis import analyse
     from .files import check_output
-    from .reader import key
     from .units import parse_length
 
     the_plan = load(plan)
-    sensors = {key(s.name): s for s in the_plan.sensors}
-    if key(sensor_name) not in sensors:
-        names = ", ".join(s.name for s in the_plan.sensors)
-        raise CommandProblem(f'no sensor "{sensor_name}" in the plan; it has: {names}')
-    sensor = sensors[key(sensor_name)]
+    sensor = find_sensor(the_plan, sensor_name)
     if plot_path:
         check_output(plot_path, plan)
     unit = the_plan.site.units

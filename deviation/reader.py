@@ -291,9 +291,8 @@ def _position(text, points, default_unit, collector, sheet, row, column):
                 break
         if coords is not None:
             return np.array(coords)
-    names = [n for n in points.names] if hasattr(points, "names") else []
     collector.add(sheet, row, column, f'"{text}" is neither a point in the points sheet nor '
-                  f'x, y, z{_suggest(text, names)}')
+                  f'x, y, z{_suggest(text, points.names)}')
     return None
 
 
