@@ -1,91 +1,39 @@
 """The deviation budget of a plan: every run and item at every sensor in every state.
 
 This is the middle layer: it takes a validated :class:`~deviation.plan.Plan`, calls the physics
-modules, and returns plain result dataclasses that renderers turn into tables, JSON or reports.
+and the budget rules, and returns frozen result values that renderers turn into tables, JSON or
+reports. The per-run fields at each sensor are kept, so advice and the spot search reuse them.
 """
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 
 import numpy as np
 
 from . import heading
-from .constants import SAFE_DISTANCE_DEG_UT
-from .field import dipole_field, dipole_field_bound, point_segment_distance, segment_field_by_group
-from .geomag import declination_uncertainty_deg, wmm_field, zone_of
-from .plan import Plan
-from .routing import Conductors, route_runs
-
-TESLA_PER_UT = 1e-6
+from .budget import asin_deg, budget_figures, equipment_fields, item_effect
+from .field import point_segment_distance, segment_field_by_group
+from .plan import Plan, Sensor, conductors_of, frozen_array
+from .routing import Conductors
+from .sitefield import SiteField, site_field
 
 
 @dataclass(frozen=True)
-class SiteField:
-    """The Earth's field at the site [T] and what it came from."""
-
-    horizontal_t: float
-    vertical_t: float
-    declination_deg: float | None
-    inclination_deg: float
-    source: str                       # "WMM2025" or "plan"
-    zone: str
-    decimal_year: float
-    date_text: str
-    declination_uncertainty_deg: float | None
-
-    @property
-    def total_t(self):
-        return math.hypot(self.horizontal_t, self.vertical_t)
-
-
-def site_field(site) -> SiteField:
-    """The site's field: the plan's own H and Z where given, else WMM2025 at the place and date."""
-    model = None
-    if site.latitude_deg is not None and site.longitude_deg is not None and (
-            site.horizontal_ut is None or site.vertical_ut is None):
-        model = wmm_field(site.latitude_deg, site.longitude_deg, site.decimal_year, site.altitude_m)
-    if site.horizontal_ut is not None:
-        horizontal = site.horizontal_ut * TESLA_PER_UT
-        vertical = (site.vertical_ut * TESLA_PER_UT if site.vertical_ut is not None else
-                    float(model.z_nt) * 1e-9 if model is not None else 0.0)
-        declination = float(model.declination_deg) if model is not None else None
-        return SiteField(horizontal, vertical, declination,
-                         math.degrees(math.atan2(vertical, horizontal)), "plan",
-                         zone_of(horizontal * 1e9), site.decimal_year, site.date_text, None)
-    horizontal = float(model.h_nt) * 1e-9
-    vertical = (site.vertical_ut * TESLA_PER_UT if site.vertical_ut is not None
-                else float(model.z_nt) * 1e-9)
-    return SiteField(horizontal, vertical, float(model.declination_deg),
-                     math.degrees(math.atan2(vertical, horizontal)), "WMM2025",
-                     zone_of(horizontal * 1e9), site.decimal_year, site.date_text,
-                     float(declination_uncertainty_deg(horizontal * 1e9)))
-
-
-def safe_distance_disturbance_t(label, horizontal_t):
-    """Horizontal disturbance an item may cause at its labelled compass safe distance [T].
-
-    IEC 60945 (compass safe distance): 5.4/H degrees at a standard compass, 18/H at a steering
-    compass, H in microtesla; as a field, H sin(k/H deg), about 94.2 nT and 314 nT.
-    """
-    h_ut = horizontal_t / TESLA_PER_UT
-    return horizontal_t * math.sin(math.radians(SAFE_DISTANCE_DEG_UT[label] / h_ut))
-
-
-@dataclass
 class RunContribution:
+    """One run at one sensor in one state (supply and return together)."""
+
     name: str
     current_a: float
     field_t: np.ndarray               # (3,) vessel frame, this run alone in this state
     nearest_m: float
-    max_deviation_deg: float          # this run alone, level, over all headings
-    change_from_reference_deg: float | None   # this run's own change from the reference state
-    share_of_budget: float            # the figure held against the budget / budget_deg
+    max_deviation_deg: float          # this run alone, level, over all headings, absolute
+    change_from_reference_deg: float | None   # this run's own residual b - b_ref, level
+    share_of_budget: float            # the run's counted figure / budget_deg
     return_kind: str
 
 
-@dataclass
+@dataclass(frozen=True)
 class EquipmentContribution:
     name: str
     distance_m: float
@@ -98,42 +46,98 @@ class EquipmentContribution:
     compensated: bool = False         # present in the reference state too: adjusted out
 
 
-@dataclass
+@dataclass(frozen=True)
 class StateResult:
     state: str
+    used: bool                        # the sensor is relied on in this state
+    is_reference: bool                # the state the sensor is adjusted in
     field_t: np.ndarray               # (3,) all runs and oriented items, vector sum
     vector_deviation_deg: float       # level, from the vector sum only
     max_deviation_deg: float          # level, vector sum plus equipment bounds: absolute worst
-    magnitude_bound_deg: float        # level, runs' horizontal fields added as magnitudes
-    change_from_reference_deg: float | None
-    heeled_max_deviation_deg: float
-    budget_used_deg: float
+    magnitude_bound_deg: float        # level, every field's horizontal size added, bounds too
+    change_from_reference_deg: float | None   # level, deviation of the residual field
+    heeled_max_deviation_deg: float   # absolute, worst attitude within heel and pitch
+    attitude_change_deg: float | None # residual, worst attitude within heel and pitch
+    budget_used_deg: float            # the figure held against the budget
     within_budget: bool
     overwhelmed: bool
     fraction_of_total: float          # |vector sum| / F
     equipment_bound_t: float
-    runs: list
-    equipment: list
-    hints: list = field(default_factory=list)
+    runs: tuple[RunContribution, ...]
+    equipment: tuple[EquipmentContribution, ...]
+    remedies: tuple = ()
 
 
-@dataclass
+@dataclass(frozen=True)
 class SensorResult:
-    sensor: object
-    states: list
-    within_budget: bool
+    sensor: Sensor
+    states: tuple[StateResult, ...]
+    within_budget: bool               # in every state the sensor is used in
+    unit_fields_t: np.ndarray = field(repr=False)   # (R, 3) each run's field per ampere [T/A]
+    nearest_m: np.ndarray = field(repr=False)       # (R,) each run's nearest distance [m]
 
-
-@dataclass
-class Analysis:
-    plan: Plan
-    site: SiteField
-    conductors: Conductors
-    sensors: list
+    def state(self, name: str) -> StateResult:
+        return next(s for s in self.states if s.state == name)
 
     @property
-    def within_budget(self):
+    def worst(self) -> StateResult:
+        """The used state with the largest held figure."""
+        used = [s for s in self.states if s.used] or list(self.states)
+        return max(used, key=lambda s: s.budget_used_deg)
+
+    @property
+    def adjustment_absorbs_deg(self) -> float | None:
+        """Absolute worst deviation in the reference state: what the adjustment takes out."""
+        reference = [s for s in self.states if s.is_reference]
+        return reference[0].heeled_max_deviation_deg if reference else None
+
+
+@dataclass(frozen=True)
+class Analysis:
+    """The result of checking a plan: every sensor in every state, with its remedies and the
+    rule findings once :func:`deviation.check` has made them.
+
+    Tables: :meth:`to_frame` (one row per sensor and state), :meth:`runs_frame` (one row per
+    sensor, state and run or item), :meth:`remedies_frame`, :meth:`findings_frame`; pandas is
+    imported only when one is asked for.
+    """
+
+    plan: Plan
+    site: SiteField
+    sensors: tuple[SensorResult, ...]
+    findings: tuple = ()
+
+    def to_frame(self):
+        from .frames import summary_frame
+
+        return summary_frame(self)
+
+    def runs_frame(self):
+        from .frames import runs_frame
+
+        return runs_frame(self)
+
+    def remedies_frame(self):
+        from .frames import remedies_frame
+
+        return remedies_frame(self)
+
+    def findings_frame(self):
+        from .frames import findings_frame
+
+        return findings_frame(self)
+
+    @property
+    def conductors(self) -> Conductors:
+        return conductors_of(self.plan)
+
+    @property
+    def within_budget(self) -> bool:
         return all(s.within_budget for s in self.sensors)
+
+    def sensor(self, name: str) -> SensorResult:
+        wanted = self.plan.sensor(name)
+        return next(s for s in self.sensors if s.sensor is wanted)
 
 
 def run_fields_at(conductors, n_runs, points_m):
@@ -150,208 +154,91 @@ def run_fields_at(conductors, n_runs, points_m):
     return unit, nearest
 
 
-def asin_deg(ratio):
-    """arcsin in degrees of |b|/H, elementwise; 180 where |b| >= H (the sensor is overwhelmed)."""
-    ratio = np.asarray(ratio, dtype=float)
-    return np.where(ratio < 1.0, np.degrees(np.arcsin(np.clip(ratio, 0.0, 1.0))), 180.0)
-
-
-def _asin_deg(ratio):
-    return float(asin_deg(ratio))
-
-
-def item_effect(item, points_m, horizontal_t):
-    """One magnetised item at many points.
-
-    Returns
-    -------
-    field : (P, 3) array [T] or None
-        The vector field where the orientation is known, else None.
-    bound : (P,) array [T]
-        Largest horizontal field it may cause where the orientation is unknown, else zeros.
-    distance : (P,) array [m]
-    """
-    points = np.asarray(points_m, dtype=float).reshape(-1, 3)
-    distance = np.linalg.norm(points - item.position_m, axis=1)
-    apart = np.maximum(distance, 1e-9)
-    if item.safe_distance_m is not None:
-        at_label = safe_distance_disturbance_t(item.safe_distance_for, horizontal_t)
-        return None, at_label * (item.safe_distance_m / apart) ** 3, distance
-    if item.axis is not None:
-        field = dipole_field([item.moment_am2 * item.axis], [item.position_m], points)
-        return field, np.zeros(len(points)), distance
-    return None, dipole_field_bound(item.moment_am2, apart), distance
-
-
-def equipment_arrays(plan, sensor, points_m, horizontal_t):
-    """Equipment at many points in every state: oriented fields (P, K, 3), bounds (P, K), and the
-    bounds of items whose presence differs from the sensor's reference state (P, K)."""
-    points = np.asarray(points_m, dtype=float).reshape(-1, 3)
-    n_states = len(plan.state_names)
-    oriented = np.zeros((len(points), n_states, 3))
-    bound = np.zeros((len(points), n_states))
-    changing = np.zeros((len(points), n_states))
-    reference = sensor.reference_state
-    for item in plan.equipment:
-        field, size, _ = item_effect(item, points, horizontal_t)
-        present = np.array([item.present_in(s) for s in plan.state_names], dtype=float)
-        if field is not None:
-            oriented += field[:, None, :] * present[None, :, None]
-        bound += size[:, None] * present[None, :]
-        if reference:
-            differs = present != float(item.present_in(reference))
-            changing += size[:, None] * differs[None, :]
-    return oriented, bound, changing
-
-
-@dataclass
-class Figures:
-    """Budget figures of one sensor at P positions in K states; arrays (P, K) [deg]."""
-
-    vector_deviation_deg: np.ndarray
-    max_deviation_deg: np.ndarray
-    heeled_max_deviation_deg: np.ndarray
-    change_from_reference_deg: np.ndarray | None
-    budget_used_deg: np.ndarray
-    overwhelmed: np.ndarray
-    within_budget: np.ndarray
-
-
-def budget_figures(plan, sensor, site, totals_t, bound_t, changing_t, *, exact=True):
-    """The figures held against a sensor's budget, vectorised over positions and states.
-
-    Parameters
-    ----------
-    totals_t : (P, K, 3) array [T]
-        Vector sum of runs and oriented items, vessel frame.
-    bound_t, changing_t : (P, K) arrays [T]
-        Equipment bounds of unknown direction, all of them and those whose presence differs
-        from the reference state (the others are adjusted out with it).
-    exact : bool
-        With a reference state, True computes the largest change over headings exactly (to
-        1e-8 deg); False uses the first-order figure asin(|delta b_h|/H), a fast screen for
-        searches (exact in the limit of small disturbances).
-
-    Notes
-    -----
-    Without a reference state the figure is the absolute deviation asin((|b_h| + bounds)/H) at the
-    worst heel in ±max_heel (exact, see :func:`deviation.heading.worst_heel_deg`); with one it is
-    the largest change of deviation from the reference state over headings and heel, plus the
-    changing bounds as degrees.
-    """
-    h = site.horizontal_t
-    level = heading.horizontal_disturbance(totals_t)
-    if sensor.max_heel_deg:
-        heeled = heading.horizontal_disturbance(
-            totals_t, heading.worst_heel_deg(totals_t, sensor.max_heel_deg))
-    else:
-        heeled = level
-    vector = asin_deg(level / h)
-    absolute = asin_deg((level + bound_t) / h)
-    heeled_absolute = asin_deg((heeled + bound_t) / h)
-    change = None
-    if sensor.reference_state:
-        ref_k = plan.state_names.index(sensor.reference_state)
-        reference = np.broadcast_to(totals_t[:, ref_k:ref_k + 1, :], totals_t.shape)
-        extra = np.where(changing_t > 0, asin_deg(changing_t / h), 0.0)
-        if exact:
-            level_change = heading.max_change_deg(totals_t, reference, h)
-            heeled_change = (heading.max_heeled_change_deg(totals_t, reference, h,
-                                                           sensor.max_heel_deg)
-                             if sensor.max_heel_deg else level_change)
-        else:
-            delta = totals_t - reference
-            level_change = asin_deg(heading.horizontal_disturbance(delta) / h)
-            heeled_change = (asin_deg(heading.horizontal_disturbance(
-                delta, heading.worst_heel_deg(delta, sensor.max_heel_deg)) / h)
-                if sensor.max_heel_deg else level_change)
-        change = np.minimum(180.0, level_change + extra)
-        used = np.minimum(180.0, heeled_change + extra)
-    else:
-        used = heeled_absolute
-    overwhelmed = (level + bound_t >= h) | (heeled + bound_t >= h)
-    within = (used <= sensor.budget_deg) & ~overwhelmed
-    return Figures(vector, absolute, heeled_absolute, change, used, overwhelmed, within)
-
-
 def equipment_at(plan, sensor, position, state, horizontal_t):
-    """Display rows of the items present in a state at one position."""
+    """The items present in a state, at one position."""
     out = []
     in_reference = sensor.reference_state is not None
     for item in plan.equipment:
         if not item.present_in(state):
             continue
-        field, bound, distance = item_effect(item, position[None, :], horizontal_t)
+        field_t, bound, distance = item_effect(item, position[None, :], horizontal_t)
         distance, bound = float(distance[0]), float(bound[0])
-        if field is not None:
-            size = float(heading.horizontal_disturbance(field[0]))
-        else:
-            size = bound
+        size = float(heading.horizontal_disturbance(field_t[0])) if field_t is not None else bound
         out.append(EquipmentContribution(
             item.name, distance, "safe distance" if item.safe_distance_m is not None else "moment",
-            None if field is None else field[0], bound, _asin_deg(size / horizontal_t),
+            None if field_t is None else frozen_array(field_t[0]), bound,
+            float(asin_deg(size / horizontal_t)),
             item.safe_distance_m is not None and distance < item.safe_distance_m,
             item.safe_distance_m,
             compensated=in_reference and item.present_in(sensor.reference_state)))
-    return out
+    return tuple(out)
 
 
-def evaluate_sensor(plan, sensor, site, unit_fields, nearest):
+def evaluate_sensor(plan: Plan, sensor: Sensor, site: SiteField, unit_fields_t: np.ndarray,
+                    nearest_m: np.ndarray) -> SensorResult:
     """Budget of one sensor in every state.
 
-    ``unit_fields`` (R, 3) [T/A] and ``nearest`` (R,) [m] are each run's field at unit current
-    and its nearest distance, at the sensor.
+    Parameters
+    ----------
+    unit_fields_t : (R, 3) array [T/A]
+        Each run's field at unit current, at the sensor.
+    nearest_m : (R,) array [m]
+        Each run's nearest distance to the sensor.
     """
     position = sensor.position_m
     h = site.horizontal_t
-    currents = plan.run_currents_a                                 # (R, K)
-    per_run = unit_fields[None, :, :] * currents.T[:, :, None]      # (K, R, 3)
-    oriented, bound, changing = equipment_arrays(plan, sensor, position[None, :], h)
-    totals = per_run.sum(axis=1)[None] + oriented                   # (1, K, 3)
-    figures = budget_figures(plan, sensor, site, totals, bound, changing)
-    ref_k = plan.state_names.index(sensor.reference_state) if sensor.reference_state else None
-    own = asin_deg(heading.horizontal_disturbance(per_run) / h)              # (K, R)
+    currents = plan.run_currents_a                                  # (R, K)
+    per_run = unit_fields_t[None, :, :] * currents.T[:, :, None]    # (K, R, 3)
+    items = equipment_fields(plan, sensor, position[None, :], h)
+    totals = per_run.sum(axis=1)[None] + items.oriented             # (1, K, 3)
+    ref_k = plan.state_index(sensor.reference_state) if sensor.reference_state else None
+    figures = budget_figures(sensor, h, totals, items.bound, items.changing, ref_k)
+    run_sizes = heading.horizontal_disturbance(per_run)                        # (K, R)
+    own = asin_deg(run_sizes / h)
     change = (None if ref_k is None else
               asin_deg(heading.horizontal_disturbance(per_run - per_run[ref_k][None]) / h))
     counted = own if change is None else change
-    run_sizes_all = heading.horizontal_disturbance(per_run)
     results = []
     for k, state in enumerate(plan.state_names):
-        run_sizes = run_sizes_all[k]
-        runs = [RunContribution(run.name, float(currents[r, k]), per_run[k, r].copy(),
-                                float(nearest[r]), float(own[k, r]),
+        is_reference = k == ref_k
+        # In the reference state every run's change is zero by definition; rank by what the
+        # adjustment has to absorb instead.
+        rank = own[k] if is_reference else counted[k]
+        runs = [RunContribution(run.name, float(currents[r, k]), frozen_array(per_run[k, r]),
+                                float(nearest_m[r]), float(own[k, r]),
                                 None if change is None else float(change[k, r]),
                                 float(counted[k, r]) / sensor.budget_deg,
                                 run.geometry.return_kind)
                 for r, run in enumerate(plan.runs)]
-        runs.sort(key=lambda c: (-c.share_of_budget, c.name))
-        b = totals[0, k]
+        order = sorted(range(len(runs)), key=lambda r: (-rank[r], runs[r].name))
         results.append(StateResult(
-            state=state, field_t=b,
+            state=state, used=sensor.used_in_state(state), is_reference=is_reference,
+            field_t=frozen_array(totals[0, k]),
             vector_deviation_deg=float(figures.vector_deviation_deg[0, k]),
             max_deviation_deg=float(figures.max_deviation_deg[0, k]),
-            magnitude_bound_deg=_asin_deg((run_sizes.sum() + bound[0, k]) / h),
+            magnitude_bound_deg=float(asin_deg((run_sizes[k].sum() + items.bound[0, k]) / h)),
             change_from_reference_deg=(None if figures.change_from_reference_deg is None
                                        else float(figures.change_from_reference_deg[0, k])),
-            heeled_max_deviation_deg=float(figures.heeled_max_deviation_deg[0, k]),
+            heeled_max_deviation_deg=float(figures.attitude_deviation_deg[0, k]),
+            attitude_change_deg=(None if figures.attitude_change_deg is None
+                                 else float(figures.attitude_change_deg[0, k])),
             budget_used_deg=float(figures.budget_used_deg[0, k]),
             within_budget=bool(figures.within_budget[0, k]),
             overwhelmed=bool(figures.overwhelmed[0, k]),
-            fraction_of_total=float(np.linalg.norm(b)) / site.total_t,
-            equipment_bound_t=float(bound[0, k]), runs=runs,
+            fraction_of_total=float(np.linalg.norm(totals[0, k])) / site.total_t,
+            equipment_bound_t=float(items.bound[0, k]), runs=tuple(runs[r] for r in order),
             equipment=equipment_at(plan, sensor, position, state, h)))
-    return results
+    within = all(s.within_budget for s in results if s.used)
+    return SensorResult(sensor, tuple(results), within, frozen_array(unit_fields_t),
+                        frozen_array(nearest_m))
 
 
 def analyse(plan: Plan) -> Analysis:
     """Compute the deviation budget of every sensor in every state."""
     site = site_field(plan.site)
-    conductors = (plan.conductors if plan.conductors is not None
-                  else route_runs([r.geometry for r in plan.runs]))
+    conductors = conductors_of(plan)
     positions = np.array([s.position_m for s in plan.sensors]).reshape(-1, 3)
     unit, nearest = run_fields_at(conductors, len(plan.runs), positions)
-    sensors = []
-    for i, sensor in enumerate(plan.sensors):
-        states = evaluate_sensor(plan, sensor, site, unit[i], nearest[i])
-        sensors.append(SensorResult(sensor, states, all(s.within_budget for s in states)))
-    return Analysis(plan, site, conductors, sensors)
+    sensors = tuple(evaluate_sensor(plan, sensor, site, unit[i], nearest[i])
+                    for i, sensor in enumerate(plan.sensors))
+    return Analysis(plan, site, sensors)

@@ -1,23 +1,31 @@
-"""Generate the command reference from the commands' own help: ``python -m deviation.docs``."""
+"""Generate the command reference from the commands' own help: ``python -m deviation.docs``.
+
+The help is taken by running each command with ``--help`` through click's own test runner, so
+the reference shows exactly what a user sees (program name and all).
+"""
 
 from __future__ import annotations
 
-import click
+from click.testing import CliRunner
 
 from .cli import main
+
+
+def _help(*args: str) -> str:
+    result = CliRunner().invoke(main, [*args, "--help"], prog_name="deviation",
+                                terminal_width=100)
+    if result.exit_code != 0:
+        raise RuntimeError(f"deviation {' '.join(args)} --help failed: {result.output}")
+    return result.output.rstrip()
 
 
 def cli_reference() -> str:
     lines = ["# Command reference", "",
              "Generated from `--help` by `python -m deviation.docs > docs/cli.md`; a test fails "
              "when this file is stale.", ""]
-    context = click.Context(main, info_name="deviation", terminal_width=100, **main.context_settings)
-    lines += ["## deviation", "", "```", main.get_help(context).rstrip(), "```", ""]
+    lines += ["## deviation", "", "```", _help(), "```", ""]
     for name in sorted(main.commands):
-        command = main.commands[name]
-        sub = click.Context(command, info_name=f"deviation {name}", parent=context,
-                            terminal_width=100)
-        lines += [f"## deviation {name}", "", "```", command.get_help(sub).rstrip(), "```", ""]
+        lines += [f"## deviation {name}", "", "```", _help(name), "```", ""]
     return "\n".join(lines)
 
 

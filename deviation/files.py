@@ -6,8 +6,10 @@ import os
 import tempfile
 from pathlib import Path
 
+from .errors import DeviationError
 
-class OutputError(ValueError):
+
+class OutputError(DeviationError, ValueError):
     """An output that must not be written (e.g. onto the input plan)."""
 
 

@@ -17,10 +17,12 @@ import numpy as np
 from .constants import (BLACKOUT_H_NT, CAUTION_H_NT, WGS84_A_KM, WGS84_F, WMM_REFERENCE_RADIUS_KM,
                         WMM_VALID_FROM, WMM_VALID_UNTIL)
 
+from .errors import DeviationError
+
 MAX_DEGREE = 12
 
 
-class OutsideModelError(ValueError):
+class OutsideModelError(DeviationError, ValueError):
     """The date lies outside the model's validity window, where it is not to be trusted."""
 
 

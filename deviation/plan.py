@@ -1,16 +1,45 @@
-"""The validated wiring plan: plain dataclasses in SI units, made once by the reader."""
+"""The validated wiring plan: a plain, frozen value in SI units.
+
+The reader makes a :class:`Plan` once, at the edge; everything after it only reads it. A what-if
+plan is made with :func:`dataclasses.replace` and is a new value: routing and every figure are
+computed from the plan that is passed, never cached on an old one (see :func:`conductors_of`).
+"""
 
 from __future__ import annotations
 
+import weakref
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
 
+from .errors import DeviationError, UnknownSensorError
 from .routing import RunGeometry
+from .schema import SAFE_DISTANCE_FOR, SENSOR_KINDS  # noqa: F401  (re-exported)
 
-SENSOR_KINDS = ("magnetic compass", "electronic compass", "magnetometer")
-SAFE_DISTANCE_FOR = ("standard", "steering")
+if TYPE_CHECKING:
+    from .routing import Conductors
+
 DEFAULT_STATE = "as planned"
+
+
+def frozen_array(values, dtype=float) -> np.ndarray:
+    """A read-only copy, so a frozen plan cannot be changed through its arrays."""
+    array = np.array(values, dtype=dtype)
+    array.flags.writeable = False
+    return array
+
+
+def _freeze(obj, *names):
+    for name in names:
+        value = getattr(obj, name)
+        if value is not None:
+            object.__setattr__(obj, name, frozen_array(value))
+
+
+def name_key(name) -> str:
+    """Names of runs, points, circuits, states, sensors compare case- and space-insensitively."""
+    return " ".join(str(name).split()).lower()
 
 
 @dataclass(frozen=True)
@@ -33,11 +62,11 @@ class Finding:
         return f"{self.file}: {place}: {self.message}" if place else f"{self.file}: {self.message}"
 
 
-class PlanError(Exception):
-    """A plan with problems; ``findings`` lists all of them."""
+class PlanError(DeviationError):
+    """A plan with problems; ``findings`` lists all of them, each located."""
 
     def __init__(self, findings):
-        self.findings = list(findings)
+        self.findings = tuple(findings)
         super().__init__("\n".join(str(f) for f in self.findings))
 
 
@@ -51,16 +80,45 @@ class Site:
     altitude_m: float
     horizontal_ut: float | None       # override of the model, e.g. measured on site
     vertical_ut: float | None
+    notes: tuple[tuple[str, str], ...] = ()   # (setting, note) as the plan gave them
+
+
+@dataclass(frozen=True)
+class Circuit:
+    """A circuit: its current in every operating state, and how it switches.
+
+    ``switching`` is "with states" (the current is what the state column says), "independent"
+    (the load may be on or off on top of any state, at the current its cell gives in that state),
+    or "independent, reversing" (on either way round, or off).
+    """
+
+    name: str
+    currents_a: np.ndarray            # (K,) amperes in each state
+    switching: str = "with states"
+    note: str = ""
+    row: int | None = None
+
+    def __post_init__(self):
+        _freeze(self, "currents_a")
+
+    @property
+    def independent(self) -> bool:
+        return self.switching != "with states"
+
+    @property
+    def reversing(self) -> bool:
+        return self.switching == "independent, reversing"
 
 
 @dataclass(frozen=True)
 class Run:
     name: str
-    circuits: tuple
+    circuits: tuple[str, ...]
     geometry: RunGeometry
     size: str | None
     note: str
-    row: int
+    row: int | None
+    lie: str = "not known"            # paired runs: how the two conductors lie
 
 
 @dataclass(frozen=True)
@@ -72,7 +130,15 @@ class Sensor:
     reference_state: str | None
     max_heel_deg: float
     note: str
-    row: int
+    row: int | None
+    max_pitch_deg: float = 0.0
+    used_in: tuple[str, ...] | None = None   # states it is relied on in; None: every state
+
+    def __post_init__(self):
+        _freeze(self, "position_m")
+
+    def used_in_state(self, state: str) -> bool:
+        return self.used_in is None or state in self.used_in
 
 
 @dataclass(frozen=True)
@@ -83,27 +149,113 @@ class Equipment:
     safe_distance_for: str | None
     moment_am2: float | None
     axis: np.ndarray | None           # unit vector, or None for the worst orientation
-    states: tuple | None              # None: present in every state
+    states: tuple[str, ...] | None    # None: present in every state
     note: str
-    row: int
+    row: int | None
 
-    def present_in(self, state):
+    def __post_init__(self):
+        _freeze(self, "position_m", "axis")
+
+    def present_in(self, state: str) -> bool:
         return self.states is None or state in self.states
 
 
-@dataclass
+@dataclass(frozen=True)
+class CandidateSpot:
+    name: str
+    position_m: np.ndarray
+
+    def __post_init__(self):
+        _freeze(self, "position_m")
+
+
+@dataclass(frozen=True, eq=False)
 class Plan:
+    """A validated plan. Frozen, and compared by identity: a changed plan is a new value.
+
+    Attributes
+    ----------
+    circuits : tuple of Circuit
+        Every circuit with its current per state. A plan without a states sheet has one circuit
+        per run, named after the run.
+    runs : tuple of Run
+        Each run names the circuits it carries; its current is their sum.
+    """
+
     source: str
     site: Site
-    points: dict
-    runs: list
-    state_names: list
-    run_currents_a: np.ndarray        # (R, K) amperes of each run in each state
-    sensors: list
-    equipment: list = field(default_factory=list)
-    spots: list = field(default_factory=list)   # (name, (3,) position) candidates to rank
-    conductors: object = None         # the routed runs (routing.Conductors), made once by the reader
+    points: tuple[tuple[str, np.ndarray], ...]
+    runs: tuple[Run, ...]
+    state_names: tuple[str, ...]
+    circuits: tuple[Circuit, ...]
+    sensors: tuple[Sensor, ...]
+    equipment: tuple[Equipment, ...] = ()
+    spots: tuple[CandidateSpot, ...] = ()
+    circuits_from_runs: bool = False  # no states sheet: each run is its own circuit
+    notes: dict = field(default_factory=dict, compare=False)  # sheet -> free-text column titles
+
+    def __post_init__(self):
+        for name in ("runs", "state_names", "circuits", "sensors", "equipment", "spots",
+                     "points"):
+            object.__setattr__(self, name, tuple(getattr(self, name)))
 
     @property
-    def imperial(self):
+    def imperial(self) -> bool:
         return self.site.units in ("ft", "in")
+
+    def sensor(self, name: str) -> Sensor:
+        """The sensor of this name (case and spaces ignored), or :class:`UnknownSensorError`."""
+        for sensor in self.sensors:
+            if name_key(sensor.name) == name_key(name):
+                return sensor
+        raise UnknownSensorError(name, tuple(s.name for s in self.sensors))
+
+    def state_index(self, state: str) -> int:
+        return self.state_names.index(state)
+
+    @property
+    def circuit_matrix(self) -> np.ndarray:
+        """(R, C) incidence: 1 where run r carries circuit c."""
+        index = {name_key(c.name): i for i, c in enumerate(self.circuits)}
+        matrix = np.zeros((len(self.runs), len(self.circuits)))
+        for r, run in enumerate(self.runs):
+            for name in run.circuits:
+                matrix[r, index[name_key(name)]] += 1.0
+        return matrix
+
+    @property
+    def circuit_currents_a(self) -> np.ndarray:
+        """(C, K) amperes of every circuit in every state."""
+        return np.array([c.currents_a for c in self.circuits], dtype=float).reshape(
+            len(self.circuits), len(self.state_names))
+
+    @property
+    def independent(self) -> np.ndarray:
+        """(C,) True for circuits that switch on their own."""
+        return np.array([c.independent for c in self.circuits], dtype=bool)
+
+    @property
+    def run_currents_a(self) -> np.ndarray:
+        """(R, K) amperes of each run in each state, from the circuits that switch with the
+        states (independent circuits off)."""
+        base = self.circuit_currents_a * ~self.independent[:, None]
+        return self.circuit_matrix @ base
+
+
+_ROUTED: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
+
+
+def conductors_of(plan: Plan) -> Conductors:
+    """The routed conductors of a plan's runs.
+
+    Routing is a function of the plan: the result is remembered for this plan object only
+    (plans are frozen and compared by identity), so a plan made with ``dataclasses.replace``
+    is always routed afresh.
+    """
+    from .routing import route_runs
+
+    routed = _ROUTED.get(plan)
+    if routed is None:
+        routed = route_runs([r.geometry for r in plan.runs])
+        _ROUTED[plan] = routed
+    return routed

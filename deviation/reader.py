@@ -13,7 +13,7 @@ import difflib
 import math
 import re
 import zipfile
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 
 import numpy as np
@@ -21,12 +21,11 @@ import numpy as np
 from . import units
 from .constants import WMM_VALID_FROM, WMM_VALID_UNTIL
 from .geomag import decimal_year
-from .plan import (DEFAULT_STATE, SAFE_DISTANCE_FOR, SENSOR_KINDS, Equipment, Finding, Plan,
-                   PlanError, Run, Sensor, Site)
-from .routing import CHORDS_PER_LAY, RETURN_KINDS, RunGeometry, route_runs
-
-SHEETS = ("site", "points", "runs", "states", "sensors", "equipment", "spots")
-REQUIRED_SHEETS = ("runs", "sensors")
+from .plan import (DEFAULT_STATE, CandidateSpot, Circuit, Equipment, Finding, Plan, PlanError,
+                   Run, Sensor, Site, conductors_of, frozen_array, name_key)
+from .routing import CHORDS_PER_LAY, RunGeometry
+from .schema import (PAIR_LIES, REQUIRED_SHEETS, RETURN_KINDS, SAFE_DISTANCE_FOR, SENSOR_KINDS,
+                     SHEETS, SITE_SETTINGS, STATES_TEXT_COLUMNS, SWITCHING, columns_of)
 #: Rows per sheet beyond which a plan is refused (a wiring plan has hundreds, not millions).
 MAX_ROWS = 20_000
 #: Straight segments one run, and a whole plan, may need (a 100 m twisted run of 5 mm lay is
@@ -39,22 +38,7 @@ MAX_UNZIPPED_BYTES = 100 * 1024 * 1024
 MAX_MEMBER_BYTES = 50 * 1024 * 1024
 MAX_ZIP_RATIO = 200
 
-COLUMNS = {
-    "site": {"required": ("setting", "value"), "known": ("setting", "value", "note")},
-    "points": {"required": ("point", "x", "y", "z"), "known": ("point", "x", "y", "z", "note")},
-    "runs": {"required": ("run", "route", "return"),
-             "known": ("run", "circuits", "route", "return", "return_route", "spacing", "lay",
-                       "size", "current_a", "note")},
-    "sensors": {"required": ("sensor", "at", "kind", "budget_deg"),
-                "known": ("sensor", "at", "kind", "budget_deg", "reference_state", "max_heel_deg",
-                          "note")},
-    "spots": {"required": ("spot", "at"), "known": ("spot", "at", "note")},
-    "equipment": {"required": ("item", "at"),
-                  "known": ("item", "at", "safe_distance", "safe_distance_for", "moment_am2",
-                            "axis", "states", "note")},
-}
-SITE_SETTINGS = ("units", "latitude", "longitude", "date", "altitude_m", "horizontal_field_ut",
-                 "vertical_field_ut")
+COLUMNS = {name: columns_of(name) for name in SHEETS if name != "states"}
 
 
 def canonical(name) -> str:
@@ -62,9 +46,8 @@ def canonical(name) -> str:
     return re.sub(r"[\s_]+", "_", str(name).strip().lower())
 
 
-def key(name) -> str:
-    """Names of runs, points, circuits, states, sensors: compared case- and space-insensitively."""
-    return re.sub(r"\s+", " ", str(name).strip().lower())
+#: Names of runs, points, circuits, states, sensors: compared case- and space-insensitively.
+key = name_key
 
 
 @dataclass
@@ -116,7 +99,7 @@ def _table(name, label, grid, first_row, collector):
             continue
         columns[col] = str(cell).strip()
         positions[col] = index
-        if name == "states" and index > 0 and col != "note":
+        if name == "states" and index > 0 and col not in STATES_TEXT_COLUMNS:
             state_columns.append((col, str(cell).strip()))
     data = []
     for number, cells in rows[1:]:
@@ -404,19 +387,20 @@ def _read_points(sheet, unit, collector):
 
 
 def _read_states(sheet, collector):
-    """Circuit currents: ({circuit key: (K,) amperes}, [state names], {circuit key: name})."""
+    """Circuit currents: ({circuit key: (K,) amperes}, [state names], {circuit key: name},
+    {circuit key: (switching, note, row)})."""
     if sheet is None:
-        return None, [DEFAULT_STATE], {}
+        return None, [DEFAULT_STATE], {}, {}
     if "circuit" not in sheet.columns:
         first = next(iter(sheet.columns.values()), None)
         if first is None or canonical(first) != "circuit":
             collector.add("states", None, "circuit", "the first column must be circuit")
-            return {}, [], {}
+            return {}, [], {}, {}
     states = [label for _, label in sheet.state_columns]
     if not states:
         collector.add("states", None, None, "no operating states: add a column per state "
                       "(e.g. harbour, night motoring) holding each circuit's current in A")
-    currents, names = {}, {}
+    currents, names, details = {}, {}, {}
     for number, row in sheet.rows:
         circuit = row.get("circuit")
         if circuit is None:
@@ -433,7 +417,23 @@ def _read_states(sheet, collector):
         # A bad cell is reported above; the circuit stays known so runs naming it find it.
         currents[key(circuit)] = np.array([0.0 if v is None else v for v in values], dtype=float)
         names[key(circuit)] = str(circuit)
-    return currents, states, names
+        switching = _choice(row.get("switching"), SWITCHING, "with states", collector, "states",
+                            number, "switching", "a way of switching")
+        details[key(circuit)] = (switching, str(row.get("note") or ""), number)
+    return currents, states, names, details
+
+
+def _choice(value, choices, default, collector, sheet, row, column, what):
+    """One of ``choices`` (case and spaces ignored), the default when blank, else a finding."""
+    if value is None:
+        return default
+    wanted = key(value).replace(" ,", ",")
+    for choice in choices:
+        if key(choice) == wanted or key(choice).replace(",", "") == wanted.replace(",", ""):
+            return choice
+    collector.add(sheet, row, column, f'"{value}" is not {what}; expected one of '
+                  f'{", ".join(choices)}{_suggest(str(value), choices)}')
+    return default
 
 
 def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, collector):
@@ -523,8 +523,17 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
                                   f"states sheet{_suggest(circuit, list(circuit_names.values()))}")
                 else:
                     run_current = run_current + circuit_currents[key(circuit)]
+        lie = "not known"
+        if row.get("lie") is not None:
+            lie = _choice(row["lie"], PAIR_LIES, "not known", collector, "runs", number, "lie",
+                          "a way a pair lies")
+            if kind != "paired":
+                collector.add("runs", number, "lie", f'lie is only used with return "paired", '
+                              f'not "{kind}"')
         if len(collector.findings) > bad:
             continue
+        route = frozen_array(route)
+        back = None if back is None else frozen_array(back)
         geometry = RunGeometry(name, route, kind, back, spacing, lay, radius)
         length = np.linalg.norm(np.diff(route, axis=0), axis=1).sum()
         if length == 0:
@@ -536,7 +545,8 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
                           f"{lay * 1000:.1f} mm lay needs {segments:,.0f} segments, more than the "
                           f"{MAX_SEGMENTS_PER_RUN:,} a run may have; check the lay and the route")
             continue
-        runs.append(Run(name, circuits, geometry, size_label, str(row.get("note") or ""), number))
+        runs.append(Run(name, circuits, geometry, size_label, str(row.get("note") or ""), number,
+                        lie))
         currents.append(run_current)
         total_segments += segments
     if total_segments > MAX_SEGMENTS:
@@ -615,16 +625,41 @@ def _read_sensors(sheet, site, points, states, collector):
                               f"{_suggest(str(reference), states)}")
             else:
                 reference = matches[0]
-        heel = 0.0
-        if row.get("max_heel_deg") is not None:
-            heel = _number(row["max_heel_deg"], "a number of degrees", collector, "sensors",
-                           number, "max_heel_deg")
-            if heel is not None and not 0 <= heel <= 90:
-                collector.add("sensors", number, "max_heel_deg", "the heel must be 0 to 90 degrees")
+        heel, pitch = (_angle(row.get(column), what, collector, number, column)
+                       for column, what in (("max_heel_deg", "heel"), ("max_pitch_deg", "pitch")))
+        used_in = _state_list(row.get("used_in"), states, collector, "sensors", number, "used_in")
+        used_in = used_in or None                   # a cell of only separators: every state
         if len(collector.findings) == bad:
             sensors.append(Sensor(str(name), position, kind, budget, reference, heel,
-                                  str(row.get("note") or ""), number))
+                                  str(row.get("note") or ""), number, pitch, used_in))
     return sensors
+
+
+def _angle(value, what, collector, row, column):
+    """A largest heel or pitch in degrees, 0 to 90; blank is 0."""
+    if value is None:
+        return 0.0
+    angle = _number(value, "a number of degrees", collector, "sensors", row, column)
+    if angle is not None and not 0 <= angle <= 90:
+        collector.add("sensors", row, column, f"the {what} must be 0 to 90 degrees")
+    return angle
+
+
+def _state_list(value, states, collector, sheet, row, column):
+    """States named in a cell, separated by ; (None when blank: every state)."""
+    if value is None:
+        return None
+    found = []
+    for part in str(value).split(";"):
+        if not part.strip():
+            continue
+        matches = [s for s in states if key(s) == key(part)]
+        if not matches:
+            collector.add(sheet, row, column, f'"{part.strip()}" is not a state'
+                          f"{_suggest(part, states)}")
+        elif matches[0] not in found:
+            found.append(matches[0])
+    return tuple(found)
 
 
 def _read_equipment(sheet, site, points, states, collector):
@@ -665,17 +700,8 @@ def _read_equipment(sheet, site, points, states, collector):
         else:
             collector.add("equipment", number, "safe_distance", "give safe_distance (from the "
                           "label) or moment_am2")
-        present = None
-        if row.get("states") is not None:
-            present = []
-            for part in str(row["states"]).split(";"):
-                matches = [s for s in states if key(s) == key(part)]
-                if not matches:
-                    collector.add("equipment", number, "states", f'"{part.strip()}" is not a state'
-                                  f"{_suggest(part, states)}")
-                else:
-                    present.append(matches[0])
-            present = tuple(present)
+        present = _state_list(row.get("states"), states, collector, "equipment", number,
+                              "states")
         if len(collector.findings) == bad:
             items.append(Equipment(str(name), position, safe, safe_for, moment, axis, present,
                                    str(row.get("note") or ""), number))
@@ -692,14 +718,14 @@ def _read_spots(sheet, site, points, collector):
             continue
         position = _position(row["at"], points, site.units, collector, "spots", number, "at")
         if position is not None:
-            spots.append((str(row.get("spot") or f"row {number}"), position))
+            spots.append(CandidateSpot(str(row.get("spot") or f"row {number}"), position))
     return spots
 
 
 def _check_sensors_outside_conductors(plan, collector):
     from .field import point_segment_distance
 
-    conductors = plan.conductors
+    conductors = conductors_of(plan)
     if not len(conductors) or not plan.sensors:
         return
     positions = np.array([s.position_m for s in plan.sensors])
@@ -716,7 +742,13 @@ def _check_sensors_outside_conductors(plan, collector):
 
 
 def read_plan(path) -> Plan:
-    """Read and validate a plan; raises :class:`PlanError` with every finding."""
+    """Read and validate a plan (.xlsx workbook or folder of .csv sheets).
+
+    Raises
+    ------
+    PlanError
+        With every finding, each naming the file, sheet, row and column.
+    """
     path = Path(path)
     collector = _Collector(str(path))
     if not path.exists():
@@ -728,6 +760,55 @@ def read_plan(path) -> Plan:
     else:
         raise PlanError([Finding(str(path), None, None, None, "a plan is an .xlsx workbook or a "
                                  "folder of .csv sheets (site.csv, runs.csv, ...)")])
+    return _plan_from_sheets(sheets, str(path), collector)
+
+
+def plan_from_tables(tables, source="<tables>") -> Plan:
+    """Make and validate a plan from tables given in Python.
+
+    Parameters
+    ----------
+    tables : mapping of sheet name to table
+        Each table is a pandas DataFrame, a list of dicts (one per row), or a list of rows whose
+        first row is the header, in the layout of the workbook (docs/plan-format.md).
+    source : str
+        What findings name as the file.
+
+    Raises
+    ------
+    PlanError
+        With every finding, located by sheet, row and column (rows counted as in a workbook:
+        the header is row 1).
+    """
+    collector = _Collector(source)
+    sheets = {}
+    for label, table in tables.items():
+        name = canonical(label)
+        if name not in SHEETS:
+            continue
+        sheet = _table(name, str(label), _grid(table), 1, collector)
+        if sheet is not None:
+            sheets[name] = sheet
+    return _plan_from_sheets(sheets, source, collector)
+
+
+def _grid(table):
+    """A table as a header row and value rows."""
+    if hasattr(table, "columns") and hasattr(table, "itertuples"):        # a DataFrame
+        rows = [list(table.columns)] + [list(r) for r in table.itertuples(index=False)]
+        return [[None if _missing(v) else v for v in row] for row in rows]
+    table = list(table)
+    if table and isinstance(table[0], dict):
+        header = list(dict.fromkeys(k for row in table for k in row))
+        return [header] + [[row.get(k) for k in header] for row in table]
+    return [list(row) for row in table]
+
+
+def _missing(value):
+    return isinstance(value, float) and math.isnan(value)
+
+
+def _plan_from_sheets(sheets, source, collector) -> Plan:
     if collector.findings and not sheets:
         raise PlanError(collector.findings)
     reported = {f.sheet for f in collector.findings}
@@ -736,7 +817,8 @@ def read_plan(path) -> Plan:
             collector.add(name, None, None, "the sheet is missing")
     site = _read_site(sheets.get("site"), collector)
     points = _read_points(sheets.get("points"), site.units, collector)
-    circuit_currents, states, circuit_names = _read_states(sheets.get("states"), collector)
+    circuit_currents, states, circuit_names, details = _read_states(sheets.get("states"),
+                                                                    collector)
     runs, run_currents = _read_runs(sheets.get("runs"), site, points, circuit_currents, len(states),
                                     circuit_names, collector)
     sensors = _read_sensors(sheets.get("sensors"), site, points, states, collector)
@@ -744,9 +826,15 @@ def read_plan(path) -> Plan:
     if "sensors" in sheets and not sensors and not collector.findings:
         collector.add("sensors", None, None, "the plan has no sensors to check")
     spots = _read_spots(sheets.get("spots"), site, points, collector)
-    plan = Plan(str(path), site, dict(points), runs, states, run_currents, sensors, equipment, spots)
-    if not collector.findings:
-        plan.conductors = route_runs([r.geometry for r in plan.runs])
+    if circuit_currents is None:        # no states sheet: each run is its own circuit
+        circuits = [Circuit(run.name, run_currents[r], row=run.row) for r, run in enumerate(runs)]
+        runs = [replace(run, circuits=(run.name,)) for run in runs]
+    else:
+        circuits = [Circuit(circuit_names[k], circuit_currents[k], *details[k])
+                    for k in circuit_currents]
+    plan = Plan(source, site, tuple((name, points[key(name)]) for name in points.names), runs,
+                states, circuits, sensors, equipment, spots,
+                circuits_from_runs=circuit_currents is None)
     if not collector.findings:
         _check_sensors_outside_conductors(plan, collector)
     if collector.findings:

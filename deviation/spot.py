@@ -3,11 +3,9 @@
 The figure is the one held against the sensor's budget (worst state, heel and reference-state
 change, with equipment bounds), evaluated at candidate positions instead of the sensor's own.
 
-A box is searched coarse to fine: a coarse grid finds the promising cells, a grid at the requested
-step refines each of them, and the best few hundred fine candidates are ranked with the exact
-figure. Where the sensor has a reference state, the coarse and fine stages screen with the
-first-order change asin(|delta b_h|/H), which is exact in the limit of small disturbances, the very
-places a good spot lies; only the final ranking uses the exact change over headings.
+A box is searched coarse to fine: a coarse grid finds the promising cells, and a grid at the
+requested step refines each of them. Every stage evaluates the held figure itself (it is closed
+form: see :mod:`deviation.budget`), so the ranking needs no separate exact pass.
 """
 
 from __future__ import annotations
@@ -17,20 +15,19 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .analysis import budget_figures, equipment_arrays, run_fields_at
+from .analysis import evaluate_sensor, run_fields_at
+from .budget import budget_figures, equipment_fields
 from .field import segment_field
 
 #: Largest number of points in the coarse stage.
 COARSE_POINTS = 40_000
 #: Coarse cells refined at the fine step.
 REFINED_CELLS = 24
-#: Fine candidates ranked with the exact figure.
-EXACT_CANDIDATES = 300
 #: Points evaluated per call of the field kernel (bounds memory: P x K x 3 doubles).
 CHUNK_POINTS = 200_000
 
 
-@dataclass
+@dataclass(frozen=True)
 class Spot:
     position_m: np.ndarray
     budget_used_deg: float
@@ -40,30 +37,43 @@ class Spot:
     name: str | None = None           # the spots sheet's name for it, if any
 
 
-@dataclass
+@dataclass(frozen=True)
 class SpotSearch:
     sensor: object
-    spots: list
+    spots: tuple
     current: Spot | None              # the sensor's own position, for comparison
     evaluated: int                    # positions whose figure was computed
     grid_points: int                  # positions of the full grid at the requested step
     step_m: float | None
     region: tuple | None
 
+    def to_frame(self):
+        """One row per spot, best first: position [m], held figure [deg], worst state."""
+        import pandas
 
-def _figures_at(plan, sensor, site, conductors, currents, points, exact, progress=None):
-    """Worst figure over states at each point (P,), its state index (P,), and inside mask (P,)."""
+        return pandas.DataFrame([{
+            "rank": i, "name": s.name, "x_m": s.position_m[0], "y_m": s.position_m[1],
+            "z_m": s.position_m[2], "budget_used_deg": s.budget_used_deg,
+            "worst_state": s.worst_state, "within_budget": s.within_budget,
+            "dominant_runs": "; ".join(f"{n} {share * 100:.0f} %" for n, share in s.dominant_runs)}
+            for i, s in enumerate(self.spots, start=1)])
+
+
+def _figures_at(plan, sensor, site, conductors, currents, points, progress=None):
+    """Worst figure over used states at each point (P,), its state index (P,), inside mask (P,)."""
     worst = np.empty(len(points))
     which = np.empty(len(points), dtype=int)
     inside = np.zeros(len(points), dtype=bool)
+    used_states = np.array([sensor.used_in_state(s) for s in plan.state_names])
+    reference = plan.state_index(sensor.reference_state) if sensor.reference_state else None
     for p0 in range(0, len(points), CHUNK_POINTS):
         chunk = points[p0:p0 + CHUNK_POINTS]
         fields, hit = segment_field(conductors.start_m, conductors.end_m, currents, chunk,
                                     radius_m=conductors.radius_m, return_inside=True)
-        oriented, bound, changing = equipment_arrays(plan, sensor, chunk, site.horizontal_t)
-        figures = budget_figures(plan, sensor, site, fields + oriented, bound, changing,
-                                 exact=exact)
-        used = figures.budget_used_deg
+        items = equipment_fields(plan, sensor, chunk, site.horizontal_t)
+        figures = budget_figures(sensor, site.horizontal_t, fields + items.oriented, items.bound,
+                                 items.changing, reference)
+        used = np.where(used_states[None, :], figures.budget_used_deg, -np.inf)
         worst[p0:p0 + len(chunk)] = used.max(axis=1)
         which[p0:p0 + len(chunk)] = used.argmax(axis=1)
         inside[p0:p0 + len(chunk)] = hit
@@ -99,7 +109,8 @@ def _distinct_best(points, figure, count, min_separation):
     return np.array(chosen, dtype=int)
 
 
-def _spot(plan, conductors, position, figure, state_index, budget, reference_state=None):
+def _spot(plan, conductors, position, figure, state_index, budget, reference_state=None,
+          name=None):
     unit, _ = run_fields_at(conductors, len(plan.runs), position[None, :])
     k = state_index
     per_run = unit[0] * plan.run_currents_a[:, k][:, None]
@@ -112,7 +123,7 @@ def _spot(plan, conductors, position, figure, state_index, budget, reference_sta
     dominant = [(plan.runs[r].name, float(sizes[r] / total)) for r in order if total > 0
                 and sizes[r] > 0]
     return Spot(position.copy(), float(figure), plan.state_names[k],
-                bool(figure <= budget), dominant)
+                bool(figure <= budget), tuple(dominant), name)
 
 
 def search_box(plan, analysis, sensor, low_m, high_m, step_m, *, progress=None, top=10):
@@ -151,13 +162,11 @@ def search_box(plan, analysis, sensor, low_m, high_m, step_m, *, progress=None, 
         coarse, coarse_step = _points(fine_axes), step_m
     refine = coarse_step > step_m
     expected = len(coarse) + (REFINED_CELLS * int(math.ceil(2 * coarse_step / step_m + 1)) **
-                              int((span > 0).sum()) if refine else 0) + EXACT_CANDIDATES
+                              int((span > 0).sum()) if refine else 0)
     advance = progress(expected) if progress else None
 
-    exact_screen = sensor.reference_state is None
-    figure, _, _ = _figures_at(plan, sensor, site, conductors, currents, coarse, exact_screen,
-                               advance)
-    candidates, candidate_figure = coarse, figure
+    figure, state, _ = _figures_at(plan, sensor, site, conductors, currents, coarse, advance)
+    candidates, candidate_figure, candidate_state = coarse, figure, state
     if refine:
         seeds = _distinct_best(coarse, figure, REFINED_CELLS, 1.5 * coarse_step)
         fine = []
@@ -167,43 +176,41 @@ def search_box(plan, analysis, sensor, low_m, high_m, step_m, *, progress=None, 
             axes = [a[(a >= l_ - 1e-12) & (a <= h_ + 1e-12)] for a, l_, h_ in zip(fine_axes, lo, hi)]
             fine.append(_points(axes))
         fine = np.unique(np.concatenate(fine), axis=0)
-        fine_figure, _, _ = _figures_at(plan, sensor, site, conductors, currents, fine,
-                                        exact_screen, advance)
+        fine_figure, fine_state, _ = _figures_at(plan, sensor, site, conductors, currents, fine,
+                                                 advance)
         candidates = np.concatenate([coarse, fine])
         candidate_figure = np.concatenate([figure, fine_figure])
-    best = np.argsort(candidate_figure, kind="stable")[:EXACT_CANDIDATES]
-    best = best[np.isfinite(candidate_figure[best])]
-    exact, state, _ = _figures_at(plan, sensor, site, conductors, currents, candidates[best],
-                                  True, advance)
-    pick = _distinct_best(candidates[best], exact, top, 2 * step_m - 1e-12)
-    spots = [_spot(plan, conductors, candidates[best][i], exact[i], state[i], sensor.budget_deg,
-                   sensor.reference_state) for i in pick]
+        candidate_state = np.concatenate([state, fine_state])
+    pick = _distinct_best(candidates, candidate_figure, top, 2 * step_m - 1e-12)
+    spots = tuple(_spot(plan, conductors, candidates[i], candidate_figure[i], candidate_state[i],
+                        sensor.budget_deg, sensor.reference_state) for i in pick)
     return SpotSearch(sensor, spots, _current(plan, analysis, sensor), len(candidates),
                       grid_points, step_m, (low, high))
 
 
 def rank_positions(plan, analysis, sensor, positions_m, names=None):
-    """Rank given candidate positions (e.g. a spots sheet) by the exact figure, best first."""
+    """Rank given candidate positions (e.g. a spots sheet) by the held figure, best first."""
     site, conductors = analysis.site, analysis.conductors
     currents = conductors.segment_currents(plan.run_currents_a)
     positions = np.asarray(positions_m, dtype=float).reshape(-1, 3)
-    figure, state, inside = _figures_at(plan, sensor, site, conductors, currents, positions, True)
+    figure, state, inside = _figures_at(plan, sensor, site, conductors, currents, positions)
     order = np.argsort(figure, kind="stable")
-    spots = []
-    for i in order:
-        spot = _spot(plan, conductors, positions[i], figure[i], state[i], sensor.budget_deg,
-                     sensor.reference_state)
-        spot.name = names[i] if names else None
-        spots.append(spot)
+    spots = tuple(_spot(plan, conductors, positions[i], figure[i], state[i], sensor.budget_deg,
+                        sensor.reference_state, names[i] if names else None) for i in order)
     return SpotSearch(sensor, spots, _current(plan, analysis, sensor), len(positions),
                       len(positions), None, None)
 
 
 def _current(plan, analysis, sensor):
-    result = next(r for r in analysis.sensors if r.sensor is sensor)
-    worst = max(result.states, key=lambda s: s.budget_used_deg)
-    return Spot(sensor.position_m.copy(), worst.budget_used_deg, worst.state,
-                worst.budget_used_deg <= sensor.budget_deg, [])
+    """The sensor where it is now (a what-if sensor not in the plan is evaluated afresh)."""
+    result = next((r for r in analysis.sensors if r.sensor is sensor), None)
+    if result is None:
+        unit, nearest = run_fields_at(analysis.conductors, len(plan.runs),
+                                      sensor.position_m[None, :])
+        result = evaluate_sensor(plan, sensor, analysis.site, unit[0], nearest[0])
+    worst = result.worst
+    return Spot(np.array(sensor.position_m), worst.budget_used_deg, worst.state,
+                worst.budget_used_deg <= sensor.budget_deg, ())
 
 
 def slice_map(plan, analysis, sensor, low_m, high_m, z_m, resolution=160):
@@ -217,6 +224,5 @@ def slice_map(plan, analysis, sensor, low_m, high_m, z_m, resolution=160):
     points = _points([x, y, np.array([z_m])])
     conductors = analysis.conductors
     currents = conductors.segment_currents(plan.run_currents_a)
-    figure, _, _ = _figures_at(plan, sensor, analysis.site, conductors, currents, points,
-                               sensor.reference_state is None)
+    figure, _, _ = _figures_at(plan, sensor, analysis.site, conductors, currents, points)
     return x, y, figure.reshape(len(x), len(y))

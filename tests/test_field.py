@@ -21,7 +21,7 @@ def polygon(vertices):
 
 @pytest.mark.parametrize("backend", BACKENDS)
 def test_long_wire_matches_mu0_i_over_2pi_r(backend):
-    # Griffiths ch. 5: B = mu0 I / (2 pi d); 10 A at 0.5 m -> 4.000 uT (check-values.md).
+    # Griffiths, Introduction to Electrodynamics, ch. 5: B = mu0 I / (2 pi d); 10 A at 0.5 m -> 4.000 uT.
     b = segment_field([[-1e4, 0, 0]], [[1e4, 0, 0]], [10.0], [[0, 0.5, 0]], backend=backend)
     assert np.linalg.norm(b) * 1e6 == pytest.approx(4.000, rel=1e-7)
     # Right-hand rule: current along +x, observer at +y -> field along +z.
@@ -31,7 +31,7 @@ def test_long_wire_matches_mu0_i_over_2pi_r(backend):
 @pytest.mark.parametrize("backend", BACKENDS)
 def test_finite_segment_matches_sin_theta_formula(backend):
     # Griffiths eq. 5.37, B = mu0 I/(4 pi d)(sin t2 - sin t1): 1 m, 1 A, 1 m off the midpoint
-    # on the perpendicular -> 0.089443 uT (check-values.md).
+    # on the perpendicular -> 0.089443 uT (Griffiths, ch. 5, finite segment).
     b = segment_field([[-0.5, 0, 0]], [[0.5, 0, 0]], [1.0], [[0, 1.0, 0]], backend=backend)
     assert np.linalg.norm(b) * 1e6 == pytest.approx(0.089443, abs=5e-7)
     assert np.linalg.norm(b) == pytest.approx(1e-7 * 2 * 0.5 / math.sqrt(1.25), rel=1e-12)
@@ -39,7 +39,7 @@ def test_finite_segment_matches_sin_theta_formula(backend):
 
 @pytest.mark.parametrize("backend", BACKENDS)
 def test_square_loop_centre_is_2sqrt2_mu0_i_over_pi_a(backend):
-    # Textbook: B = 2 sqrt(2) mu0 I / (pi a); a = 1 m, 1 A -> 1.13137 uT (check-values.md).
+    # Textbook: B = 2 sqrt(2) mu0 I / (pi a); a = 1 m, 1 A -> 1.13137 uT (Griffiths, ch. 5).
     start, end = polygon([[-.5, -.5, 0], [.5, -.5, 0], [.5, .5, 0], [-.5, .5, 0]])
     b = segment_field(start, end, np.ones(4), [[0, 0, 0]], backend=backend)
     assert b[0, 2] * 1e6 == pytest.approx(1.13137, abs=5e-6)
@@ -61,7 +61,7 @@ def test_polygon_of_many_sides_converges_to_circular_loop_on_axis():
 
 
 def test_two_wire_line_matches_mu0_i_s_over_2pi_r1_r2():
-    # Textbook two-wire line (check-values.md): |B| = mu0 I s / (2 pi r1 r2) for infinite wires;
+    # Two-wire line (Griffiths, ch. 5, by superposition): |B| = mu0 I s / (2 pi r1 r2) for infinite wires;
     # 10 A, s = 5 mm, d = 0.5 m -> 0.0400 uT.
     s, d, current = 0.005, 0.5, 10.0
     start = [[-1e4, s / 2, 0], [1e4, -s / 2, 0]]
@@ -73,7 +73,8 @@ def test_two_wire_line_matches_mu0_i_s_over_2pi_r1_r2():
 
 
 def test_supply_and_return_either_side_of_sensor_add_to_2mu0_i_over_pi_r():
-    # check-values.md: B = 2 mu0 I / (pi r); 5 A, r = 0.2 m -> 20.0 uT.
+    # Two long wires, sensor midway (Griffiths, ch. 5, superposition): B = 2 mu0 I / (pi r);
+    # 5 A, r = 0.2 m -> 20.0 uT.
     start = [[-1e4, 0.1, 0], [1e4, -0.1, 0]]
     end = [[1e4, 0.1, 0], [-1e4, -0.1, 0]]
     b = segment_field(start, end, [5.0, 5.0], [[0, 0, 0]])
@@ -81,7 +82,7 @@ def test_supply_and_return_either_side_of_sensor_add_to_2mu0_i_over_pi_r():
 
 
 def test_small_loop_far_away_matches_dipole():
-    # check-values.md: 0.1 m square loop, 1 A (m = 0.01 A m^2), at 2 m on its axis 2.500e-4 uT,
+    # Dipole of a small loop, m = I A (Griffiths, ch. 5-6): 0.1 m square loop, 1 A (m = 0.01 A m^2), at 2 m on its axis 2.500e-4 uT,
     # in its plane 1.250e-4 uT (Griffiths eq. 5.89).
     start, end = polygon([[-.05, -.05, 0], [.05, -.05, 0], [.05, .05, 0], [-.05, .05, 0]])
     observers = [[0, 0, 2.0], [2.0, 0, 0]]

@@ -14,7 +14,7 @@ HEADINGS = np.linspace(0, 360, 36001)
 
 
 def test_current_forward_below_compass_pulls_east_on_north_heading():
-    # check-values.md (right-hand rule derivation): current flowing forward in a cable directly
+    # Right-hand rule (derivation, Griffiths ch. 5): current flowing forward in a cable directly
     # below the compass makes a field to starboard; heading north, that is easterly deviation.
     b = segment_field([[-50, 0, -0.3]], [[50, 0, -0.3]], [10.0], [[0, 0, 0]])[0]
     assert b[1] < 0                                            # to starboard (y is port)
@@ -35,7 +35,7 @@ def test_reversed_current_flips_deviation():
 
 
 def test_4ut_on_20ut_gives_11p54_degrees():
-    # check-values.md: asin(|b|/H), b = 4 uT, H = 20 uT -> 11.54 deg (derived; NGA Pub. 226).
+    # asin(|b|/H), b = 4 uT, H = 20 uT -> 11.54 deg (derived; NGA Pub. 226, semicircular deviation).
     b = np.array([0.0, 4.0, 0.0])
     assert hd.max_deviation_deg(b, 20.0) == pytest.approx(11.54, abs=0.005)
     sampled = np.abs(hd.deviation_deg(b, 20.0, HEADINGS)).max()
@@ -56,8 +56,8 @@ def test_semicircular_b_and_c_are_p_and_q_over_h():
 
 
 @pytest.mark.parametrize("true, variation, magnetic, deviation, compass", [
-    (152, -5, 157, -7, 164),      # check-values.md worked row (standard navigation practice)
-    (98, -10, 108, 4, 104),       # check-values.md worked row
+    (152, -5, 157, -7, 164),      # worked row: Magnetic = Compass + Deviation, True = Magnetic + Variation (Bowditch, American Practical Navigator, ch. on compass error)
+    (98, -10, 108, 4, 104),       # worked row, same rules (Bowditch)
 ])
 def test_heading_conversions_worked_rows(true, variation, magnetic, deviation, compass):
     assert hd.magnetic_from_true(true, variation) == magnetic
@@ -67,7 +67,7 @@ def test_heading_conversions_worked_rows(true, variation, magnetic, deviation, c
 
 
 def test_heeling_error_largest_north_south_zero_east_west():
-    # Compass practice (check-values.md): a vertical vessel field heeled gives deviation largest
+    # Heeling error (NGA Pub. 226, chapter on heeling error): a vertical vessel field heeled gives deviation largest
     # on north and south headings and none on east and west.
     b = np.array([0.0, 0.0, -2.0])                 # vessel field straight down
     on = {psi: float(hd.deviation_deg(b, 20.0, psi, heel_deg=15.0)) for psi in (0, 90, 180, 270)}

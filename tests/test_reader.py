@@ -25,11 +25,11 @@ def test_sample_plans_load(name):
 def test_sailboat_reads_units_sizes_and_states():
     plan = read_plan(SAMPLES / "cruising_sailboat")
     windlass = next(r for r in plan.runs if r.name == "windlass feed")
-    # 2/0 AWG: default spacing one insulated diameter, 13.5 mm (from memory, check-values.md).
+    # 2/0 AWG: default spacing one insulated diameter, 13.5 mm (from memory).
     assert windlass.geometry.spacing_m == pytest.approx(0.0135)
     stern = next(r for r in plan.runs if r.name == "stern light")
     assert stern.geometry.lay_m == pytest.approx(0.025)            # "25 mm"
-    assert plan.state_names == ["harbour", "night motoring", "anchoring"]
+    assert plan.state_names == ("harbour", "night motoring", "anchoring")
     k = plan.state_names.index("anchoring")
     assert plan.run_currents_a[plan.runs.index(windlass), k] == 85     # the sample's states.csv
 

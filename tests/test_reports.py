@@ -17,36 +17,49 @@ def run(*args):
     return CliRunner().invoke(main, [str(a) for a in args])
 
 
-def test_card_matches_the_deviation_formula_at_every_heading():
+def _atan2_deviation(bx, by, h, heading_deg):
     # delta = atan2(b_E, H + b_N) with b_N = b_x cos(psi) + b_y sin(psi),
     # b_E = b_x sin(psi) - b_y cos(psi) for a vessel field (x forward, y port), level
     # (NGA Pub. 226; written out here independently of the package).
+    psi = math.radians(heading_deg)
+    north = bx * math.cos(psi) + by * math.sin(psi)
+    east = bx * math.sin(psi) - by * math.cos(psi)
+    return math.degrees(math.atan2(east, h + north))
+
+
+def test_card_matches_the_deviation_formula_at_every_heading():
+    # The sailboat's sensors are adjusted in "harbour": the card they steer by is the deviation
+    # of the residual field b - b_ref that the correctors leave; the unadjusted one is beside it.
     check = json.loads(run("check", SAMPLES / "cruising_sailboat", "--json").output)
     card = json.loads(run("card", SAMPLES / "cruising_sailboat", "--json", "--step", "5").output)
     h = check["site"]["horizontal_ut"]
     for sensor_check, sensor_card in zip(check["sensors"], card["sensors"]):
+        reference = next(s for s in sensor_check["states"]
+                         if s["state"] == sensor_check["reference_state"])
+        rx, ry, _ = reference["field_ut"]
         for state_check, state_card in zip(sensor_check["states"], sensor_card["states"]):
             bx, by, _ = state_check["field_ut"]
             assert len(state_card["headings"]) == 72
             for row in state_card["headings"]:
-                psi = math.radians(row["heading_deg"])
-                north = bx * math.cos(psi) + by * math.sin(psi)
-                east = bx * math.sin(psi) - by * math.cos(psi)
-                expected = math.degrees(math.atan2(east, h + north))
+                expected = _atan2_deviation(bx - rx, by - ry, h, row["heading_deg"])
                 assert row["deviation_deg"] == pytest.approx(expected, abs=2e-4)
+                assert row["unadjusted_deviation_deg"] == pytest.approx(
+                    _atan2_deviation(bx, by, h, row["heading_deg"]), abs=2e-4)
                 # Compass = Magnetic - Deviation (standard navigation practice).
                 assert row["compass_deg"] == pytest.approx((row["heading_deg"] - expected) % 360,
                                                            abs=2e-4)
 
 
-def test_card_change_from_reference_and_plot(tmp_path):
+def test_card_of_an_adjusted_magnetometer_has_no_heading_to_steer(tmp_path):
     plot = tmp_path / "curves.png"
     result = run("card", SAMPLES / "survey_drone", "--json", "--plot", plot)
     assert result.exit_code == 0, result.output
     data = json.loads(result.output)
     states = data["sensors"][0]["states"]
-    assert all(row["change_from_reference_deg"] == 0 for row in states[0]["headings"])
-    assert any(abs(row["change_from_reference_deg"]) > 0.1 for row in states[2]["headings"])
+    # In its reference state an adjusted sensor reads no deviation from the wiring at all.
+    assert all(row["deviation_deg"] == 0 for row in states[0]["headings"])
+    assert any(abs(row["deviation_deg"]) > 0.1 for row in states[2]["headings"])
+    assert all(row["compass_deg"] is None for row in states[2]["headings"])
     assert plot.read_bytes()[:4] == b"\x89PNG"
 
 

@@ -28,7 +28,7 @@ def test_paired_return_lies_to_port_of_a_forward_run():
 
 
 def test_paired_run_matches_two_wire_line_far_field():
-    # check-values.md: two-wire line |B| = mu0 I s / (2 pi r1 r2) (textbook), long pair, middle.
+    # Two-wire line |B| = mu0 I s / (2 pi r1 r2) (textbook), long pair, middle.
     s, d = 0.005, 0.5
     run = RunGeometry("r", np.array([[-500.0, 0, 0], [500.0, 0, 0]]), "paired", spacing_m=s)
     b = field_of(run, [[0, s / 2, d]])     # on the pair's midplane
@@ -58,7 +58,7 @@ def test_separate_return_is_closed_through_load_and_source():
     assert np.allclose(np.sum(end * sign[:, None], axis=0), np.sum(start * sign[:, None], axis=0))
     # A closed 2 m x 0.5 m rectangle: at its centre B = mu0 I sqrt(a^2 + b^2) / (pi a b) for
     # sides 2a x 2b (sum of four finite-segment fields, Griffiths eq. 5.37; a = b gives the
-    # square-loop value of check-values.md).
+    # square-loop value, Griffiths ch. 5).
     b = field_of(run, [[1.0, 0, -0.25]])
     a_, b_ = 1.0, 0.25
     assert np.linalg.norm(b) == pytest.approx(MU0 * math.hypot(a_, b_) / (math.pi * a_ * b_),

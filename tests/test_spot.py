@@ -8,7 +8,8 @@ from click.testing import CliRunner
 
 from conftest import SAMPLES
 from deviation import spot as spot_module
-from deviation.analysis import analyse, budget_figures, equipment_arrays
+from deviation.analysis import analyse
+from deviation.budget import budget_figures, equipment_fields
 from deviation.cli import main
 from deviation.field import segment_field
 from deviation.reader import read_plan
@@ -57,8 +58,10 @@ def test_coarse_to_fine_matches_brute_force_on_a_sample(monkeypatch):
     fields, inside = segment_field(conductors.start_m, conductors.end_m,
                                    conductors.segment_currents(plan.run_currents_a), points,
                                    radius_m=conductors.radius_m, return_inside=True)
-    oriented, bound, changing = equipment_arrays(plan, sensor, points, analysis.site.horizontal_t)
-    figures = budget_figures(plan, sensor, analysis.site, fields + oriented, bound, changing)
+    items = equipment_fields(plan, sensor, points, analysis.site.horizontal_t)
+    reference = plan.state_index(sensor.reference_state) if sensor.reference_state else None
+    figures = budget_figures(sensor, analysis.site.horizontal_t, fields + items.oriented,
+                             items.bound, items.changing, reference)
     brute = np.where(inside, np.inf, figures.budget_used_deg.max(axis=1))
     assert result.spots[0].budget_used_deg == pytest.approx(brute.min(), abs=1e-9)
 
@@ -66,7 +69,8 @@ def test_coarse_to_fine_matches_brute_force_on_a_sample(monkeypatch):
 def test_spots_sheet_is_ranked_best_first(plan_dir):
     plan = read_plan(plan_dir(twin_feeds()))
     result = spot_module.rank_positions(plan, analyse(plan), plan.sensors[0],
-                                        [p for _, p in plan.spots], [n for n, _ in plan.spots])
+                                        [s.position_m for s in plan.spots],
+                                        [s.name for s in plan.spots])
     assert [s.name for s in result.spots] == ["midline", "off", "far off"]
     assert result.spots[0].budget_used_deg < 1e-9
 

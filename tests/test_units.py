@@ -31,7 +31,7 @@ def test_awg_diameters_from_astm_b258():
     ("10 AWG", 4.3), ("2/0 AWG", 13.5), ("4/0 awg", 16.3), ("16 mm2", 8.0), ("2.5 mm²", 3.7),
 ])
 def test_default_spacing_is_one_insulated_diameter(text, outer_mm):
-    # Insulated diameters from memory (±15 %), check-values.md table.
+    # Insulated diameters from memory (±15 %).
     assert conductor_size(text)[2] * 1000 == pytest.approx(outer_mm)
 
 

@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import math
 
-from .common import CAUTIONS
+from . import view, words
+from .words import CAUTIONS
 
 
 def _ut(vector_t):
@@ -28,46 +29,70 @@ def site_json(site):
         "inclination_deg": _deg(site.inclination_deg),
         "source": site.source,
         "zone": site.zone,
+        "date": site.date_text,
         "decimal_year": round(site.decimal_year, 4),
         "declination_uncertainty_deg": _deg(site.declination_uncertainty_deg),
     }
 
 
-def state_json(state):
+def state_json(sensor, state, unit_system, plan_source):
+    rows, _ = view.budget_rows(sensor, state, all_runs=True)
+    runs = [r for r in rows if not r.is_item]
+    items = [r for r in rows if r.is_item]
+    by_run = {r.name: r for r in state.runs}
+    by_item = {e.name: e for e in state.equipment}
     return {
         "state": state.state,
+        "used": state.used,
+        "is_reference": state.is_reference,
         "field_ut": _ut(state.field_t),
+        "vector_deviation_deg": _deg(state.vector_deviation_deg),
         "max_deviation_deg": _deg(state.max_deviation_deg),
         "change_from_reference_deg": _deg(state.change_from_reference_deg),
         "heeled_max_deviation_deg": _deg(state.heeled_max_deviation_deg),
+        "attitude_change_deg": _deg(state.attitude_change_deg),
         "budget_used_deg": _deg(state.budget_used_deg),
         "within_budget": state.within_budget,
         "overwhelmed": state.overwhelmed,
         "magnitude_bound_deg": _deg(state.magnitude_bound_deg),
         "percent_of_total_field": round(state.fraction_of_total * 100, 4),
-        "runs": [{"run": r.name, "current_a": round(r.current_a, 6), "field_ut": _ut(r.field_t),
+        "totals": [{"figure": t.label, "deg": _deg(t.value_deg), "held": t.held}
+                   for t in view.total_rows(sensor, state)],
+        "runs": [{"run": r.name, "current_a": round(r.current_a, 6),
+                  "field_ut": _ut(by_run[r.name].field_t),
                   "max_deviation_deg": _deg(r.max_deviation_deg), "nearest_m": _m(r.nearest_m),
-                  "change_from_reference_deg": _deg(r.change_from_reference_deg),
-                  "share_of_budget": round(r.share_of_budget, 6)} for r in state.runs],
-        "equipment": [{"item": e.name, "distance_m": _m(e.distance_m), "kind": e.kind,
-                       "field_ut": None if e.field_t is None else _ut(e.field_t),
-                       "bound_ut": round(e.bound_t * 1e6, 6),
-                       "max_deviation_deg": _deg(e.max_deviation_deg),
-                       "inside_safe_distance": e.inside_safe_distance} for e in state.equipment],
-        "hints": [hint_json(h) for h in state.hints],
+                  "change_from_reference_deg": _deg(r.change_deg),
+                  "share_of_budget": round(r.share_of_budget, 6)} for r in runs],
+        "equipment": [{"item": r.name, "distance_m": _m(r.nearest_m), "kind": by_item[r.name].kind,
+                       "field_ut": None if r.bound else _ut(by_item[r.name].field_t),
+                       "bound_ut": round(by_item[r.name].bound_t * 1e6, 6),
+                       "max_deviation_deg": _deg(r.max_deviation_deg),
+                       "adjusted_out": r.compensated,
+                       "inside_safe_distance": by_item[r.name].inside_safe_distance}
+                      for r in items],
+        "hints": [remedy_json(m, unit_system, plan_source) for m in state.remedies],
     }
 
 
-def hint_json(hint):
-    return {"run": hint.run, "action": hint.action, "before_deg": _deg(hint.before_deg),
-            "after_deg": _deg(hint.after_deg), "within_budget_after": hint.within_after,
-            "clearance_m": _m(hint.clearance_m)}
+def remedy_json(remedy, unit_system, plan_source):
+    return {"run": remedy.run, "kind": remedy.kind,
+            "action": words.remedy_action(remedy, unit_system, plan_source),
+            "before_deg": _deg(remedy.before_deg), "after_deg": _deg(remedy.after_deg),
+            "within_budget_after": remedy.within_after, "clearance_m": _m(remedy.clearance_m),
+            "spacing_m": _m(remedy.spacing_m), "lay_m": _m(remedy.lay_m)}
 
 
-def analysis_json(analysis, findings=()):
+def finding_json(finding):
+    return {"sensor": finding.sensor, "state": finding.state, "rule": finding.rule,
+            "message": words.finding_message(finding), "source": words.finding_source(finding)}
+
+
+def analysis_json(analysis):
     """The whole result as a JSON-ready dict."""
+    plan = analysis.plan
+    summary = {row.sensor: row for row in view.summary_rows(analysis)}
     return {
-        "plan": analysis.plan.source,
+        "plan": plan.source,
         "site": site_json(analysis.site),
         "within_budget": analysis.within_budget,
         "sensors": [{
@@ -76,11 +101,15 @@ def analysis_json(analysis, findings=()):
             "position_m": [round(float(v), 6) for v in s.sensor.position_m],
             "budget_deg": s.sensor.budget_deg,
             "reference_state": s.sensor.reference_state,
+            "used_in": None if s.sensor.used_in is None else list(s.sensor.used_in),
             "max_heel_deg": s.sensor.max_heel_deg,
+            "max_pitch_deg": s.sensor.max_pitch_deg,
+            "adjustment_absorbs_deg": _deg(summary[s.sensor.name].adjustment_absorbs_deg),
             "within_budget": s.within_budget,
-            "states": [state_json(st) for st in s.states],
+            "verdict": summary[s.sensor.name].verdict,
+            "states": [state_json(s.sensor, st, plan.site.units, plan.source) for st in s.states],
         } for s in analysis.sensors],
-        "findings": [f.as_json() for f in findings],
+        "findings": [finding_json(f) for f in analysis.findings],
         "cautions": list(CAUTIONS),
     }
 
@@ -109,11 +138,10 @@ def cards_json(cards):
         "reference_state": c.sensor.reference_state,
         "states": [{
             "state": st.state,
-            "headings": [{"heading_deg": float(psi), "deviation_deg": _deg(d),
-                          "compass_deg": _deg(cmp),
-                          "change_from_reference_deg": None if st.change_deg is None
-                          else _deg(st.change_deg[i])}
-                         for i, (psi, d, cmp) in enumerate(zip(st.headings_deg, st.deviation_deg,
-                                                               st.compass_deg))]}
+            "headings": [{"heading_deg": float(psi), "deviation_deg": _deg(st.deviation_deg[i]),
+                          "compass_deg": _deg(st.compass_deg[i]) if c.steers else None,
+                          "unadjusted_deviation_deg": None if st.unadjusted_deg is None
+                          else _deg(st.unadjusted_deg[i])}
+                         for i, psi in enumerate(st.headings_deg)]}
             for st in c.states]} for c in cards],
         "cautions": list(CAUTIONS)}

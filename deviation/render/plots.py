@@ -26,7 +26,7 @@ def _scale(plan):
     return LENGTH_UNITS[plan.site.units], plan.site.units
 
 
-def _draw_runs(axes, conductors, plan, alpha=0.9, scale=1.0):
+def _draw_runs(axes, plan, alpha=0.9, scale=1.0):
     for run in plan.runs:
         route = run.geometry.route_m / scale
         axes.plot(route[:, 1], route[:, 0], lw=1.4, alpha=alpha, color="#333333")
@@ -37,7 +37,7 @@ def _draw_runs(axes, conductors, plan, alpha=0.9, scale=1.0):
         axes.annotate(run.name, (middle[1], middle[0]), fontsize=6, color="#333333", alpha=0.8)
 
 
-def spot_map(plan, analysis, search, x, y, figure, path):
+def spot_map(plan, search, x, y, figure, path):
     """Map of the worst-case figure over a horizontal slice, with runs, sensor and best spots."""
     plt = _pyplot()
     from matplotlib.colors import LogNorm
@@ -56,7 +56,7 @@ def spot_map(plan, analysis, search, x, y, figure, path):
     bar = fig.colorbar(mesh, ax=ax, shrink=0.8)
     bar.set_label(f"figure held against the budget [deg] (white line: the {sensor.budget_deg:g}° "
                   "budget)")
-    _draw_runs(ax, analysis.conductors, plan, scale=scale)
+    _draw_runs(ax, plan, scale=scale)
     here = sensor.position_m / scale
     ax.plot(here[1], here[0], marker="x", ms=10, mew=2, color="red", label="sensor now",
             clip_on=False)
@@ -98,14 +98,14 @@ def deviation_curves(sensor_name, headings_deg, curves, path=None, ylabel="devia
     return data
 
 
-def plan_view(plan, analysis, path=None):
+def plan_view(plan, path=None):
     """Plan view of the runs and sensors (x forward up the page, y port to the left)."""
     plt = _pyplot()
     scale, unit = _scale(plan)
     routes = [r.geometry.route_m for r in plan.runs] + [s.position_m[None] for s in plan.sensors]
     everything = np.concatenate(routes) / scale
     fig, ax = plt.subplots(figsize=(6, 7), dpi=130)
-    _draw_runs(ax, analysis.conductors, plan, scale=scale)
+    _draw_runs(ax, plan, scale=scale)
     for sensor in plan.sensors:
         here = sensor.position_m / scale
         ax.plot(here[1], here[0], marker="o", ms=7, color="red")
@@ -165,11 +165,7 @@ def _save(fig, path):
     return data
 
 
-def card_curves(card, site, path=None):
+def card_curves(card, path=None):
     """Deviation curves of one sensor's card, drawn every degree, all states."""
-    from ..heading import deviation_deg
-
-    headings = np.linspace(0, 360, 361)
-    curves = {st.state: deviation_deg(st.field_t, site.horizontal_t, headings)
-              for st in card.states}
-    return deviation_curves(card.sensor.name, headings, curves, path)
+    curves = {st.state: st.curve_deviation_deg for st in card.states}
+    return deviation_curves(card.sensor.name, card.states[0].curve_headings_deg, curves, path)

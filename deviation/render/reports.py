@@ -18,23 +18,24 @@ import numpy as np
 from .. import __version__
 from ..card import cards
 from ..files import check_output, write_atomically
-from ..units import LENGTH_UNITS, format_length
-from .common import CAUTIONS, degrees, verdict
+from ..units import LENGTH_UNITS
+from . import view, words
+from .words import CAUTIONS, degrees
 
 
 class ReportError(ValueError):
     """A report that cannot be written as asked."""
 
 
-def write_report(analysis, findings, path):
+def write_report(analysis, path):
     """Write the report chosen by the file's suffix (.xlsx or .html)."""
     path = Path(path)
     check_output(path, analysis.plan.source)
     suffix = path.suffix.lower()
     if suffix == ".xlsx":
-        write_atomically(path, lambda temporary: _xlsx(analysis, findings).save(temporary))
+        write_atomically(path, lambda temporary: _xlsx(analysis).save(temporary))
     elif suffix in (".html", ".htm"):
-        text = html_report(analysis, findings)
+        text = html_report(analysis)
 
         def save(temporary):
             Path(temporary).write_text(text, encoding="utf-8")
@@ -53,41 +54,21 @@ def _length(plan, metres):
     return float(metres) / LENGTH_UNITS[plan.site.units]
 
 
-def _run_rows(plan, sensor, st):
-    """(name, current A, nearest, horiz µT, vert µT, max deg, change deg, share %) per run/item."""
-    rows = []
-    for r in st.runs:
-        horiz = float(np.hypot(r.field_t[0], r.field_t[1]))
-        rows.append([r.name, r.current_a, _length(plan, r.nearest_m), horiz * 1e6,
-                     float(r.field_t[2]) * 1e6, r.max_deviation_deg,
-                     r.change_from_reference_deg, r.share_of_budget * 100])
-    for e in st.equipment:
-        oriented = e.field_t is not None
-        horiz = float(np.hypot(e.field_t[0], e.field_t[1])) if oriented else e.bound_t
-        counted = 0.0 if e.compensated else e.max_deviation_deg
-        rows.append([e.name + ("" if oriented else " (bound)"), None, _length(plan, e.distance_m),
-                     horiz * 1e6, float(e.field_t[2]) * 1e6 if oriented else None,
-                     e.max_deviation_deg,
-                     ("adjusted" if e.compensated else counted) if sensor.reference_state else None,
-                     counted / sensor.budget_deg * 100])
-    return rows
-
-
-def _totals(sensor, st):
-    figure = (f"change from {sensor.reference_state}" if sensor.reference_state
-              else "absolute deviation")
-    heel = f", worst heel ±{sensor.max_heel_deg:g}°" if sensor.max_heel_deg else ""
-    return [("all together (vector sum)", st.vector_deviation_deg),
-            ("if every field lined up", st.magnitude_bound_deg),
-            ("with equipment bounds", st.max_deviation_deg),
-            (f"held against the budget ({figure}{heel})", st.budget_used_deg)]
+def _run_rows(plan, sensor, st, all_runs=True):
+    """(name, current A, nearest, horiz µT, vert µT, alone deg, residual deg, share %) per row."""
+    rows, _ = view.budget_rows(sensor, st, all_runs=all_runs)
+    return [[r.name + (" (bound)" if r.bound else ""), r.current_a, _length(plan, r.nearest_m),
+             r.horizontal_t * 1e6, None if r.vertical_t is None else r.vertical_t * 1e6,
+             r.max_deviation_deg,
+             ("adjusted" if r.compensated else r.change_deg) if sensor.reference_state else None,
+             r.share_of_budget * 100] for r in rows]
 
 
 #: Number formats of the run table's columns after the name, in the html report.
 HTML_FORMATS = ("{:g}", "{:.3f}", "{:.3f}", "{:.3f}", "{:.2f}", "{:.2f}", "{:.0f}")
 
 RUN_HEADERS = ["run / item", "current [A]", "nearest [{u}]", "horizontal [µT]", "vertical [µT]",
-               "max deviation [°]", "change from reference [°]", "budget used [%]"]
+               "alone [°]", "residual after adjustment [°]", "share of budget [%]"]
 
 
 # xlsx -----------------------------------------------------------------------------------------------
@@ -103,7 +84,8 @@ def _sheet_name(name, taken):
     return candidate
 
 
-def _xlsx(analysis, findings):
+def _xlsx(analysis):
+    findings = analysis.findings
     from openpyxl import Workbook
     from openpyxl.styles import Alignment, Font, PatternFill
 
@@ -169,20 +151,21 @@ def _xlsx(analysis, findings):
         sheet.freeze_panes = "A5"
         row = 5
         for st in result.states:
-            put(sheet, row, 1, f"{st.state}: {degrees(st.budget_used_deg, st.overwhelmed)}° of "
-                f"{s.budget_deg:g}°, {verdict(st, s.budget_deg)}",
-                font=ok_font if st.within_budget else over_font)
+            put(sheet, row, 1, view.state_title(s, st),
+                font=ok_font if st.within_budget or not st.used else over_font)
             row += 1
             for values in _run_rows(plan, s, st):
                 for c, v in enumerate(values, start=1):
                     put(sheet, row, c, v, None if c == 1 or isinstance(v, str) else "0.000")
                 row += 1
-            for label, value in _totals(s, st):
-                put(sheet, row, 1, label, font=bold)
-                put(sheet, row, 6, value, "0.00", font=bold)
+            for total in view.total_rows(s, st):
+                put(sheet, row, 1, total.label, font=bold)
+                value = total.value_deg
+                put(sheet, row, 6, value if value is not None and value < 180 else degrees(value),
+                    "0.00", font=bold)
                 row += 1
-            for hint in st.hints:
-                put(sheet, row, 1, "hint: " + hint.text())
+            for remedy in st.remedies:
+                put(sheet, row, 1, "remedy: " + words.remedy_text(remedy, unit, plan.source))
                 row += 1
             row += 1
         widths(sheet, {"A": 40, "B": 12, "C": 13, "D": 15, "E": 13, "F": 16, "G": 22, "H": 16})
@@ -196,17 +179,21 @@ def _xlsx(analysis, findings):
         row += 1
         names = ["magnetic heading [°]"]
         for st in one.states:
-            names += [f"{st.state} deviation [°]", f"{st.state} steer [°]"]
-            if st.change_deg is not None:
-                names.append(f"{st.state} change [°]")
+            names.append(f"{st.state} deviation [°]")
+            if one.steers:
+                names.append(f"{st.state} steer [°]")
+            if st.unadjusted_deg is not None:
+                names.append(f"{st.state} before adjustment [°]")
         header(card_sheet, row, names)
         row += 1
         for i, psi in enumerate(one.states[0].headings_deg):
             values = [float(psi)]
             for st in one.states:
-                values += [float(st.deviation_deg[i]), float(st.compass_deg[i])]
-                if st.change_deg is not None:
-                    values.append(float(st.change_deg[i]))
+                values.append(float(st.deviation_deg[i]))
+                if one.steers:
+                    values.append(float(st.compass_deg[i]))
+                if st.unadjusted_deg is not None:
+                    values.append(float(st.unadjusted_deg[i]))
             for c, v in enumerate(values, start=1):
                 put(card_sheet, row, c, v, "0" if c == 1 else "0.00")
             row += 1
@@ -214,19 +201,21 @@ def _xlsx(analysis, findings):
     card_sheet.column_dimensions["A"].width = 20
 
     notes = book.create_sheet(_sheet_name("hints and findings", taken))
-    header(notes, 1, ["sensor", "state", "run", "hint or finding", "before [°]", "after [°]",
+    header(notes, 1, ["sensor", "state", "run", "remedy or finding", "before [°]", "after [°]",
                       "source"])
     row = 2
     for result in analysis.sensors:
         for st in result.states:
-            for hint in st.hints:
-                for c, v in enumerate([result.sensor.name, st.state, hint.run or "", hint.action,
-                                       hint.before_deg, hint.after_deg, "computed"], start=1):
+            for remedy in st.remedies:
+                for c, v in enumerate([result.sensor.name, st.state, remedy.run or "",
+                                       words.remedy_action(remedy, unit, plan.source),
+                                       remedy.before_deg, remedy.after_deg, "computed"], start=1):
                     put(notes, row, c, v, "0.00" if isinstance(v, float) else None)
                 row += 1
     for finding in findings:
-        for c, v in enumerate([finding.sensor or "", finding.state or "", "", finding.message,
-                               None, None, finding.source], start=1):
+        for c, v in enumerate([finding.sensor or "", finding.state or "", finding.subject or "",
+                               words.finding_message(finding), None, None,
+                               words.finding_source(finding)], start=1):
             put(notes, row, c, v)
         row += 1
     notes.freeze_panes = "A2"
@@ -267,7 +256,7 @@ table { border-collapse: collapse; width: 100%; margin: 1mm 0 2mm; font-size: 9p
 th, td { border: 1px solid #c8ced6; padding: 1.2mm 1.8mm; text-align: right; vertical-align: top; }
 th { background: #e4ebf3; } td:first-child, th:first-child { text-align: left; }
 tr.total td { font-weight: 600; background: #f5f7fa; }
-.over { color: #b00020; font-weight: 700; } .ok { color: #1b5e20; }
+.over { color: #b00020; font-weight: 700; } .ok { color: #1b5e20; } .unused { color: #777; }
 .meta { color: #555; font-size: 9pt; } .hint { margin: 0.5mm 0 0.5mm 4mm; }
 .caution { border: 1.5px solid #b26a00; background: #fff8ec; padding: 2mm 4mm; margin: 4mm 0; }
 figure { margin: 2mm 0; text-align: center; } img { max-width: 100%; height: auto; }
@@ -298,7 +287,8 @@ def _num(value, fmt="{:.2f}"):
     return text
 
 
-def html_report(analysis, findings):
+def html_report(analysis):
+    findings = analysis.findings
     """The report as one self-contained HTML document (styles and pictures inline)."""
     from . import plots
 
@@ -320,59 +310,53 @@ def html_report(analysis, findings):
     parts.append("<h2>Summary</h2><table><tr><th>sensor</th><th>budget [°]</th>"
                  + "".join(f"<th>{_e(s)} [°]</th>" for s in plan.state_names)
                  + "<th>verdict</th></tr>")
-    for result in analysis.sensors:
-        cells = "".join(f'<td class={"ok" if st.within_budget else "over"}>'
-                        f"{degrees(st.budget_used_deg, st.overwhelmed)}</td>"
-                        for st in result.states)
-        over = [st.state for st in result.states if not st.within_budget]
-        verdict_text = "within budget" if not over else "over in " + ", ".join(over)
-        parts.append(f"<tr><td>{_e(result.sensor.name)}</td><td>{result.sensor.budget_deg:g}</td>"
-                     f"{cells}<td class={'ok' if not over else 'over'}>{_e(verdict_text)}</td></tr>")
+    for row in view.summary_rows(analysis):
+        cells = "".join(f"<td class={c.status}>{_e(c.text)}</td>" for c in row.cells)
+        parts.append(f"<tr><td>{_e(row.sensor)}</td><td>{row.budget_deg:g}</td>"
+                     f"{cells}<td class={'ok' if row.within_budget else 'over'}>"
+                     f"{_e(row.verdict)}</td></tr>")
     parts.append("</table>")
     parts.append(_img(plots.budget_bars(analysis), "budget use by state"))
-    parts.append(_img(plots.plan_view(plan, analysis), "plan view of runs and sensors"))
+    parts.append(_img(plots.plan_view(plan), "plan view of runs and sensors"))
 
     card_list = cards(analysis, 15.0)
     for result, one in zip(analysis.sensors, card_list):
         s = result.sensor
-        adjusted = (f"adjusted in {_e(s.reference_state)}: the change from it counts"
-                    if s.reference_state else "not adjusted: the absolute deviation counts")
-        heel = f"; heel ±{s.max_heel_deg:g}°" if s.max_heel_deg else ""
         parts.append(f"<section class=sensor><h2>{_e(s.name)}</h2><p>{_e(s.kind)} at "
-                     + ", ".join(f"{axis} {format_length(v, unit)}"
-                                 for axis, v in zip("xyz", s.position_m))
-                     + f"; budget {s.budget_deg:g}°; {adjusted}{heel}</p>")
+                     f"{_e(words.position(s.position_m, unit))}; budget {s.budget_deg:g}°; "
+                     f"held figure: {_e(words.held_figure(s))}</p>")
         for st in result.states:
-            cls = "ok" if st.within_budget else "over"
-            parts.append(f"<h3 class={cls}>{_e(st.state)}: {degrees(st.budget_used_deg, st.overwhelmed)}"
-                         f"° of {s.budget_deg:g}° — {verdict(st, s.budget_deg)}</h3>")
+            cls = "unused" if not st.used else "ok" if st.within_budget else "over"
+            parts.append(f"<h3 class={cls}>{_e(view.state_title(s, st))}</h3>")
             parts.append("<table><tr>" + "".join(f"<th>{_e(h.format(u=unit))}</th>"
                                                  for h in RUN_HEADERS) + "</tr>")
-            for values in _run_rows(plan, s, st):
-                if values[7] is not None and values[7] < 0.5 and values[1] is not None:
-                    continue                      # runs below 0.5 % of the budget: omitted
+            for values in _run_rows(plan, s, st, all_runs=False):
                 cells = "".join(f"<td>{_num(v, fmt)}</td>" for v, fmt in zip(values[1:], HTML_FORMATS))
                 parts.append(f"<tr><td>{_e(values[0])}</td>{cells}</tr>")
-            for label, value in _totals(s, st):
-                parts.append(f"<tr class=total><td colspan=5>{_e(label)}</td>"
-                             f"<td>{degrees(value)}</td><td colspan=2></td></tr>")
+            for total in view.total_rows(s, st):
+                parts.append(f"<tr class=total><td colspan=5>{_e(total.label)}</td>"
+                             f"<td>{degrees(total.value_deg)}</td><td colspan=2></td></tr>")
             parts.append("</table><p class=meta>Runs below 0.5 % of the budget are omitted.</p>")
-            for hint in st.hints:
-                parts.append(f"<p class=hint>→ {_e(hint.text())}</p>")
+            for remedy in st.remedies:
+                parts.append(f"<p class=hint>→ {_e(words.remedy_text(remedy, unit, plan.source))}"
+                             "</p>")
         parts.append("<h3>Predicted deviation card</h3>")
-        parts.append(_img(plots.card_curves(one, site), f"deviation curves of {s.name}"))
+        parts.append(_img(plots.card_curves(one), f"deviation curves of {s.name}"))
         parts.append("<table><tr><th>magnetic [°]</th>"
-                     + "".join(f"<th>{_e(st.state)} deviation [°]</th><th>steer [°]</th>"
+                     + "".join(f"<th>{_e(st.state)} deviation [°]</th>"
+                               + ("<th>steer [°]</th>" if one.steers else "")
                                for st in one.states) + "</tr>")
         for i, psi in enumerate(one.states[0].headings_deg):
             parts.append(f"<tr><td>{psi:03.0f}</td>" + "".join(
-                f"<td>{_num(st.deviation_deg[i], '{:+.2f}')}</td><td>{st.compass_deg[i]:05.1f}</td>"
+                f"<td>{_num(st.deviation_deg[i], '{:+.2f}')}</td>"
+                + (f"<td>{st.compass_deg[i]:05.1f}</td>" if one.steers else "")
                 for st in one.states) + "</tr>")
         parts.append("</table></section>")
 
     parts.append("<section><h2>Findings</h2>")
     if findings:
-        parts.append("<ul>" + "".join(f"<li>{_e(f)}</li>" for f in findings) + "</ul>")
+        parts.append("<ul>" + "".join(f"<li>{_e(words.finding_text(f))}</li>" for f in findings)
+                     + "</ul>")
     else:
         parts.append("<p>No rule findings.</p>")
     parts.append("<h2>Cautions</h2><ul>" + "".join(f"<li>{_e(c)}</li>" for c in CAUTIONS)

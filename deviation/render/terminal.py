@@ -9,10 +9,18 @@ from rich.table import Table
 from rich.text import Text
 
 from ..units import format_length
-from .common import CAUTIONS, degrees, verdict
+from . import view, words
+from .words import CAUTIONS, degrees
+
+
+#: Width of tables written to a file or a pipe, where no terminal says how wide it is.
+PIPED_WIDTH = 120
+
 
 def make_console(file=None, width=None):
     console = Console(file=file, width=width, highlight=False)
+    if width is None and not console.is_terminal:
+        console = Console(file=file, width=PIPED_WIDTH, highlight=False)
     return console
 
 
@@ -20,11 +28,15 @@ def _box(console):
     return box.SIMPLE_HEAVY if console.is_terminal else box.ASCII2
 
 
-def _style(ok):
-    return "green" if ok else "bold red"
+def _style(status):
+    return {"ok": "green", "over": "bold red", "unused": "dim"}[status]
 
 
-def site_line(site, units_system):
+def _ok(flag):
+    return _style("ok" if flag else "over")
+
+
+def site_line(site):
     parts = [f"H {site.horizontal_t * 1e6:.2f} µT", f"Z {site.vertical_t * 1e6:.2f} µT",
              f"F {site.total_t * 1e6:.2f} µT"]
     if site.declination_deg is not None:
@@ -38,134 +50,134 @@ def site_line(site, units_system):
     return "  ".join(parts)
 
 
-def zone_warning(site):
-    if site.zone == "blackout":
-        return ("The site is in the blackout zone (H below 2 µT): a magnetic compass is unreliable "
-                "here whatever the wiring.")
-    if site.zone == "caution":
-        return ("The site is in the caution zone (H below 6 µT): compasses degrade here and small "
-                "disturbances give large deviations.")
-    return None
+def render_site(site, console):
+    """The site's field, one quantity a line."""
+    side = "E" if site.declination_deg >= 0 else "W"
+    when = site.date_text if not site.date_text.replace(".", "", 1).isdigit() else (
+        f"{site.decimal_year:.2f} (decimal year)")
+    console.print(Text(f"WMM2025 at {site.latitude_deg:.4f}°, {site.longitude_deg:.4f}°, "
+                       f"{site.altitude_m:g} m, {when}"))
+    lines = [("horizontal H", f"{site.horizontal_t * 1e6:9.3f} µT"),
+             ("vertical Z", f"{site.vertical_t * 1e6:9.3f} µT (down positive)"),
+             ("total F", f"{site.total_t * 1e6:9.3f} µT"),
+             ("declination", f"{abs(site.declination_deg):9.2f}° {side} "
+                             f"± {site.declination_uncertainty_deg:.2f}° "
+                             f"({site.declination_change_deg_per_year:+.2f}°/year)"),
+             ("inclination", f"{site.inclination_deg:9.2f}°"),
+             ("zone", {"ok": "ok", "caution": "CAUTION: H below 6 µT, compasses degrade",
+                       "blackout": "BLACKOUT: H below 2 µT, a magnetic compass is unreliable"}
+              [site.zone])]
+    for label, value in lines:
+        console.print(Text(f"  {label:<14} {value}"))
 
 
-def _where(position, unit):
-    return ", ".join(f"{axis} {format_length(v, unit)}" for axis, v in zip("xyz", position))
-
-
-def render_check(analysis, console, *, all_runs=False, findings=(), hints=True):
+def render_check(analysis, console, *, all_runs=False, hints=True):
     plan = analysis.plan
     unit = plan.site.units
     console.print(Text(f"Deviation budget · {plan.source}", style="bold"))
-    console.print(f"Site  {site_line(analysis.site, unit)}")
-    warning = zone_warning(analysis.site)
+    console.print(Text(f"Site  {site_line(analysis.site)}"))
+    warning = words.zone_warning(analysis.site)
     if warning:
         console.print(Text(warning, style="bold yellow"))
     console.print()
 
-    summary = Table(title="Figure held against each budget [deg]", box=_box(console),
+    summary = Table(title=Text("Figure held against each budget, degrees"), box=_box(console),
                     title_justify="left")
     summary.add_column("sensor")
     summary.add_column("budget", justify="right")
     for state in plan.state_names:
-        summary.add_column(state, justify="right")
+        summary.add_column(Text(state), justify="right")
     summary.add_column("verdict")
-    for result in analysis.sensors:
-        cells = [result.sensor.name, f"{result.sensor.budget_deg:g}"]
-        for st in result.states:
-            cells.append(Text(degrees(st.budget_used_deg, st.overwhelmed),
-                              style=_style(st.within_budget)))
-        over = [st.state for st in result.states if not st.within_budget]
-        cells.append(Text("within budget" if not over else "over in " + ", ".join(over),
-                          style=_style(not over)))
+    rows = view.summary_rows(analysis)
+    for row in rows:
+        cells = [Text(row.sensor), f"{row.budget_deg:g}"]
+        for cell in row.cells:
+            text = cell.text if cell.status != "unused" else f"({cell.text})"
+            cells.append(Text(text, style=_style(cell.status)))
+        cells.append(Text(row.verdict, style=_ok(row.within_budget)))
         summary.add_row(*cells)
     console.print(summary)
+    if any(c.status == "unused" for row in rows for c in row.cells):
+        console.print("  (in brackets: a state the sensor is not relied on in; not held against "
+                      "its budget)")
+    for row in rows:
+        if row.adjustment_absorbs_deg is not None:
+            console.print(f"  {row.sensor}: the adjustment in {row.reference_state!r} takes out "
+                          f"{words.with_degree_sign(row.adjustment_absorbs_deg)}")
 
     for result in analysis.sensors:
         _render_sensor(result, analysis, console, unit, all_runs, hints)
 
-    if findings:
+    if analysis.findings:
         console.print(Text("Findings", style="bold"))
-        for finding in findings:
-            console.print(f"  • {finding}")
+        for finding in analysis.findings:
+            console.print(Text(f"  • {words.finding_text(finding)}"))
         console.print()
     console.print(Text("Cautions", style="bold"))
     for caution in CAUTIONS:
         console.print(f"  • {caution}")
 
 
-#: Runs below this share of the budget are summed on one line unless all runs are asked for.
-NEGLIGIBLE_SHARE = 0.005
-
-
 def _render_sensor(result, analysis, console, unit, all_runs, hints):
     sensor = result.sensor
     console.print()
-    adjusted = (f"adjusted in {sensor.reference_state!r}, so the change from it counts"
+    adjusted = (f"adjusted in {sensor.reference_state!r}, so the residual after adjustment counts"
                 if sensor.reference_state else "not adjusted, so the absolute deviation counts")
-    heel = f"; heel ±{sensor.max_heel_deg:g}°" if sensor.max_heel_deg else ""
+    attitude = []
+    if sensor.max_heel_deg:
+        attitude.append(f"heel ±{sensor.max_heel_deg:g}°")
+    if sensor.max_pitch_deg:
+        attitude.append(f"pitch ±{sensor.max_pitch_deg:g}°")
     console.print(Text(f"{sensor.name}", style="bold underline"))
-    console.print(f"  {sensor.kind} at {_where(sensor.position_m, unit)}; budget "
-                  f"{sensor.budget_deg:g}°; {adjusted}{heel}")
+    console.print(Text(f"  {sensor.kind} at {words.position(sensor.position_m, unit)}; budget "
+                       f"{sensor.budget_deg:g}°; {adjusted}"
+                       + ("; " + ", ".join(attitude) if attitude else "")))
+    if sensor.used_in is not None:
+        console.print(Text("  relied on in: " + ", ".join(sensor.used_in)))
     for st in result.states:
         _render_state(st, sensor, analysis, console, unit, all_runs, hints)
 
 
 def _render_state(st, sensor, analysis, console, unit, all_runs, hints):
     reference = sensor.reference_state
-    is_reference = reference == st.state
-    title = (f"{st.state}: {degrees(st.budget_used_deg, st.overwhelmed)}° of "
-             f"{sensor.budget_deg:g}° — {verdict(st, sensor.budget_deg)}"
-             + (" (the reference state)" if is_reference else ""))
+    status = "unused" if not st.used else "ok" if st.within_budget else "over"
     console.print()
-    console.print(Text(title, style=_style(st.within_budget)))
+    console.print(Text(view.state_title(sensor, st), style=_style(status)))
     table = Table(box=_box(console), padding=(0, 1), pad_edge=False)
     table.add_column("run / item", ratio=1, overflow="fold")
-    for name in ("A", "nearest", "horiz µT", "vert µT", "max °"):
+    for name in ("A", "nearest", "horiz µT", "vert µT", "alone °"):
         table.add_column(name, justify="right", no_wrap=True)
     if reference:
-        table.add_column("change °", justify="right", no_wrap=True)
-    table.add_column("budget", justify="right", no_wrap=True)
-    if all_runs:
-        shown, hidden = st.runs, []
-    else:
-        shown = [r for r in st.runs if r.share_of_budget >= NEGLIGIBLE_SHARE] or st.runs[:1]
-        hidden = [r for r in st.runs if r not in shown]
-    for run in shown:
-        horiz = float(np.hypot(run.field_t[0], run.field_t[1]))
-        row = [run.name, f"{run.current_a:g}", format_length(run.nearest_m, unit),
-               f"{horiz * 1e6:.3f}", f"{run.field_t[2] * 1e6:.3f}",
-               degrees(run.max_deviation_deg)]
+        table.add_column("residual °", justify="right", no_wrap=True)
+    table.add_column("of budget", justify="right", no_wrap=True)
+    rows, hidden = view.budget_rows(sensor, st, all_runs=all_runs)
+    for row in rows:
+        cells = [Text(row.name + (" ≤" if row.bound else "")),
+                 "" if row.current_a is None else f"{row.current_a:g}",
+                 format_length(row.nearest_m, unit), f"{row.horizontal_t * 1e6:.3f}",
+                 "" if row.vertical_t is None else f"{row.vertical_t * 1e6:.3f}",
+                 degrees(row.max_deviation_deg)]
         if reference:
-            row.append(degrees(run.change_from_reference_deg))
-        row.append(f"{run.share_of_budget * 100:.0f} %")
-        table.add_row(*row)
-    for item in st.equipment:
-        oriented = item.field_t is not None
-        size = float(np.hypot(item.field_t[0], item.field_t[1])) if oriented else item.bound_t
-        counted = 0.0 if item.compensated else item.max_deviation_deg
-        table.add_row(item.name + ("" if oriented else " ≤"), "", format_length(item.distance_m, unit),
-                      f"{size * 1e6:.3f}", f"{item.field_t[2] * 1e6:.3f}" if oriented else "",
-                      degrees(item.max_deviation_deg),
-                      *(["adjusted" if item.compensated else degrees(counted)] if reference else []),
-                      f"{counted / sensor.budget_deg * 100:.0f} %")
+            cells.append("adjusted" if row.compensated else degrees(row.change_deg))
+        cells.append(f"{row.share_of_budget * 100:.0f} %")
+        table.add_row(*cells)
     console.print(table)
     if hidden:
-        console.print(f"  {len(hidden)} more run(s) below {NEGLIGIBLE_SHARE * 100:g} % of the "
+        console.print(f"  {hidden} more run(s) below {view.NEGLIGIBLE_SHARE * 100:g} % of the "
                       "budget each (--all-runs lists them)")
-    if any(item.field_t is None for item in st.equipment):
+    if any(row.bound for row in rows):
         console.print("  ≤ an upper bound: labelled safe distance (IEC 60945) or a magnet of "
                       "unknown orientation")
-    lined_up = f"; if every field lined up {degrees(st.magnitude_bound_deg)}°"
-    bounds = (f"; with equipment bounds {degrees(st.max_deviation_deg)}°"
-              if st.equipment_bound_t else "")
-    console.print(f"  all together (vector sum) {degrees(st.vector_deviation_deg)}°{lined_up}"
-                  f"{bounds}")
-    figure = f"change from {reference!r}" if reference else "absolute deviation"
-    heel_word = f", worst heel ±{sensor.max_heel_deg:g}°" if sensor.max_heel_deg else ""
-    share = "" if st.overwhelmed else f" ({st.budget_used_deg / sensor.budget_deg * 100:.0f} %)"
-    console.print(Text(f"  held against the budget ({figure}{heel_word}): "
-                       f"{degrees(st.budget_used_deg, st.overwhelmed)}° of "
-                       f"{sensor.budget_deg:g}°{share}", style=_style(st.within_budget)))
+    for total in view.total_rows(sensor, st):
+        line = f"  {total.label}: {words.with_degree_sign(total.value_deg)}"
+        if total.held:
+            share = ("" if st.overwhelmed else
+                     f" ({st.budget_used_deg / sensor.budget_deg * 100:.0f} % of the budget)")
+            console.print(Text(f"  {total.label}: "
+                               f"{words.with_degree_sign(st.budget_used_deg, st.overwhelmed)} of "
+                               f"{sensor.budget_deg:g}°{share}", style=_style(status)))
+        else:
+            console.print(Text(line))
     if sensor.kind == "magnetometer":
         console.print(f"  disturbance {st.fraction_of_total * 100:.1f} % of the Earth's total "
                       f"field ({analysis.site.total_t * 1e6:.1f} µT)")
@@ -173,8 +185,8 @@ def _render_state(st, sensor, analysis, console, unit, all_runs, hints):
         console.print(Text("  The disturbance is at least as strong as the Earth's horizontal "
                            "field here: the sensor can point anywhere.", style="bold red"))
     if hints:
-        for hint in st.hints:
-            console.print(f"  → {hint.text()}")
+        for remedy in st.remedies:
+            console.print(Text(f"  → {words.remedy_text(remedy, unit, analysis.plan.source)}"))
 
 
 class progress_bar:
@@ -222,18 +234,18 @@ def render_spots(search, plan, console, seconds):
         named = [s.name or ""] if any(x.name for x in search.spots) else []
         runs = ", ".join(f"{name} {share * 100:.0f} %" for name, share in s.dominant_runs)
         table.add_row(str(rank), *named, *(format_length(v, unit) for v in s.position_m),
-                      Text(degrees(s.budget_used_deg), style=_style(s.within_budget)),
-                      s.worst_state, runs or "—")
+                      Text(degrees(s.budget_used_deg), style=_ok(s.within_budget)),
+                      Text(s.worst_state), Text(runs or "—"))
     console.print(table)
     if search.current is not None:
         now = search.current
-        console.print(f"Where it is now ({_where(now.position_m, unit)}): "
-                      f"{degrees(now.budget_used_deg)}° in {now.worst_state}")
+        console.print(Text(f"Where it is now {words.position(now.position_m, unit)}: "
+                           f"{words.with_degree_sign(now.budget_used_deg)} in {now.worst_state}"))
     if search.step_m:
         console.print(f"Searched {search.evaluated:,} positions for a {search.grid_points:,}-point "
                       f"grid at {format_length(search.step_m, unit)} steps in {seconds:.1f} s.")
-    console.print("The figure is the one held against the budget: the worst state, heel and "
-                  "change from the reference state. Check the spot for vibration, heat, access "
+    console.print("The figure is the one held against the budget: the worst state it is used "
+                  "in, at the worst attitude, after adjustment where it has a reference state. Check the spot for vibration, heat, access "
                   "and equipment not in the plan before mounting.")
 
 
@@ -244,27 +256,31 @@ def _signed(deviation):
 
 def render_cards(cards, analysis, console):
     console.print(Text("Predicted deviation card", style="bold"))
-    console.print(f"Site  {site_line(analysis.site, analysis.plan.site.units)}")
+    console.print(Text(f"Site  {site_line(analysis.site)}"))
     console.print("Level, from the plan's wiring and oriented magnets; east positive. Steer the "
                   "compass heading to make good the magnetic heading.")
     for card in cards:
         sensor = card.sensor
         console.print()
         reference = sensor.reference_state
-        note = f"; change from {reference!r} in brackets" if reference else ""
-        table = Table(title=f"{sensor.name} ({sensor.kind}){note}", title_justify="left",
+        note = (f"; after adjustment in {reference!r} (before it, in brackets)" if reference
+                else "")
+        table = Table(title=Text(f"{sensor.name} ({sensor.kind}){note}"), title_justify="left",
                       box=_box(console), padding=(0, 1), pad_edge=False)
         table.add_column("magnetic", justify="right", no_wrap=True)
         for st in card.states:
-            table.add_column(f"{st.state}\ndeviation", justify="right", no_wrap=True)
-            table.add_column("steer", justify="right", no_wrap=True)
+            table.add_column(Text(f"{st.state}\ndeviation"), justify="right", no_wrap=True)
+            if card.steers:
+                table.add_column("steer", justify="right", no_wrap=True)
         for i, psi in enumerate(card.states[0].headings_deg):
             cells = [f"{psi:03.0f}°"]
             for st in card.states:
                 text = _signed(st.deviation_deg[i])
-                if st.change_deg is not None and st.state != reference:
-                    text += f" ({st.change_deg[i]:+.2f})"
-                cells += [text, f"{st.compass_deg[i]:05.1f}°"]
+                if st.unadjusted_deg is not None:
+                    text += f" ({_signed(st.unadjusted_deg[i])})"
+                cells.append(text)
+                if card.steers:
+                    cells.append(f"{st.compass_deg[i]:05.1f}°")
             table.add_row(*cells)
         console.print(table)
     console.print()

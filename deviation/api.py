@@ -1,0 +1,129 @@
+"""The public library: read a plan, check it, find spots, draw cards, look up the site's field.
+
+Everything here is also reachable as ``deviation.<name>``, imported on first use so that
+``import deviation`` stays quick::
+
+    import deviation
+
+    plan = deviation.read_plan("sample_installs/cruising_sailboat")
+    result = deviation.check(plan)
+    table = result.to_frame()
+    table[~table.within_budget]
+
+A plan is a frozen value: make a what-if with :func:`dataclasses.replace` and check it again;
+nothing computed for the old plan is reused. Errors the library raises on purpose derive from
+:class:`deviation.DeviationError`; a bad plan raises :class:`deviation.PlanError` with every
+located finding.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from os import PathLike
+
+import numpy as np
+
+from .analysis import Analysis, analyse
+from .card import Card, cards
+from .plan import Plan, Sensor
+from .sitefield import SiteField, model_field
+from .spot import SpotSearch, rank_positions, search_box
+
+#: The result of :func:`check`.
+CheckResult = Analysis
+
+
+def read_plan(path: str | PathLike) -> Plan:
+    """Read and validate a plan: an .xlsx workbook or a folder of .csv sheets.
+
+    Raises
+    ------
+    PlanError
+        With every finding, each naming the file, sheet, row and column.
+    """
+    from .reader import read_plan as read
+
+    return read(path)
+
+
+def plan_from_tables(tables: Mapping[str, object], source: str = "<tables>") -> Plan:
+    """Make and validate a plan from tables in Python (DataFrames, lists of dicts or of rows),
+    one per sheet, in the workbook's layout (docs/plan-format.md)."""
+    from .reader import plan_from_tables as make
+
+    return make(tables, source)
+
+
+def check(plan: Plan, *, remedies: bool = True) -> CheckResult:
+    """The deviation budget of every sensor in every state, with remedies and rule findings.
+
+    Parameters
+    ----------
+    plan : Plan
+    remedies : bool
+        Compute the rerouting remedies (the slowest part on big plans).
+
+    Returns
+    -------
+    CheckResult
+        Frozen; ``within_budget``, ``sensors[i].states[k]`` and the tables ``to_frame()``,
+        ``runs_frame()``, ``remedies_frame()``, ``findings_frame()``.
+    """
+    from dataclasses import replace
+
+    from .advice import rule_findings, with_remedies
+
+    analysis = analyse(plan)
+    if remedies:
+        analysis = with_remedies(analysis)
+    return replace(analysis, findings=rule_findings(analysis))
+
+
+def _sensor(plan: Plan, sensor: str | Sensor) -> Sensor:
+    return plan.sensor(sensor) if isinstance(sensor, str) else sensor
+
+
+def find_spots(plan: Plan, sensor: str | Sensor, low_m: Sequence[float],
+               high_m: Sequence[float], step_m: float = 0.02, *, top: int = 10,
+               progress=None, analysis: Analysis | None = None) -> SpotSearch:
+    """The best mounting spots for a sensor in the box [low_m, high_m] at ``step_m`` resolution.
+
+    ``sensor`` is a name in the plan or a :class:`Sensor` (e.g. a what-if one made with
+    ``dataclasses.replace``). The figure minimised is the sensor's held figure.
+    """
+    chosen = _sensor(plan, sensor)
+    return search_box(plan, analysis or analyse(plan), chosen, np.asarray(low_m, dtype=float),
+                      np.asarray(high_m, dtype=float), step_m, progress=progress, top=top)
+
+
+def rank_spots(plan: Plan, sensor: str | Sensor, positions_m=None, names=None, *,
+               analysis: Analysis | None = None) -> SpotSearch:
+    """Rank candidate positions by the sensor's held figure, best first (default: the plan's
+    spots sheet)."""
+    chosen = _sensor(plan, sensor)
+    if positions_m is None:
+        positions_m = [s.position_m for s in plan.spots]
+        names = [s.name for s in plan.spots]
+    return rank_positions(plan, analysis or analyse(plan), chosen, positions_m, names)
+
+
+def deviation_cards(plan_or_result: Plan | Analysis, sensor: str | None = None,
+                    step_deg: float = 15.0) -> tuple[Card, ...]:
+    """Predicted deviation cards (deviation and the compass heading to steer at each magnetic
+    heading), per sensor and state; ``sensor`` limits them to one."""
+    analysis = (plan_or_result if isinstance(plan_or_result, Analysis)
+                else analyse(plan_or_result))
+    return cards(analysis, step_deg, sensor)
+
+
+def site_field(latitude_deg: float, longitude_deg: float, date=None,
+               altitude_m: float = 0.0) -> SiteField:
+    """The geomagnetic field from WMM2025 at a place and date (default: today)."""
+    return model_field(latitude_deg, longitude_deg, date, altitude_m)
+
+
+def to_json(result: CheckResult) -> dict:
+    """A check's result as the JSON document ``check --json`` prints (docs/plan-format.md)."""
+    from .render.json_out import analysis_json
+
+    return analysis_json(result)

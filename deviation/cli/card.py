@@ -1,0 +1,62 @@
+"""``deviation card``: the predicted deviation card."""
+
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+import click
+
+from . import (console_for, echo_json, json_option, library_errors, main, plan_argument,
+               width_option)
+
+
+def _slug(name):
+    return re.sub(r"[^A-Za-z0-9]+", "-", name).strip("-").lower() or "sensor"
+
+
+@main.command()
+@plan_argument
+@click.option("--sensor", "sensor_name", default=None, help="Only this sensor (default: all).")
+@click.option("--step", "step_deg", type=click.Choice(["5", "10", "15", "30", "45"]), default="15",
+              show_default=True, help="Degrees of magnetic heading between rows.")
+@click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
+              help="Draw the deviation curves of all states (FILE.png or FILE.svg; with several "
+                   "sensors, one file each, named FILE-sensor.png).")
+@json_option
+@width_option
+@library_errors
+def card(plan, sensor_name, step_deg, plot_path, as_json, width):
+    """The predicted deviation card: deviation at each magnetic heading, and the compass heading
+    to steer, per sensor and operating state (after adjustment, for a sensor adjusted in a
+    reference state)."""
+    from .. import api
+    from ..files import check_output
+
+    the_plan = api.read_plan(plan)
+    if sensor_name:
+        the_plan.sensor(sensor_name)                  # an unknown name fails before any work
+    result = api.check(the_plan, remedies=False)
+    made = api.deviation_cards(result, sensor_name, float(step_deg))
+    targets = []
+    if plot_path:
+        from ..render.plots import card_curves
+
+        targets = [Path(plot_path)] if len(made) == 1 else [
+            Path(plot_path).with_name(f"{Path(plot_path).stem}-{_slug(c.sensor.name)}"
+                                      f"{Path(plot_path).suffix}") for c in made]
+        for target in targets:
+            check_output(target, plan)
+        for target, one in zip(targets, made):
+            card_curves(one, target)
+    if as_json:
+        from ..render.json_out import cards_json
+
+        echo_json(cards_json(made))
+        return
+    from ..render.terminal import render_cards
+
+    render_cards(made, result, console_for(width))
+    if targets:
+        click.echo(f"Curves written to {targets[0]}" if len(targets) == 1 else
+                   "Curves written: " + ", ".join(str(t) for t in targets))

@@ -1,0 +1,47 @@
+"""``deviation check``: the deviation budget."""
+
+from __future__ import annotations
+
+import sys
+
+import click
+
+from . import (console_for, echo_json, json_option, library_errors, main, plan_argument,
+               width_option)
+
+
+@main.command()
+@plan_argument
+@json_option
+@click.option("--all-runs", is_flag=True, help="List every run, not only the largest ones.")
+@click.option("--report", type=click.Path(dir_okay=False),
+              help="Also write a report: FILE.xlsx or FILE.html.")
+@width_option
+@library_errors
+def check(plan, as_json, all_runs, report, width):
+    """Print the deviation budget of every sensor in every operating state.
+
+    Exit status: 0 every sensor within its budget in every state it is used in, 1 at least one
+    over budget, 2 the plan or the command line is wrong.
+    """
+    from .. import api
+
+    the_plan = api.read_plan(plan)
+    if report:
+        from ..files import check_output
+
+        check_output(report, plan)
+    result = api.check(the_plan)
+    if report:
+        from ..render.reports import write_report
+
+        write_report(result, report)
+    if as_json:
+        echo_json(api.to_json(result))
+    else:
+        from ..render.terminal import render_check
+
+        render_check(result, console_for(width), all_runs=all_runs)
+        if report:
+            click.echo(f"Report written to {report}")
+    sys.exit(0 if result.within_budget else 1)

@@ -1,0 +1,109 @@
+"""``deviation spot``: where a sensor's budget figure is smallest."""
+
+from __future__ import annotations
+
+import time
+
+import click
+
+from . import (CommandProblem, console_for, echo_json, json_option, library_errors, main,
+               plan_argument, width_option)
+
+
+def _triple(text, unit, name):
+    from ..units import UnitError, parse_length
+
+    parts = text.split(",")
+    try:
+        if len(parts) != 3:
+            raise UnitError("three")
+        return [parse_length(p, unit) for p in parts]
+    except UnitError:
+        raise click.BadParameter(f'"{text}" is not x,y,z (each a length, e.g. 1.2,-0.5,30cm)',
+                                 param_hint=name) from None
+
+
+def _step(step, plan):
+    from ..units import UnitError, parse_length
+
+    try:
+        step_m = parse_length(step or ("1 in" if plan.imperial else "2 cm"), plan.site.units)
+    except UnitError as error:
+        raise click.BadParameter(str(error), param_hint="--step") from None
+    if step_m <= 0:
+        raise click.BadParameter("the step must be more than zero", param_hint="--step")
+    return step_m
+
+
+@main.command()
+@plan_argument
+@click.option("--sensor", "sensor_name", required=True, help="The sensor to find a spot for.")
+@click.option("--region", nargs=2, metavar="X0,Y0,Z0 X1,Y1,Z1",
+              help="Opposite corners of the box to search (plan units unless a unit is given). "
+                   "Without it, the plan's spots sheet is ranked.")
+@click.option("--step", default=None,
+              help="Grid resolution of the answer, e.g. 2cm or 1in (default 2 cm, or 1 in in an "
+                   "imperial plan).")
+@click.option("--top", type=click.IntRange(1, 100), default=10, show_default=True,
+              help="Spots listed.")
+@click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
+              help="Draw a map of the worst case over the region at the best spot's height "
+                   "(FILE.png or FILE.svg).")
+@json_option
+@width_option
+@library_errors
+def spot(plan, sensor_name, region, step, top, plot_path, as_json, width):
+    """Find the mounting spot where a sensor's budget figure is smallest.
+
+    Searches a box coarse to fine (the figure is the one held against the budget: the worst
+    state the sensor is used in, at the worst attitude, after adjustment where it has a reference
+    state), or ranks the candidates of the plan's spots sheet.
+    """
+    from .. import api
+    from ..analysis import analyse
+    from ..files import check_output
+
+    the_plan = api.read_plan(plan)
+    sensor = the_plan.sensor(sensor_name)
+    if plot_path:
+        if not region:
+            raise CommandProblem("--plot needs --region (a map of a box)")
+        check_output(plot_path, plan)
+    if not region and not the_plan.spots:
+        raise CommandProblem("give --region X0,Y0,Z0 X1,Y1,Z1, or add a spots sheet of "
+                             "candidate positions to the plan")
+    analysis = analyse(the_plan)
+    started = time.perf_counter()
+    if region:
+        from ..render.terminal import progress_bar
+
+        unit = the_plan.site.units
+        low = _triple(region[0], unit, "--region")
+        high = _triple(region[1], unit, "--region")
+        step_m = _step(step, the_plan)
+        with progress_bar(enabled=not as_json) as progress:
+            result = api.find_spots(the_plan, sensor, low, high, step_m, top=top,
+                                    progress=progress, analysis=analysis)
+    else:
+        from dataclasses import replace
+
+        result = api.rank_spots(the_plan, sensor, analysis=analysis)
+        result = replace(result, spots=result.spots[:top])
+    seconds = time.perf_counter() - started
+    if plot_path:
+        from ..render.plots import spot_map
+        from ..spot import slice_map
+
+        z = result.spots[0].position_m[2] if result.spots else sensor.position_m[2]
+        x, y, figure = slice_map(the_plan, analysis, sensor, result.region[0], result.region[1], z)
+        spot_map(the_plan, result, x, y, figure, plot_path)
+    if as_json:
+        from ..render.json_out import spots_json
+
+        echo_json(spots_json(result))
+        return
+    from ..render.terminal import render_spots
+
+    render_spots(result, the_plan, console_for(width), seconds)
+    if plot_path:
+        click.echo(f"Map written to {plot_path}")

@@ -1,0 +1,134 @@
+"""One view of a check's rows, shared by the terminal, the xlsx and html reports and the JSON.
+
+Each renderer formats these rows its own way, but none of them picks figures out of the results
+itself, so they cannot drift apart.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from . import words
+
+
+@dataclass(frozen=True)
+class SummaryCell:
+    state: str
+    figure_deg: float
+    text: str                         # "1.23", "overwhelmed", or "1.23" for an unused state
+    status: str                       # "ok", "over" or "unused"
+
+
+@dataclass(frozen=True)
+class SummaryRow:
+    sensor: str
+    kind: str
+    budget_deg: float
+    reference_state: str | None
+    max_heel_deg: float
+    max_pitch_deg: float
+    cells: tuple[SummaryCell, ...]
+    within_budget: bool
+    verdict: str
+    adjustment_absorbs_deg: float | None
+
+
+def summary_rows(analysis) -> tuple[SummaryRow, ...]:
+    rows = []
+    for result in analysis.sensors:
+        s = result.sensor
+        cells = tuple(SummaryCell(st.state, st.budget_used_deg,
+                                  words.degrees(st.budget_used_deg, st.overwhelmed),
+                                  "unused" if not st.used else "ok" if st.within_budget else "over")
+                      for st in result.states)
+        over = [c.state for c in cells if c.status == "over"]
+        verdict = "within budget" if not over else "over in " + ", ".join(over)
+        rows.append(SummaryRow(s.name, s.kind, s.budget_deg, s.reference_state, s.max_heel_deg,
+                               s.max_pitch_deg, cells, result.within_budget, verdict,
+                               result.adjustment_absorbs_deg))
+    return tuple(rows)
+
+
+@dataclass(frozen=True)
+class BudgetRow:
+    """A run or an item in a state's table."""
+
+    name: str
+    is_item: bool
+    current_a: float | None
+    nearest_m: float
+    horizontal_t: float               # level horizontal size of its field (or bound)
+    vertical_t: float | None          # None for a bound of unknown direction
+    max_deviation_deg: float          # this row alone, absolute, level
+    change_deg: float | None          # its own residual (sensor with a reference state)
+    counted_deg: float                # what it adds to the held figure (0 when adjusted out)
+    share_of_budget: float
+    bound: bool                       # a figure of unknown direction (an upper bound)
+    compensated: bool = False
+
+
+#: Runs below this share of the budget are summed on one line unless all runs are asked for.
+NEGLIGIBLE_SHARE = 0.005
+
+
+def budget_rows(sensor, st, all_runs=True) -> tuple[tuple[BudgetRow, ...], int]:
+    """The rows of one state's table, and how many runs were left out as negligible."""
+    rows = []
+    runs = st.runs
+    hidden = 0
+    if not all_runs:
+        # In the reference state the shares are zero by definition: show what is absorbed.
+        key = (lambda r: r.max_deviation_deg / sensor.budget_deg) if st.is_reference else (
+            lambda r: r.share_of_budget)
+        shown = [r for r in runs if key(r) >= NEGLIGIBLE_SHARE] or list(runs[:1])
+        hidden = len(runs) - len(shown)
+        runs = shown
+    for r in runs:
+        rows.append(BudgetRow(r.name, False, r.current_a, r.nearest_m,
+                              float(np.hypot(r.field_t[0], r.field_t[1])), float(r.field_t[2]),
+                              r.max_deviation_deg, r.change_from_reference_deg,
+                              r.share_of_budget * sensor.budget_deg, r.share_of_budget, False))
+    for item in st.equipment:
+        oriented = item.field_t is not None
+        size = float(np.hypot(item.field_t[0], item.field_t[1])) if oriented else item.bound_t
+        counted = 0.0 if item.compensated else item.max_deviation_deg
+        rows.append(BudgetRow(item.name, True, None, item.distance_m, size,
+                              float(item.field_t[2]) if oriented else None,
+                              item.max_deviation_deg, None if not sensor.reference_state else
+                              counted, counted, counted / sensor.budget_deg, not oriented,
+                              item.compensated))
+    return tuple(rows), hidden
+
+
+@dataclass(frozen=True)
+class TotalRow:
+    label: str
+    value_deg: float | None
+    held: bool = False                # the figure held against the budget
+
+
+def total_rows(sensor, st) -> tuple[TotalRow, ...]:
+    rows = [TotalRow("all together (vector sum), level", st.vector_deviation_deg),
+            TotalRow("if every field lined up, level", st.magnitude_bound_deg)]
+    if st.equipment_bound_t:
+        rows.append(TotalRow("with equipment bounds, level", st.max_deviation_deg))
+    if sensor.max_heel_deg or sensor.max_pitch_deg:
+        rows.append(TotalRow("absolute, worst attitude", st.heeled_max_deviation_deg))
+    if sensor.reference_state:
+        rows.append(TotalRow("residual after adjustment, level", st.change_from_reference_deg))
+    rows.append(TotalRow(f"held against the budget ({words.held_figure(sensor)})",
+                         st.budget_used_deg, held=True))
+    return tuple(rows)
+
+
+def state_title(sensor, st) -> str:
+    title = (f"{st.state}: {words.with_degree_sign(st.budget_used_deg, st.overwhelmed)} of "
+             f"{sensor.budget_deg:g}° — {words.verdict(st)}")
+    if st.is_reference:
+        title += (" (the reference state: the adjustment takes out "
+                  f"{words.with_degree_sign(st.heeled_max_deviation_deg)})")
+    if not st.used:
+        title += " (the sensor is not relied on in this state)"
+    return title

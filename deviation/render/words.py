@@ -1,0 +1,152 @@
+"""The one place for the words every renderer shows: cautions, verdicts, remedies, findings.
+
+The analysis returns figures and kinds; this module turns them into sentences, so the terminal,
+the reports and the JSON say the same thing in the same words.
+"""
+
+from __future__ import annotations
+
+from ..budget import OVERWHELMED_DEG
+from ..units import LENGTH_UNITS, format_length
+
+CAUTIONS = (
+    "A plan is not a compass swing: these figures come from the routes, currents and sizes in "
+    "the plan, and cables laid differently give different fields.",
+    "After installation have the compass adjusted and swung by a qualified compass adjuster, and "
+    "calibrate electronic compasses and magnetometers as their makers direct, in the final "
+    "installation.",
+    "Electrical work per ISO 10133 (small craft, extra-low-voltage DC) or ABYC E-11, and local "
+    "codes, by licensed or competent people.",
+)
+
+OVERWHELMED = "overwhelmed"
+
+
+def degrees(value, overwhelmed=False) -> str:
+    """A deviation for display; 'overwhelmed' where the sensor can point anywhere."""
+    if value is None:
+        return "—"
+    if overwhelmed or value >= OVERWHELMED_DEG:
+        return OVERWHELMED
+    return f"{value:.2f}"
+
+
+def with_degree_sign(value, overwhelmed=False) -> str:
+    """'1.23°', or 'overwhelmed' with no degree sign."""
+    text = degrees(value, overwhelmed)
+    return text if text in (OVERWHELMED, "—") else text + "°"
+
+
+def microtesla(value_t) -> str:
+    return f"{value_t * 1e6:.3f}"
+
+
+def verdict(state_result) -> str:
+    if not state_result.used:
+        return "not used"
+    if state_result.overwhelmed:
+        return "OVERWHELMED"
+    return "within" if state_result.within_budget else "OVER"
+
+
+def held_figure(sensor) -> str:
+    """What the held figure is, in words."""
+    figure = (f"deviation of the residual after adjustment in {sensor.reference_state!r}"
+              if sensor.reference_state else "absolute deviation")
+    limits = []
+    if sensor.max_heel_deg:
+        limits.append(f"heel ±{sensor.max_heel_deg:g}°")
+    if sensor.max_pitch_deg:
+        limits.append(f"pitch ±{sensor.max_pitch_deg:g}°")
+    attitude = f", worst attitude within {' and '.join(limits)}" if limits else ", level"
+    return figure + attitude
+
+
+def position(position_m, unit_system) -> str:
+    """A position in one unit for all three coordinates."""
+    unit = "in" if unit_system in ("ft", "in") else "m"
+    scale = LENGTH_UNITS[unit]
+    digits = 1 if unit == "in" else 3
+    return "(" + ", ".join(f"{v / scale:.{digits}f}" for v in position_m) + f") {unit}"
+
+
+def _spot_command(plan_source, remedy, unit_system):
+    scale = LENGTH_UNITS[unit_system]
+
+    def corner(values):
+        return ",".join(f"{v / scale:.4g}" for v in values)
+
+    return (f'deviation spot "{plan_source}" --sensor "{remedy.sensor}" --region '
+            f"{corner(remedy.box_low_m)} {corner(remedy.box_high_m)}")
+
+
+def remedy_action(remedy, unit_system, plan_source="PLAN") -> str:
+    """What to do, in words."""
+    run = remedy.run
+    if remedy.kind == "pair":
+        size = remedy.size or "two 10 AWG cables (size not given)"
+        return (f'route the return of "{run}" beside its supply (paired, '
+                f"{format_length(remedy.spacing_m, unit_system)} centres, {size})")
+    if remedy.kind == "twist":
+        return (f'twist "{run}" with its return (lay {format_length(remedy.lay_m, unit_system)} '
+                f"assumed, {format_length(remedy.spacing_m, unit_system)} centres)")
+    if remedy.kind == "clearance":
+        return (f'keep "{run}" at least {format_length(remedy.clearance_m, unit_system)} from the '
+                "sensor (bend its nearest stretch away)")
+    if remedy.kind == "no single fix":
+        return ("no rerouting of a single run brings the sensor within budget here; change "
+                "several runs, or move the sensor")
+    if remedy.kind == "move sensor":
+        half = (remedy.box_high_m[0] - remedy.box_low_m[0]) / 2
+        return (f"or move the sensor: {_spot_command(plan_source, remedy, unit_system)} searches "
+                f"±{format_length(half, unit_system)} around it")
+    raise ValueError(f"unknown remedy kind {remedy.kind!r}")
+
+
+def remedy_text(remedy, unit_system, plan_source="PLAN") -> str:
+    """The action and, where computed, the figure before and after."""
+    action = remedy_action(remedy, unit_system, plan_source)
+    if remedy.after_deg is None:
+        return action
+    result = "within budget" if remedy.within_after else "still over budget"
+    return (f"{action}: {with_degree_sign(remedy.before_deg)} → "
+            f"{with_degree_sign(remedy.after_deg)} ({result})")
+
+
+def finding_message(finding) -> str:
+    """A rule finding in words, without its source."""
+    rule = finding.rule
+    if rule == "bipolar-within-5m":
+        return (f'run "{finding.subject}" passes {finding.distance_m:.2f} m from the compass and '
+                "is not laid bipolar (return beside its supply)")
+    if rule == "unknown-safe-distance":
+        return (f'"{finding.subject}" has no labelled compass safe distance and is '
+                f"{finding.distance_m:.2f} m from the compass")
+    if rule == "inside-safe-distance":
+        return (f'"{finding.subject}" is {finding.distance_m:.2f} m from the sensor, inside its '
+                f"labelled {finding.label} compass safe distance of {finding.limit_m:.2f} m")
+    if rule == "magnetometer-share":
+        return (f"the wiring's field is {finding.fraction * 100:.0f} % of the Earth's total field "
+                "here; look for a quieter place for the magnetometer")
+    raise ValueError(f"unknown finding {rule!r}")
+
+
+def finding_source(finding) -> str:
+    from ..advice import RULE_SOURCES
+
+    return RULE_SOURCES[finding.rule]
+
+
+def finding_text(finding) -> str:
+    where = f"{finding.sensor}" + (f", {finding.state}" if finding.state else "")
+    return f"{where}: {finding_message(finding)} ({finding_source(finding)})"
+
+
+def zone_warning(site) -> str | None:
+    if site.zone == "blackout":
+        return ("The site is in the blackout zone (H below 2 µT): a magnetic compass is unreliable "
+                "here whatever the wiring.")
+    if site.zone == "caution":
+        return ("The site is in the caution zone (H below 6 µT): compasses degrade here and small "
+                "disturbances give large deviations.")
+    return None
