@@ -88,23 +88,6 @@ def test_twisted_pair_50db_below_pair_at_1p5_lay():
     assert ratio_db == pytest.approx(50, abs=2)
 
 
-@pytest.mark.parametrize("distance_lays", [0.3, 1.5, 2.5])
-def test_twelve_chords_per_lay_within_0p1_percent_of_a_fine_helix(distance_lays):
-    # Discretisation check against the same helix cut into 1024 chords per lay.
-    lay, s = 0.05, 0.005
-    route = straight(40 * lay)
-    points = np.array([[20 * lay + 0.01 * i, distance_lays * lay * math.cos(i),
-                        distance_lays * lay * math.sin(i)] for i in range(12)])
-
-    def helix_field(chords):
-        supply, back = twisted_helices(route, s, lay, chords)
-        start, end, sign = routing._closed_circuit(supply, back, 1.0, -1.0)
-        return segment_field(start, end, sign, points)
-
-    fine, coarse = helix_field(1024), helix_field(routing.CHORDS_PER_LAY)
-    assert np.abs(coarse - fine).max() / np.linalg.norm(fine, axis=1).max() < 1e-3
-
-
 def test_twisted_helices_keep_the_spacing_and_the_lay():
     supply, back = twisted_helices(straight(0.3), 0.006, 0.1, 12)
     centre = (supply + back) / 2

@@ -1,5 +1,6 @@
 """Twisted runs: the helix against an independent magpylib oracle, untwisted ends, minimum lay."""
 
+import itertools
 import math
 
 import numpy as np
@@ -34,10 +35,10 @@ def oracle_helix_loop(length_m, spacing_m, lay_m, fine_lays, fine_chords=1000, c
     shrink = lambda n: math.sin(2 * math.pi / n) / (2 * math.pi / n)
     coarse_radius = spacing_m / 2 * math.sqrt(shrink(fine_chords) / shrink(coarse_chords))
     xs, radii = [], []
-    for (a, b), chords, radius in zip(zip(cuts, cuts[1:]),
+    for (a, b), chords, radius in zip(itertools.pairwise(cuts),
                                       (coarse_chords, fine_chords, coarse_chords),
                                       (coarse_radius, spacing_m / 2, coarse_radius)):
-        x = np.linspace(a, b, int(round((b - a) / lay_m * chords)) + 1)[(1 if xs else 0):]
+        x = np.linspace(a, b, round((b - a) / lay_m * chords) + 1)[(1 if xs else 0):]
         xs.append(x)
         radii.append(np.full(len(x), radius))
     x, radius = np.concatenate(xs), np.concatenate(radii)
@@ -80,7 +81,7 @@ def test_perfect_helix_matches_independent_magpylib_oracle(long_pair, distance_l
     # Oracle: magpylib's polyline Biot-Savart on the helix built in this file. Tolerance 1e-3 of
     # the largest field at that distance: the package's 12 area-keeping chords per lay leave an
     # O(N^-4) error, measured 1.6e-4 at 0.3-2.0 lays and 2.1e-4 at 2.5 (there the oracle's own
-    # change of chords adds a little). A 12-chord helix on the plain radius (2.4 % off), a lay
+    # change of chords adds a little). A 12-chord helix on the plain radius (2.3 % off), a lay
     # 1 % wrong (17 % at 2.5 lays), the helix turning the other way or starting at the other
     # phase (the field flips) all fail.
     _, points, oracle_t, run = long_pair
@@ -95,7 +96,7 @@ def test_oracle_twisted_pair_is_50db_below_the_untwisted_pair_at_1p5_lay(long_pa
     # 12 points at 1.5 lay lengths from its own centre line. The published figure is "about
     # 50 dB", read here to +-1 dB; that is 1.2 % of the distance in lays (82 dB per lay), so a
     # lay or distance wrong by 2 % fails. Computed: 49.6 dB.
-    length, points, oracle_t, _ = long_pair
+    length, _, oracle_t, _ = long_pair
     pair = magpylib.current.Polyline(current=1.0, vertices=[
         [0.0, 0, 0], [length, 0, 0], [length, SPACING_M, 0], [0, SPACING_M, 0], [0, 0, 0]])
     pair_t = magpylib.getB(pair, around_axis(length / 2, 1.5 * LAY_M, centre_y_m=SPACING_M / 2))
