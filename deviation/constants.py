@@ -41,3 +41,24 @@ WGS84_F = 1 / 298.257223563
 
 #: Geomagnetic reference radius of the WMM [km] (WMM2025 report).
 WMM_REFERENCE_RADIUS_KM = 6371.2
+
+#: Common practice, no source: length at each end of a twisted run that is not twisted [m]. At a
+#: terminal the pair parts for two studs: about 40 mm of crimped lug, 50-80 mm of breaker or fuse
+#: body, and some 30-50 mm of conductor fanned out before the twist closes; 0.15 m covers that.
+UNTWISTED_END_M = 0.15
+
+#: Moser & Spencer, "Predicting the magnetic fields from a twisted-pair cable", IEEE Trans. EMC
+#: 10(3), 1968: the measured field of a twisted pair falls about exponentially with distance only
+#: out to about 1.5 lay lengths, where it is ~50 dB below the same pair untwisted. Beyond what
+#: measurement supports, a twisted run is counted as no weaker than this fraction of the same run
+#: laid as an untwisted pair (routing.as_paired).
+TWISTED_FLOOR_FRACTION = 10 ** (-50 / 20)
+#: Distance off the axis, in lay lengths, to which that measurement supports the exponential fall.
+TWISTED_MEASURED_LAYS = 1.5
+
+#: Common practice, no source: the tightest lay stranded boat cable is twisted to, in outer
+#: diameters of one conductor (see routing.minimum_lay_m for why it does not overbend the cable).
+MIN_LAY_PER_OUTER_DIAMETER = 12.0
+#: Common practice, no source: the lay a twisting hint proposes where the cable allows it [m],
+#: about 20 twists per metre, easily done by hand or bought as twisted pair.
+HINT_LAY_M = 0.05

@@ -11,7 +11,10 @@ Conventions (also in the project's docs):
   plane to the *left* of the direction of travel (a run laid forward has its return to port);
   on vertical stretches the neighbouring stretches' side is kept;
 * ``twisted``: the route is the pair's axis; the two conductors are helices of radius
-  spacing/2, half a turn apart, advancing one turn per lay length;
+  spacing/2, half a turn apart, advancing one turn per lay length, starting with the return to the
+  left of travel as a paired run has it. The first and last ``untwisted_end_m`` of the route (lugs,
+  breaker, the fanned-out ends at each terminal) are laid as a paired stretch, and each conductor
+  steps straight from its paired end into its helix, so the circuit stays one closed loop;
 * ``separate``: the return follows its own waypoints from the load back to the source;
 * ``none``: one conductor whose current returns on rows modelled elsewhere.
 
@@ -21,15 +24,18 @@ segment (through the load and the source), as the real current is.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
+
+from .constants import HINT_LAY_M, MIN_LAY_PER_OUTER_DIAMETER, UNTWISTED_END_M
 
 RETURN_KINDS = ("paired", "twisted", "separate", "none")
 
 #: Straight chords per lay length for each helix of a twisted pair. With the area-keeping vertex
-#: radius (see twisted_helices) 12 chords stay within 2e-4 of a 1024-chord helix from 0.3 to 2.5 lay
-#: lengths off the axis and near the ends (tests/test_routing.py); without it they are 2.4 % off.
+#: radius (see twisted_helices) 12 chords stay within 2.1e-4 of an independent 1000-chord helix
+#: (magpylib) from 0.3 to 2.5 lay lengths off the axis, mid-run (tests/test_twisted.py); without
+#: it they are 2.3 % off.
 CHORDS_PER_LAY = 12
 
 
@@ -44,6 +50,7 @@ class RunGeometry:
     spacing_m: float | None = None      # centre-to-centre, for paired and twisted
     lay_m: float | None = None          # for twisted
     radius_m: float = 0.0               # conductor radius (inside test)
+    untwisted_end_m: float | None = None   # twisted: paired length at each end; None: default
 
 
 @dataclass
@@ -122,7 +129,7 @@ def route_run(run: RunGeometry):
     if run.return_kind == "paired":
         return _closed_circuit(route, offset_polyline(route, run.spacing_m), 1.0, -1.0)
     if run.return_kind == "twisted":
-        supply, back = twisted_helices(route, run.spacing_m, run.lay_m)
+        supply, back = twisted_conductors(route, run.spacing_m, run.lay_m, run.untwisted_end_m)
         return _closed_circuit(supply, back, 1.0, -1.0)
     raise ValueError(f"unknown return kind {run.return_kind!r}; expected one of {RETURN_KINDS}")
 
@@ -196,7 +203,8 @@ def offset_polyline(points, spacing_m):
     return points + offsets
 
 
-def twisted_helices(points, spacing_m, lay_m, chords_per_lay=CHORDS_PER_LAY):
+def twisted_helices(points, spacing_m, lay_m, chords_per_lay=CHORDS_PER_LAY,
+                    start_phase_rad=0.0):
     r"""The two conductors of a twisted pair laid along a route.
 
     Parameters
@@ -209,6 +217,9 @@ def twisted_helices(points, spacing_m, lay_m, chords_per_lay=CHORDS_PER_LAY):
         Length of one full twist.
     chords_per_lay : int
         Straight chords per lay for each conductor.
+    start_phase_rad : float [rad]
+        Azimuth of the supply at the start, from the left normal towards the normal above it;
+        0 puts the supply to the left of travel, pi puts the return there.
 
     Returns
     -------
@@ -242,7 +253,7 @@ def twisted_helices(points, spacing_m, lay_m, chords_per_lay=CHORDS_PER_LAY):
         v = np.cross(axis, u)
         n = max(1, int(np.ceil(length / lay_m * max(chords_per_lay, 4))))
         s = np.linspace(0.0, length, n + 1)
-        phase = 2 * np.pi * (travelled + s) / lay_m
+        phase = start_phase_rad + 2 * np.pi * (travelled + s) / lay_m
         chord_turn = 2 * np.pi * length / (lay_m * n)
         keep_area = np.sqrt(chord_turn / np.sin(chord_turn)) if chord_turn > 1e-6 else 1.0
         centre = a + s[:, None] * axis
@@ -253,3 +264,162 @@ def twisted_helices(points, spacing_m, lay_m, chords_per_lay=CHORDS_PER_LAY):
     if not supply:
         return points[:1].copy(), points[:1].copy()
     return np.concatenate(supply), np.concatenate(back)
+
+
+def _arc_lengths(points):
+    return np.concatenate([[0.0], np.cumsum(np.linalg.norm(np.diff(points, axis=0), axis=1))])
+
+
+def _point_at(points, arc, s):
+    """The point at arc length ``s`` along the polyline."""
+    i = int(np.clip(np.searchsorted(arc, s, side="right") - 1, 0, len(points) - 2))
+    step = arc[i + 1] - arc[i]
+    t = 0.0 if step <= 0 else min(max((s - arc[i]) / step, 0.0), 1.0)
+    return points[i] + t * (points[i + 1] - points[i])
+
+
+def _stretch(points, arc, s0, s1):
+    """The part of the polyline from arc length ``s0`` to ``s1``, both ends included."""
+    if len(points) < 2 or s1 <= s0:
+        return (_point_at(points, arc, s0) if len(points) > 1 else points[0])[None].copy()
+    inner = points[(arc > s0) & (arc < s1)]
+    return np.vstack([_point_at(points, arc, s0), inner, _point_at(points, arc, s1)])
+
+
+def _split(points, end_m):
+    points = np.asarray(points, dtype=float).reshape(-1, 3)
+    if not end_m >= 0:
+        raise ValueError(f"an untwisted end must be a length of 0 m or more, not {end_m!r}")
+    arc = _arc_lengths(points)
+    total = float(arc[-1])
+    end = min(float(end_m), total / 2)       # the two ends never overlap
+    return (_stretch(points, arc, 0.0, end), _stretch(points, arc, end, total - end),
+            _stretch(points, arc, total - end, total), end)
+
+
+def split_twisted_route(points, end_m):
+    """Cut a twisted run's route into its untwisted lead, its twisted middle and its untwisted tail.
+
+    Parameters
+    ----------
+    points : (N, 3) array [m]
+        The route, source to load.
+    end_m : float [m]
+        Length along the route left untwisted at each end. A route shorter than two ends is cut at
+        its middle, so it is untwisted all the way and the middle is a single point.
+
+    Returns
+    -------
+    lead, middle, tail : (k, 3) arrays [m]
+        Polylines in route order; each starts where the one before ends. A part of zero length is
+        a single point.
+    """
+    lead, middle, tail, _ = _split(points, end_m)
+    return lead, middle, tail
+
+
+def twisted_conductors(points, spacing_m, lay_m, untwisted_end_m=None,
+                       chords_per_lay=CHORDS_PER_LAY):
+    """Supply and return polylines of a twisted run with untwisted ends.
+
+    Parameters
+    ----------
+    points : (N, 3) array [m]
+        The pair's axis, source to load.
+    spacing_m : float [m]
+        Centre-to-centre distance of the two conductors.
+    lay_m : float [m]
+        Length of one full twist.
+    untwisted_end_m : float or None [m]
+        Length at each end laid as a paired stretch; None takes ``constants.UNTWISTED_END_M``,
+        0 gives helices all the way into the terminals.
+    chords_per_lay : int
+        Straight chords per lay for each helix.
+
+    Returns
+    -------
+    supply, back : (M, 3), (K, 3) arrays [m]
+        Both ordered source to load, each one continuous polyline.
+
+    Notes
+    -----
+    On the untwisted ends the supply follows the route and the return lies ``spacing_m`` to its
+    left (:func:`offset_polyline` of the whole route, so the ends coincide with the same run laid
+    paired). The helices start with the return to the left (phase pi), so at the lead both
+    conductors step ``spacing_m/2`` sideways into them; at the tail each steps from wherever the
+    twist ends to its paired position. A route no longer than two ends is laid paired all the way.
+    """
+    end_m = UNTWISTED_END_M if untwisted_end_m is None else untwisted_end_m
+    route = np.asarray(points, dtype=float).reshape(-1, 3)
+    lead, middle, tail, end = _split(route, end_m)
+    if end == 0:
+        return twisted_helices(route, spacing_m, lay_m, chords_per_lay, start_phase_rad=np.pi)
+    if len(middle) == 1:
+        return route, offset_polyline(route, spacing_m)
+    supply_mid, back_mid = twisted_helices(middle, spacing_m, lay_m, chords_per_lay,
+                                           start_phase_rad=np.pi)
+    # Offset the whole route (split points inserted on their stretches) so corners keep their mitre.
+    offset = offset_polyline(np.vstack([lead, middle[1:], tail[1:]]), spacing_m)
+    lead_end = len(lead) - 1
+    tail_start = lead_end + len(middle) - 1
+    supply = np.vstack([lead, supply_mid, tail])
+    back = np.vstack([offset[:lead_end + 1], back_mid, offset[tail_start:]])
+    return supply, back
+
+
+def as_paired(geometry: RunGeometry) -> RunGeometry:
+    """The same run laid as an untwisted pair at the same spacing.
+
+    Used to bound a twisted run from below: beyond what measurement supports, its field is counted
+    as no weaker than ``constants.TWISTED_FLOOR_FRACTION`` of this run's.
+
+    Raises
+    ------
+    ValueError
+        If the run is neither twisted nor paired (it has no spacing to keep).
+    """
+    if geometry.return_kind not in ("twisted", "paired"):
+        raise ValueError(f"run {geometry.name!r} is {geometry.return_kind!r}; only a twisted or "
+                         "paired run has a pair to compare with")
+    return replace(geometry, return_kind="paired", return_route_m=None, lay_m=None,
+                   untwisted_end_m=None)
+
+
+def minimum_lay_m(outer_diameter_m):
+    r"""The tightest lay a pair of cables of this outer diameter can be twisted to.
+
+    Parameters
+    ----------
+    outer_diameter_m : float or array [m]
+        Insulated outer diameter of one conductor.
+
+    Returns
+    -------
+    float or array [m]
+        ``MIN_LAY_PER_OUTER_DIAMETER`` outer diameters.
+
+    Notes
+    -----
+    Common practice, no source: stranded boat cable is twisted to a lay of no less than about 12
+    outer diameters. Two touching cables of diameter D twisted to a lay p bend each conductor on
+    a helix of radius D/2, whose radius of curvature is :math:`(D/2)(1 + (p/\pi D)^2)`; at
+    p = 12 D that is 7.8 D, above the roughly 6 D minimum bending radius usually given for
+    flexible cable (from memory), so the twist does not overbend the cable.
+    """
+    diameter = np.asarray(outer_diameter_m, dtype=float)
+    if np.any(~(diameter > 0)):
+        raise ValueError(f"an outer diameter must be more than 0 m, not {outer_diameter_m!r}")
+    lay = MIN_LAY_PER_OUTER_DIAMETER * diameter
+    return float(lay) if lay.ndim == 0 else lay
+
+
+def hint_lay_m(outer_diameter_m):
+    """The lay a twisting hint proposes [m]: ``HINT_LAY_M``, or the cable's minimum lay if longer.
+
+    Parameters
+    ----------
+    outer_diameter_m : float or array [m]
+        Insulated outer diameter of one conductor.
+    """
+    lay = np.maximum(HINT_LAY_M, minimum_lay_m(outer_diameter_m))
+    return float(lay) if np.ndim(lay) == 0 else lay
