@@ -11,19 +11,15 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from .analysis import run_fields_at
-from .budget import budget_figures, equipment_fields
+from .budget import RunParts, budget_figures, equipment_fields, parts_of_runs
 from .constants import ISO25862_BIPOLAR_RADIUS_M, MAGNETOMETER_MAX_FRACTION
-from .routing import route_runs
+from .routing import hint_lay_m
 from .units import conductor_size
 
 #: A run is given remedies where its own figure uses at least this share of the sensor's budget,
 #: or where the sensor is over budget and the run uses at least HINT_SHARE_OVER.
 HINT_SHARE = 0.25
 HINT_SHARE_OVER = 0.10
-#: Lay length assumed when a remedy proposes twisting (common practice, no source: about 20
-#: twists per metre is easily done by hand or bought as twisted pair).
-ASSUMED_LAY_M = 0.05
 #: Spacing assumed for pairing a run whose size is not given: two 10 AWG boat cables side by side
 #: (insulated diameter from memory, see units.AWG_OUTER_DIAMETER_MM).
 ASSUMED_SPACING_M = 0.0043
@@ -129,27 +125,26 @@ def rule_findings(analysis) -> tuple[RuleFinding, ...]:
 # Remedies -----------------------------------------------------------------------------------------
 
 class _Evaluator:
-    """Re-evaluates one sensor's budget figures with one run's geometry replaced."""
+    """Re-evaluates one sensor's budget figures with one run re-routed."""
 
     def __init__(self, analysis, result):
         self.plan = analysis.plan
         self.horizontal_t = analysis.site.horizontal_t
         self.sensor = result.sensor
-        position = self.sensor.position_m[None, :]
-        self.unit = result.unit_fields_t                               # (R, 3) [T/A]
-        self.currents = self.plan.run_currents_a                       # (R, K)
-        self.items = equipment_fields(self.plan, self.sensor, position, self.horizontal_t)
-        self.totals = (self.unit.T @ self.currents).T[None] + self.items.oriented  # (1, K, 3)
-        reference = self.sensor.reference_state
-        self.reference_index = self.plan.state_index(reference) if reference else None
+        self.parts = result.parts                                      # P = 1
+        self.items = equipment_fields(self.plan, self.sensor, self.sensor.position_m[None, :],
+                                      self.horizontal_t)
 
-    def with_run(self, r, geometry):
-        """Figures (arrays (1, K)) with run ``r`` routed as ``geometry``, and its nearest distance."""
-        unit, nearest = run_fields_at(route_runs([geometry]), 1, self.sensor.position_m[None, :])
-        swap = np.outer(self.currents[r], unit[0, 0] - self.unit[r])   # (K, 3)
-        figures = budget_figures(self.sensor, self.horizontal_t, self.totals + swap[None],
-                                 self.items.bound, self.items.changing, self.reference_index)
-        return figures, float(nearest[0, 0])
+    def with_run(self, r, run):
+        """Figures (arrays (1, K)) with run ``r`` replaced by ``run``, and its nearest distance."""
+        new = parts_of_runs([run], self.sensor.position_m[None, :])
+        unit, spread = self.parts.unit_t.copy(), self.parts.spread_t.copy()
+        bound = self.parts.bound_t.copy()
+        unit[:, r], spread[:, r], bound[:, r] = new.unit_t[:, 0], new.spread_t[:, 0], \
+            new.bound_t[:, 0]
+        parts = RunParts(unit, spread, bound, self.parts.nearest_m)
+        figures = budget_figures(self.plan, self.sensor, self.horizontal_t, parts, self.items)
+        return figures, float(new.nearest_m[0, 0])
 
 
 def _pair_spacing(run):
@@ -205,7 +200,7 @@ def _solve_clearance(evaluator, r, run, k, budget):
             shifted = detour(back, sensor, offset)
             back = shifted if shifted is not None else back
         geometry = replace(run.geometry, route_m=new_route, return_route_m=back)
-        figures, nearest = evaluator.with_run(r, geometry)
+        figures, nearest = evaluator.with_run(r, replace(run, geometry=geometry))
         return float(figures.budget_used_deg[0, k]), nearest
 
     far = attempt(MAX_DETOUR_M)
@@ -224,18 +219,25 @@ def _solve_clearance(evaluator, r, run, k, budget):
 
 
 def _reroutings(run):
-    """(kind, geometry, spacing, size, lay) of the single-run reroutings that apply to a run."""
+    """(kind, run, spacing, size, lay) of the single-run reroutings that apply to a run.
+
+    A pair is proposed with its lie not known (the worst orientation counts), a twist at the lay
+    the cable allows (routing.hint_lay_m), with the default untwisted ends at each terminal.
+    """
     kind = run.geometry.return_kind
     spacing, size = _pair_spacing(run)
     out = []
     if kind in ("separate", "none"):
-        out.append(("pair", replace(run.geometry, return_kind="paired", spacing_m=spacing,
-                                    return_route_m=None), spacing, size, None))
+        out.append(("pair", replace(run, lie="not known", geometry=replace(
+            run.geometry, return_kind="paired", spacing_m=spacing, return_route_m=None)),
+            spacing, size, None))
     if kind in ("separate", "none", "paired"):
         spacing_twist = run.geometry.spacing_m or spacing
-        out.append(("twist", replace(run.geometry, return_kind="twisted", spacing_m=spacing_twist,
-                                     lay_m=ASSUMED_LAY_M, return_route_m=None), spacing_twist,
-                    size, ASSUMED_LAY_M))
+        outer = conductor_size(run.size)[2] if run.size else spacing_twist
+        lay = hint_lay_m(outer)
+        out.append(("twist", replace(run, geometry=replace(
+            run.geometry, return_kind="twisted", spacing_m=spacing_twist, lay_m=lay,
+            return_route_m=None)), spacing_twist, size, lay))
     return out
 
 
@@ -257,8 +259,8 @@ def remedies_for(analysis, result) -> dict[str, tuple[Remedy, ...]]:
         for contribution in candidates:
             r = by_name[contribution.name]
             run = plan.runs[r]
-            for kind, geometry, spacing, size, lay in _reroutings(run):
-                figures, _ = evaluator.with_run(r, geometry)
+            for kind, rerouted, spacing, size, lay in _reroutings(run):
+                figures, _ = evaluator.with_run(r, rerouted)
                 found.append(Remedy(sensor.name, st.state, kind, run.name, st.budget_used_deg,
                                     float(figures.budget_used_deg[0, k]),
                                     bool(figures.within_budget[0, k]), spacing_m=spacing,

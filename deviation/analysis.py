@@ -12,9 +12,10 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from . import heading
-from .budget import asin_deg, budget_figures, equipment_fields, item_effect
-from .field import point_segment_distance, segment_field_by_group
+from .budget import (RunParts, asin_deg, budget_figures, equipment_fields, item_effect,
+                     parts_of_runs, run_fields_at)
 from .plan import Plan, Sensor, conductors_of, frozen_array
+from .worst_case import worst_combination
 from .routing import Conductors
 from .sitefield import SiteField, site_field
 
@@ -24,13 +25,14 @@ class RunContribution:
     """One run at one sensor in one state (supply and return together)."""
 
     name: str
-    current_a: float
-    field_t: np.ndarray               # (3,) vessel frame, this run alone in this state
+    current_a: float                  # in the worst switching of independent circuits
+    field_t: np.ndarray               # (3,) vessel frame, the part of known direction
     nearest_m: float
     max_deviation_deg: float          # this run alone, level, over all headings, absolute
     change_from_reference_deg: float | None   # this run's own residual b - b_ref, level
     share_of_budget: float            # the run's counted figure / budget_deg
     return_kind: str
+    bound_t: float = 0.0              # the part of unknown direction (lie of a pair, floor)
 
 
 @dataclass(frozen=True)
@@ -66,6 +68,8 @@ class StateResult:
     runs: tuple[RunContribution, ...]
     equipment: tuple[EquipmentContribution, ...]
     remedies: tuple = ()
+    bound_t: float = 0.0              # every bound of unknown direction in the held figure
+    switched_on: tuple[tuple[str, int], ...] = ()   # independent circuits on in the worst case
 
 
 @dataclass(frozen=True)
@@ -73,8 +77,12 @@ class SensorResult:
     sensor: Sensor
     states: tuple[StateResult, ...]
     within_budget: bool               # in every state the sensor is used in
-    unit_fields_t: np.ndarray = field(repr=False)   # (R, 3) each run's field per ampere [T/A]
-    nearest_m: np.ndarray = field(repr=False)       # (R,) each run's nearest distance [m]
+    parts: RunParts = field(repr=False)  # each run's field per ampere at the sensor (P = 1)
+
+    @property
+    def nearest_m(self) -> np.ndarray:
+        """(R,) each run's nearest distance to the sensor [m]."""
+        return self.parts.nearest_m[0]
 
     def state(self, name: str) -> StateResult:
         return next(s for s in self.states if s.state == name)
@@ -140,20 +148,6 @@ class Analysis:
         return next(s for s in self.sensors if s.sensor is wanted)
 
 
-def run_fields_at(conductors, n_runs, points_m):
-    """Field of each run at unit current [T/A], shape (P, R, 3), and nearest distances (P, R) [m]."""
-    points = np.asarray(points_m, dtype=float).reshape(-1, 3)
-    unit, _ = segment_field_by_group(conductors.start_m, conductors.end_m, conductors.sign,
-                                     conductors.run_index, n_runs, points,
-                                     radius_m=conductors.radius_m)
-    nearest = np.full((len(points), n_runs), np.inf)
-    if len(conductors):
-        distance = point_segment_distance(conductors.start_m, conductors.end_m, points)
-        firsts = np.flatnonzero(np.r_[True, np.diff(conductors.run_index) != 0])
-        nearest[:, conductors.run_index[firsts]] = np.minimum.reduceat(distance, firsts, axis=1)
-    return unit, nearest
-
-
 def equipment_at(plan, sensor, position, state, horizontal_t):
     """The items present in a state, at one position."""
     out = []
@@ -174,49 +168,55 @@ def equipment_at(plan, sensor, position, state, horizontal_t):
     return tuple(out)
 
 
-def evaluate_sensor(plan: Plan, sensor: Sensor, site: SiteField, unit_fields_t: np.ndarray,
-                    nearest_m: np.ndarray) -> SensorResult:
-    """Budget of one sensor in every state.
-
-    Parameters
-    ----------
-    unit_fields_t : (R, 3) array [T/A]
-        Each run's field at unit current, at the sensor.
-    nearest_m : (R,) array [m]
-        Each run's nearest distance to the sensor.
-    """
+def evaluate_sensor(plan: Plan, sensor: Sensor, site: SiteField, parts: RunParts) -> SensorResult:
+    """Budget of one sensor in every state, from each run's field per ampere at it (P = 1)."""
     position = sensor.position_m
     h = site.horizontal_t
-    currents = plan.run_currents_a                                  # (R, K)
-    per_run = unit_fields_t[None, :, :] * currents.T[:, :, None]    # (K, R, 3)
     items = equipment_fields(plan, sensor, position[None, :], h)
-    totals = per_run.sum(axis=1)[None] + items.oriented             # (1, K, 3)
+    figures = budget_figures(plan, sensor, h, parts, items)
+    matrix, currents = plan.circuit_matrix, plan.circuit_currents_a
+    independent = plan.independent
+    names = [c.name for c in plan.circuits if c.independent]
+    base_a = matrix @ (currents * ~independent[:, None])                    # (R, K)
+    on_a = matrix[:, independent] @ np.abs(currents[independent])           # (R, K)
+    # Each run's current in the switching behind the held figure, state by state.
+    switched = currents[independent].T * figures.combination[0]             # (K, Ci)
+    run_a = base_a + matrix[:, independent] @ switched.T                    # (R, K)
+    unit, bound = parts.unit_t[0], parts.bound_t[0]                         # (R, 3), (R,)
+    per_run = unit[None, :, :] * run_a.T[:, :, None]                        # (K, R, 3)
+    scale = (np.abs(base_a) + on_a).T                                       # (K, R)
     ref_k = plan.state_index(sensor.reference_state) if sensor.reference_state else None
-    figures = budget_figures(sensor, h, totals, items.bound, items.changing, ref_k)
-    run_sizes = heading.horizontal_disturbance(per_run)                        # (K, R)
-    own = asin_deg(run_sizes / h)
-    change = (None if ref_k is None else
-              asin_deg(heading.horizontal_disturbance(per_run - per_run[ref_k][None]) / h))
+    own_size, run_bound = _alone(per_run, parts.spread_t[0], bound, scale)
+    own = asin_deg(own_size / h)                                            # (K, R)
+    change = None
+    if ref_k is not None:
+        moved = (np.abs(base_a - base_a[:, ref_k:ref_k + 1]) + on_a).T
+        change = asin_deg(_alone(per_run - per_run[ref_k][None], parts.spread_t[0], bound,
+                                 moved)[0] / h)
     counted = own if change is None else change
+    totals = figures.total_t[0]                                             # (K, 3)
     results = []
     for k, state in enumerate(plan.state_names):
         is_reference = k == ref_k
         # In the reference state every run's change is zero by definition; rank by what the
         # adjustment has to absorb instead.
         rank = own[k] if is_reference else counted[k]
-        runs = [RunContribution(run.name, float(currents[r, k]), frozen_array(per_run[k, r]),
-                                float(nearest_m[r]), float(own[k, r]),
+        runs = [RunContribution(run.name, float(run_a[r, k]), frozen_array(per_run[k, r]),
+                                float(parts.nearest_m[0, r]), float(own[k, r]),
                                 None if change is None else float(change[k, r]),
                                 float(counted[k, r]) / sensor.budget_deg,
-                                run.geometry.return_kind)
+                                run.geometry.return_kind, float(run_bound[k, r]))
                 for r, run in enumerate(plan.runs)]
         order = sorted(range(len(runs)), key=lambda r: (-rank[r], runs[r].name))
+        on = tuple((name, int(s)) for name, s in zip(names, figures.combination[0, k]) if s)
+        sizes = heading.horizontal_disturbance(per_run[k]).sum() + run_bound[k].sum()
+        # ("if every field lined up": each run's own worst size, added as magnitudes)
         results.append(StateResult(
             state=state, used=sensor.used_in_state(state), is_reference=is_reference,
-            field_t=frozen_array(totals[0, k]),
+            field_t=frozen_array(totals[k]),
             vector_deviation_deg=float(figures.vector_deviation_deg[0, k]),
             max_deviation_deg=float(figures.max_deviation_deg[0, k]),
-            magnitude_bound_deg=float(asin_deg((run_sizes[k].sum() + items.bound[0, k]) / h)),
+            magnitude_bound_deg=float(asin_deg((sizes + items.bound[0, k]) / h)),
             change_from_reference_deg=(None if figures.change_from_reference_deg is None
                                        else float(figures.change_from_reference_deg[0, k])),
             heeled_max_deviation_deg=float(figures.attitude_deviation_deg[0, k]),
@@ -225,20 +225,40 @@ def evaluate_sensor(plan: Plan, sensor: Sensor, site: SiteField, unit_fields_t: 
             budget_used_deg=float(figures.budget_used_deg[0, k]),
             within_budget=bool(figures.within_budget[0, k]),
             overwhelmed=bool(figures.overwhelmed[0, k]),
-            fraction_of_total=float(np.linalg.norm(totals[0, k])) / site.total_t,
+            fraction_of_total=float(np.linalg.norm(totals[k])) / site.total_t,
             equipment_bound_t=float(items.bound[0, k]), runs=tuple(runs[r] for r in order),
-            equipment=equipment_at(plan, sensor, position, state, h)))
+            equipment=equipment_at(plan, sensor, position, state, h),
+            bound_t=float(figures.bound_t[0, k]), switched_on=on))
     within = all(s.within_budget for s in results if s.used)
-    return SensorResult(sensor, tuple(results), within, frozen_array(unit_fields_t),
-                        frozen_array(nearest_m))
+    return SensorResult(sensor, tuple(results), within, parts)
+
+
+def _alone(per_run, spread, bound, scale):
+    """Each run alone, level: its largest horizontal size over its own lies and bounds, and the
+    part of that of unknown direction. per_run (K, R, 3) [T], spread (R, G, 3) [T/A], bound (R,)
+    [T/A], scale (K, R) [A]."""
+    generators = spread[None] * scale[:, :, None, None]                     # (K, R, G, 3)
+    size, _ = worst_combination(per_run, generators,
+                                np.ones(generators.shape[2], dtype=bool))
+    extra = bound[None, :] * scale
+    return size + extra, size + extra - heading.horizontal_disturbance(per_run)
+
+
+def parts_at(plan: Plan, points_m) -> RunParts:
+    """Each run's field per ampere (known and unknown direction) at many points."""
+    return parts_of_runs(plan.runs, points_m, conductors_of(plan))
+
+
+def _one(parts: RunParts, i: int) -> RunParts:
+    return RunParts(parts.unit_t[i:i + 1], parts.spread_t[i:i + 1], parts.bound_t[i:i + 1],
+                    parts.nearest_m[i:i + 1])
 
 
 def analyse(plan: Plan) -> Analysis:
     """Compute the deviation budget of every sensor in every state."""
     site = site_field(plan.site)
-    conductors = conductors_of(plan)
     positions = np.array([s.position_m for s in plan.sensors]).reshape(-1, 3)
-    unit, nearest = run_fields_at(conductors, len(plan.runs), positions)
-    sensors = tuple(evaluate_sensor(plan, sensor, site, unit[i], nearest[i])
+    parts = parts_at(plan, positions)
+    sensors = tuple(evaluate_sensor(plan, sensor, site, _one(parts, i))
                     for i, sensor in enumerate(plan.sensors))
     return Analysis(plan, site, sensors)

@@ -17,10 +17,14 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from dataclasses import replace
+
 from . import heading
-from .constants import SAFE_DISTANCE_DEG_UT
-from .field import dipole_field, dipole_field_bound
+from .constants import SAFE_DISTANCE_DEG_UT, TWISTED_FLOOR_FRACTION
+from .field import dipole_field, dipole_field_bound, point_segment_distance, segment_field_by_group
+from .routing import as_paired, route_runs
 from .sitefield import TESLA_PER_UT
+from .worst_case import horizontal_over_attitude, worst_combination
 
 #: Deviation reported where the disturbance's horizontal part reaches H: the sensor can point
 #: anywhere (renderers say "overwhelmed", never this number).
@@ -123,37 +127,143 @@ def equipment_fields(plan, sensor, points_m, horizontal_t) -> EquipmentFields:
     return EquipmentFields(oriented, bound, changing)
 
 
-def attitude_horizontal(b_vessel, max_heel_deg=0.0, max_pitch_deg=0.0):
-    """Largest level horizontal part of a vessel-fixed field over the attitudes allowed, exactly.
+# Runs at points ----------------------------------------------------------------------------------
 
-    Parameters
-    ----------
-    b_vessel : (..., 3) array
-    max_heel_deg, max_pitch_deg : float [deg]
+#: Turns of a pair's return about the run's axis at which a pair of unknown lie is routed [deg]:
+#: left of travel, above, right, below.
+LIE_ANGLES_DEG = (0.0, 90.0, 180.0, 270.0)
 
-    Returns
-    -------
-    (..., ) array, in the unit of ``b_vessel``
+
+def run_fields_at(conductors, n_runs, points_m):
+    """Field of each run at unit current [T/A], shape (P, R, 3), and nearest distances (P, R) [m]."""
+    points = np.asarray(points_m, dtype=float).reshape(-1, 3)
+    unit, _ = segment_field_by_group(conductors.start_m, conductors.end_m, conductors.sign,
+                                     conductors.run_index, n_runs, points,
+                                     radius_m=conductors.radius_m)
+    nearest = np.full((len(points), n_runs), np.inf)
+    if len(conductors):
+        distance = point_segment_distance(conductors.start_m, conductors.end_m, points)
+        firsts = np.flatnonzero(np.r_[True, np.diff(conductors.run_index) != 0])
+        nearest[:, conductors.run_index[firsts]] = np.minimum.reduceat(distance, firsts, axis=1)
+    return unit, nearest
+
+
+#: Generators of a pair's spread (see :func:`_lie_spread`).
+SPREAD_GENERATORS = 4
+#: Most spread generators given to the exact worst-case search; the smaller ones beyond are
+#: counted as bounds of unknown direction (never less than the exact figure, a little more).
+MAX_EXACT_GENERATORS_LEVEL = 64
+MAX_EXACT_GENERATORS_ATTITUDE = 24
+
+
+@dataclass(frozen=True)
+class RunParts:
+    """What the budget needs of each run at P points, per ampere of the run's current.
+
+    unit_t : (P, R, 3) [T/A]
+        The field of known direction (for a pair: the centre of its possible lies).
+    spread_t : (P, R, SPREAD_GENERATORS, 3) [T/A]
+        How a pair's field may move as it turns about its own axis, as generators g of a
+        zonotope: the field is unit + sum_j s_j g_j for some s_j in [-1, 1] (zeros where a run
+        has no such freedom).
+    bound_t : (P, R) [T/A]
+        A part of unknown direction: the second-order spread of a pair of unknown lie, and what
+        a twisted run's floor adds.
+    nearest_m : (P, R) [m]
     """
-    if max_heel_deg:
-        return heading.horizontal_disturbance(
-            b_vessel, heading.worst_heel_deg(b_vessel, max_heel_deg))
-    return heading.horizontal_disturbance(b_vessel)
+
+    unit_t: np.ndarray
+    spread_t: np.ndarray
+    bound_t: np.ndarray
+    nearest_m: np.ndarray
+
+
+def _lie_spread(b0, b90, b180, b270, lie):
+    """Centre, spread generators (..., 4, 3) and a scalar bound of a pair over its lies [T/A].
+
+    Notes
+    -----
+    "side by side" leaves the return left or right of the supply: exactly the two fields b0 and
+    b180, the centre (b0 + b180)/2 plus or minus u = (b0 - b180)/2. "one above the other"
+    likewise with b90 and b270 and w = (b90 - b270)/2.
+
+    With the lie not known, turning the return by alpha about the axis moves the field on
+    b(alpha) = c + cos(alpha) u + sin(alpha) w to first order in spacing/distance (the return is
+    a line current displaced by s(cos alpha n + sin alpha v)). The ellipse lies inside the
+    octagon sum_j [-1, 1] tan(pi/8) (cos(j pi/4) u + sin(j pi/4) w), j = 0..3 (the regular octagon
+    circumscribing the unit circle, mapped by [u w]), at most 1/cos(pi/8) = 1.082 times farther
+    out; c, the mean of the four routed lies, differs from each of them by the second-order
+    delta = +-((b0 + b180) - (b90 + b270))/4, counted as a bound.
+    """
+    zero = np.zeros(b0.shape[:-1] + (SPREAD_GENERATORS, 3))
+    if lie == "side by side":
+        zero[..., 0, :] = (b0 - b180) / 2
+        return (b0 + b180) / 2, zero, np.zeros(b0.shape[:-1])
+    if lie == "one above the other":
+        zero[..., 0, :] = (b90 - b270) / 2
+        return (b90 + b270) / 2, zero, np.zeros(b0.shape[:-1])
+    u, w = (b0 - b180) / 2, (b90 - b270) / 2
+    t = math.tan(math.pi / 8)
+    for j in range(SPREAD_GENERATORS):
+        angle = j * math.pi / 4
+        zero[..., j, :] = t * (math.cos(angle) * u + math.sin(angle) * w)
+    delta = ((b0 + b180) - (b90 + b270)) / 4
+    return (b0 + b90 + b180 + b270) / 4, zero, np.linalg.norm(delta, axis=-1)
+
+
+def _lie_fields(geometries, points):
+    """(4, P, n, 3) fields per ampere of each geometry with its return at LIE_ANGLES_DEG."""
+    return np.stack([run_fields_at(route_runs([replace(g, return_angle_deg=a) for g in geometries]),
+                                   len(geometries), points)[0] for a in LIE_ANGLES_DEG])
+
+
+def parts_of_runs(runs, points_m, conductors=None) -> RunParts:
+    """:class:`RunParts` of some runs (the plan's :class:`~deviation.plan.Run` values).
+
+    ``conductors``, if given, are the runs already routed (``plan.conductors_of``).
+    """
+    points = np.asarray(points_m, dtype=float).reshape(-1, 3)
+    geometries = [r.geometry for r in runs]
+    routed = conductors if conductors is not None else route_runs(geometries)
+    unit, nearest = run_fields_at(routed, len(runs), points)
+    spread = np.zeros(unit.shape[:2] + (SPREAD_GENERATORS, 3))
+    bound = np.zeros(unit.shape[:2])
+    paired = [i for i, g in enumerate(geometries) if g.return_kind == "paired"]
+    if paired:
+        b = _lie_fields([geometries[i] for i in paired], points)
+        for j, i in enumerate(paired):
+            unit[:, i], spread[:, i], bound[:, i] = _lie_spread(*b[:, :, j], runs[i].lie)
+    twisted = [i for i, g in enumerate(geometries) if g.return_kind == "twisted"]
+    if twisted:
+        # Beyond what measurement supports, no weaker than the floor fraction of the same run
+        # laid as a pair in its worst lie (Moser & Spencer 1968): the shortfall is a bound.
+        b = _lie_fields([as_paired(geometries[i]) for i in twisted], points)
+        for j, i in enumerate(twisted):
+            centre, generators, delta = _lie_spread(*b[:, :, j], "not known")
+            pair = (np.linalg.norm(centre, axis=-1) + delta
+                    + np.linalg.norm(generators, axis=-1).sum(axis=-1))
+            bound[:, i] = np.maximum(TWISTED_FLOOR_FRACTION * pair
+                                     - np.linalg.norm(unit[:, i], axis=-1), 0.0)
+    return RunParts(unit, spread, bound, nearest)
 
 
 @dataclass(frozen=True)
 class Figures:
-    """Budget figures of one sensor at P positions in K states; arrays (P, K) [deg].
+    """Budget figures of one sensor at P positions in K states; arrays (P, K) [deg] unless noted.
 
     vector_deviation_deg : level, largest over headings, from the vector sum alone
-    max_deviation_deg : level, vector sum and equipment bounds: the absolute worst
+    max_deviation_deg : level, with every bound of unknown direction: the absolute worst
     attitude_deviation_deg : the same at the worst attitude within heel and pitch
-    change_from_reference_deg : level, the deviation of the residual field b - b_ref, with the
-        bounds of items that change with the state (None without a reference state)
+    change_from_reference_deg : level, the deviation of the residual field b - b_ref with the
+        bounds that change from the reference state (None without a reference state)
     attitude_change_deg : the same at the worst attitude (None without a reference state)
     budget_used_deg : the figure held against the budget
-    overwhelmed : the disturbance (or residual) reaches H at some attitude
+    overwhelmed : what the sensor sees (the residual, if adjusted) can reach H
     within_budget : budget_used_deg <= budget and not overwhelmed
+    combination : (P, K, Ci) int, the switching of the independent circuits behind the held
+        figure (1 on, 0 off, -1 on reversed)
+    total_t : (P, K, 3) [T] the vector field in that worst combination
+    bound_t : (P, K) [T] the bounds of unknown direction counted in the held figure
     """
 
     vector_deviation_deg: np.ndarray
@@ -164,61 +274,144 @@ class Figures:
     budget_used_deg: np.ndarray
     overwhelmed: np.ndarray
     within_budget: np.ndarray
+    combination: np.ndarray
+    total_t: np.ndarray
+    bound_t: np.ndarray
 
 
-def budget_figures(sensor, horizontal_t, totals_t, bound_t, changing_t, reference_index=None):
-    """The figures held against a sensor's budget.
+def _worst(base, generators, reversing, heel, pitch):
+    """Largest horizontal size over attitude and switching: (size, choice)."""
+    if generators.shape[-2] == 0:
+        size = horizontal_over_attitude(base, heel, pitch) if heel or pitch else \
+            heading.horizontal_disturbance(base)
+        return size, np.zeros(base.shape[:-1] + (0,), dtype=int)
+    return worst_combination(base, generators, reversing, heel, pitch)
+
+
+def _attitude_size(b, heel, pitch):
+    return horizontal_over_attitude(b, heel, pitch) if heel or pitch else \
+        heading.horizontal_disturbance(b)
+
+
+def _held(base, switched, switched_reversing, spread, scale, scalar, heel, pitch, exact_cap):
+    """The largest horizontal size of base + switching + spread, over attitude.
 
     Parameters
     ----------
-    sensor : Sensor
-        Its budget, heel and pitch limits.
-    horizontal_t : float [T]
-        The Earth's horizontal field H.
-    totals_t : (P, K, 3) array [T]
-        Vector sum of runs and oriented items, vessel frame.
-    bound_t, changing_t : (P, K) arrays [T]
-        Fields of unknown direction: all of them, and those that change from the reference state.
-    reference_index : int or None
-        The state the sensor is adjusted in.
+    base : (P, K, 3)
+    switched : (P, K, Ci, 3) independent circuits' fields in each state
+    switched_reversing : (Ci,) bool
+    spread : (P, R, G, 3) per ampere; scale : (R, K) amperes
+    scalar : (P, K) bounds of unknown direction
+    exact_cap : int, most generators searched exactly
 
     Returns
     -------
-    Figures
+    size (P, K), choice of the switched circuits (P, K, Ci), bound counted apart (P, K)
+    """
+    n_p, n_k = base.shape[:2]
+    n_r, n_g = spread.shape[1:3]
+    weight = (np.linalg.norm(spread, axis=-1).max(axis=0)[:, :, None]
+              * np.abs(scale)[:, None, :]).max(axis=-1).reshape(-1)       # (R*G,)
+    room = max(0, exact_cap - switched.shape[2])
+    order = np.argsort(-weight, kind="stable")
+    keep = order[:room][weight[order[:room]] > 0]
+    rest = np.setdiff1d(np.flatnonzero(weight > 0), keep)
+    flat = spread.reshape(n_p, n_r * n_g, 3)
+    run_of = np.repeat(np.arange(n_r), n_g)
+    kept = flat[:, keep][:, None] * np.abs(scale[run_of[keep]]).T[None, :, :, None]
+    generators = np.concatenate([switched, kept], axis=2)
+    reversing = np.concatenate([switched_reversing, np.ones(len(keep), dtype=bool)])
+    size, choice = _worst(base, generators, reversing, heel, pitch)
+    # The smaller spread generators are counted apart, by the triangle inequality at the worst
+    # attitude: never less than the exact figure.
+    apart = scalar.copy()
+    if len(rest):
+        sizes = _attitude_size(flat[:, rest], heel, pitch)                    # (P, n_rest)
+        apart += sizes @ np.abs(scale[run_of[rest]])
+    return size, choice[..., :switched.shape[2]], apart
+
+
+def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: EquipmentFields) -> Figures:
+    """The figures held against a sensor's budget at P points in every state.
+
+    Parameters
+    ----------
+    plan : Plan
+        Its circuits (currents per state, which switch independently) and runs.
+    sensor : Sensor
+        Its budget, reference state, heel and pitch limits.
+    horizontal_t : float [T]
+        The Earth's horizontal field H.
+    parts : RunParts
+        Each run's field per ampere at the points.
+    items : EquipmentFields
+        The equipment at the points.
 
     Notes
     -----
-    Over all headings the largest deviation of a vessel-fixed disturbance b is
-    asin(|b_h|/H) (the needle lies along H + b_h; NGA Pub. 226, semicircular deviation). A field
-    of unknown direction and size at most beta can line up with b_h, so the worst case is
-    asin((|b_h| + beta)/H), exact for the worst direction.
+    Over all headings the largest deviation of a vessel-fixed disturbance b is asin(|b_h|/H)
+    (the needle lies along H + b_h; NGA Pub. 226, semicircular deviation). A field of unknown
+    direction and size at most beta can line up with b_h at the worst attitude, so the worst case
+    is asin((|b_h| + beta)/H), exact for the worst direction.
+
+    Circuits that switch independently may be on or off (or on either way round) on top of any
+    state; the worst switching is found exactly (:func:`deviation.worst_case.worst_combination`).
+    A bound's current is taken with every independent circuit of its run on.
 
     A sensor adjusted in a reference state keeps the residual field: compass correctors and an
-    electronic compass's hard-iron calibration cancel the vessel-fixed field b_ref present when
-    they are set, so in another state the sensor sees b - b_ref and its deviation is
-    delta(b - b_ref), not delta(b) - delta(b_ref) (the latter is what a deviation card alone
-    leaves, with no correction). The same worst-attitude and bound rules apply to the residual.
+    electronic compass's hard-iron calibration cancel the vessel-fixed field present when they are
+    set (the reference state, independent circuits off), so in another state the sensor sees
+    b - b_ref and its deviation is delta(b - b_ref), not delta(b) - delta(b_ref) (the latter is what
+    a deviation card alone leaves, with no correction). A bound's share of the residual goes with
+    the change of its current, because the cable does not move between states; an item present in
+    both states is adjusted out with the reference.
     """
     h = horizontal_t
     heel, pitch = sensor.max_heel_deg, sensor.max_pitch_deg
-    level = heading.horizontal_disturbance(totals_t)
-    tilted = attitude_horizontal(totals_t, heel, pitch) if heel or pitch else level
-    vector = asin_deg(level / h)
-    absolute = asin_deg((level + bound_t) / h)
-    attitude = asin_deg((tilted + bound_t) / h)
+    matrix = plan.circuit_matrix                                 # (R, C)
+    currents = plan.circuit_currents_a                           # (C, K)
+    independent = plan.independent
+    base_a = matrix @ (currents * ~independent[:, None])         # (R, K)
+    on_a = matrix[:, independent] @ np.abs(currents[independent])  # (R, K) all independents on
+    base = np.einsum("prj,rk->pkj", parts.unit_t, base_a) + items.oriented      # (P, K, 3)
+    circuit_unit = np.einsum("prj,rc->pcj", parts.unit_t, matrix[:, independent])  # (P, Ci, 3)
+    switched = circuit_unit[:, None, :, :] * currents[independent].T[None, :, :, None]
+    reversing = np.array([c.reversing for c in plan.circuits if c.independent], dtype=bool)
+    scale = np.abs(base_a) + on_a
+    scalar = parts.bound_t @ scale + items.bound                                 # (P, K)
+
+    def held(field, scale, scalar, heel, pitch, cap):
+        return _held(field, switched, reversing, parts.spread_t, scale, scalar, heel, pitch, cap)
+
+    level, _, level_apart = held(base, scale, scalar, 0.0, 0.0, MAX_EXACT_GENERATORS_LEVEL)
+    tilted, choice, tilted_apart = (
+        held(base, scale, scalar, heel, pitch, MAX_EXACT_GENERATORS_ATTITUDE) if heel or pitch
+        else held(base, scale, scalar, 0.0, 0.0, MAX_EXACT_GENERATORS_LEVEL))
+    vector = asin_deg(heading.horizontal_disturbance(
+        base + np.einsum("pkc,pkcj->pkj", choice, switched)) / h)
+    absolute = asin_deg((level + level_apart) / h)
+    attitude = asin_deg((tilted + tilted_apart) / h)
     change = attitude_change = None
-    overwhelmed = tilted + bound_t >= h
-    if reference_index is not None:
-        residual = totals_t - totals_t[:, reference_index:reference_index + 1, :]
-        level_residual = heading.horizontal_disturbance(residual)
-        tilted_residual = (attitude_horizontal(residual, heel, pitch) if heel or pitch
-                           else level_residual)
-        change = asin_deg((level_residual + changing_t) / h)
-        attitude_change = asin_deg((tilted_residual + changing_t) / h)
-        used = attitude_change
+    overwhelmed = tilted + tilted_apart >= h
+    used, held_bound = attitude, tilted_apart
+    if sensor.reference_state is not None:
+        k = plan.state_index(sensor.reference_state)
+        residual = base - base[:, k:k + 1, :]
+        moved = np.abs(base_a - base_a[:, k:k + 1]) + on_a
+        changing = parts.bound_t @ moved + items.changing
+        level_r, choice, level_r_apart = held(residual, moved, changing, 0.0, 0.0,
+                                              MAX_EXACT_GENERATORS_LEVEL)
+        tilted_r, tilted_r_apart = level_r, level_r_apart
+        if heel or pitch:
+            tilted_r, choice, tilted_r_apart = held(residual, moved, changing, heel, pitch,
+                                                    MAX_EXACT_GENERATORS_ATTITUDE)
+        change = asin_deg((level_r + level_r_apart) / h)
+        attitude_change = asin_deg((tilted_r + tilted_r_apart) / h)
         # Adjusted, the sensor sees only the residual: that is what can overwhelm it.
-        overwhelmed = tilted_residual + changing_t >= h
-    else:
-        used = attitude
+        overwhelmed = tilted_r + tilted_r_apart >= h
+        used, held_bound = attitude_change, tilted_r_apart
     within = (used <= sensor.budget_deg) & ~overwhelmed
-    return Figures(vector, absolute, attitude, change, attitude_change, used, overwhelmed, within)
+    total = base + np.einsum("pkc,pkcj->pkj", choice, switched)
+    return Figures(vector, absolute, attitude, change, attitude_change, used, overwhelmed, within,
+                   choice, total, held_bound)

@@ -51,6 +51,9 @@ class RunGeometry:
     lay_m: float | None = None          # for twisted
     radius_m: float = 0.0               # conductor radius (inside test)
     untwisted_end_m: float | None = None   # twisted: paired length at each end; None: default
+    #: paired: where the return lies about the run's axis, turned from "left of travel" towards
+    #: "above" (0: left, 90: above, 180: right, 270: below).
+    return_angle_deg: float = 0.0
 
 
 @dataclass
@@ -127,7 +130,8 @@ def route_run(run: RunGeometry):
         back = np.asarray(run.return_route_m, dtype=float).reshape(-1, 3)
         return _closed_circuit(route, back, forward_sign=1.0, back_sign=1.0)
     if run.return_kind == "paired":
-        return _closed_circuit(route, offset_polyline(route, run.spacing_m), 1.0, -1.0)
+        return _closed_circuit(route, offset_polyline(route, run.spacing_m,
+                                                      run.return_angle_deg), 1.0, -1.0)
     if run.return_kind == "twisted":
         supply, back = twisted_conductors(route, run.spacing_m, run.lay_m, run.untwisted_end_m)
         return _closed_circuit(supply, back, 1.0, -1.0)
@@ -169,13 +173,17 @@ def _left_normals(points):
     return normal
 
 
-def offset_polyline(points, spacing_m):
+def offset_polyline(points, spacing_m, angle_deg=0.0):
     """The polyline offset by ``spacing_m`` to the left of travel, mitred at the corners.
 
     Parameters
     ----------
     points : (N, 3) array [m]
     spacing_m : float [m]
+    angle_deg : float [deg]
+        Turns the offset about each stretch from "left of travel" towards "above": 90 puts the
+        return above the supply (on a vertical stretch: towards the stretch's direction crossed
+        with its left normal), 180 to the right.
 
     Returns
     -------
@@ -189,6 +197,16 @@ def offset_polyline(points, spacing_m):
     """
     points = np.asarray(points, dtype=float)
     normals = _left_normals(points)
+    if angle_deg:
+        direction = np.diff(points, axis=0)
+        length = np.linalg.norm(direction, axis=1, keepdims=True)
+        up = np.cross(direction / np.maximum(length, 1e-300), normals)
+        # Stays a unit normal of each stretch: left and "up" are perpendicular to the stretch.
+        angle = np.radians(angle_deg)
+        turned = np.cos(angle) * normals + np.sin(angle) * up
+        size = np.linalg.norm(turned, axis=1, keepdims=True)
+        # A zero-length stretch has no "up" of its own; it keeps the left normal.
+        normals = np.where(size > 1e-12, turned / np.maximum(size, 1e-300), normals)
     offsets = np.empty_like(points)
     offsets[0] = normals[0] * spacing_m
     offsets[-1] = normals[-1] * spacing_m

@@ -11,20 +11,19 @@ form: see :mod:`deviation.budget`), so the ranking needs no separate exact pass.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
-from .analysis import evaluate_sensor, run_fields_at
+from .analysis import evaluate_sensor, parts_at
 from .budget import budget_figures, equipment_fields
-from .field import segment_field
 
 #: Largest number of points in the coarse stage.
 COARSE_POINTS = 40_000
 #: Coarse cells refined at the fine step.
 REFINED_CELLS = 24
-#: Points evaluated per call of the field kernel (bounds memory: P x K x 3 doubles).
-CHUNK_POINTS = 200_000
+#: Points evaluated per call of the field kernel (bounds memory: P x R x 3 doubles).
+CHUNK_POINTS = 20_000
 
 
 @dataclass(frozen=True)
@@ -59,24 +58,21 @@ class SpotSearch:
             for i, s in enumerate(self.spots, start=1)])
 
 
-def _figures_at(plan, sensor, site, conductors, currents, points, progress=None):
+def _figures_at(plan, sensor, site, points, progress=None):
     """Worst figure over used states at each point (P,), its state index (P,), inside mask (P,)."""
     worst = np.empty(len(points))
     which = np.empty(len(points), dtype=int)
     inside = np.zeros(len(points), dtype=bool)
     used_states = np.array([sensor.used_in_state(s) for s in plan.state_names])
-    reference = plan.state_index(sensor.reference_state) if sensor.reference_state else None
     for p0 in range(0, len(points), CHUNK_POINTS):
         chunk = points[p0:p0 + CHUNK_POINTS]
-        fields, hit = segment_field(conductors.start_m, conductors.end_m, currents, chunk,
-                                    radius_m=conductors.radius_m, return_inside=True)
+        parts = parts_at(plan, chunk)
         items = equipment_fields(plan, sensor, chunk, site.horizontal_t)
-        figures = budget_figures(sensor, site.horizontal_t, fields + items.oriented, items.bound,
-                                 items.changing, reference)
+        figures = budget_figures(plan, sensor, site.horizontal_t, parts, items)
         used = np.where(used_states[None, :], figures.budget_used_deg, -np.inf)
         worst[p0:p0 + len(chunk)] = used.max(axis=1)
         which[p0:p0 + len(chunk)] = used.argmax(axis=1)
-        inside[p0:p0 + len(chunk)] = hit
+        inside[p0:p0 + len(chunk)] = ~np.isfinite(parts.unit_t).all(axis=(1, 2))
         if progress is not None:
             progress(len(chunk))
     worst[inside] = np.inf
@@ -109,21 +105,16 @@ def _distinct_best(points, figure, count, min_separation):
     return np.array(chosen, dtype=int)
 
 
-def _spot(plan, conductors, position, figure, state_index, budget, reference_state=None,
-          name=None):
-    unit, _ = run_fields_at(conductors, len(plan.runs), position[None, :])
-    k = state_index
-    per_run = unit[0] * plan.run_currents_a[:, k][:, None]
-    if reference_state is not None:            # what counts is each run's change from it
-        ref_k = plan.state_names.index(reference_state)
-        per_run = per_run - unit[0] * plan.run_currents_a[:, ref_k][:, None]
-    sizes = np.hypot(per_run[:, 0], per_run[:, 1])
-    total = sizes.sum()
-    order = np.argsort(-sizes)[:3]
-    dominant = [(plan.runs[r].name, float(sizes[r] / total)) for r in order if total > 0
-                and sizes[r] > 0]
-    return Spot(position.copy(), float(figure), plan.state_names[k],
-                bool(figure <= budget), tuple(dominant), name)
+def _spot(plan, site, sensor, position, name=None):
+    """The sensor evaluated at a position: its held figure, worst state and the runs behind it."""
+    moved = replace(sensor, position_m=position)
+    result = evaluate_sensor(plan, moved, site, parts_at(plan, position[None, :]))
+    worst = result.worst
+    counted = [(r.name, r.share_of_budget) for r in worst.runs if r.share_of_budget > 0]
+    total = sum(share for _, share in counted)
+    dominant = tuple((n, share / total) for n, share in counted[:3]) if total > 0 else ()
+    return Spot(np.array(position), worst.budget_used_deg, worst.state,
+                bool(worst.within_budget), dominant, name)
 
 
 def search_box(plan, analysis, sensor, low_m, high_m, step_m, *, progress=None, top=10):
@@ -149,8 +140,7 @@ def search_box(plan, analysis, sensor, low_m, high_m, step_m, *, progress=None, 
     """
     low = np.minimum(low_m, high_m).astype(float)
     high = np.maximum(low_m, high_m).astype(float)
-    site, conductors = analysis.site, analysis.conductors
-    currents = conductors.segment_currents(plan.run_currents_a)
+    site = analysis.site
     fine_axes = _grid(low, high, step_m)
     grid_points = int(np.prod([len(a) for a in fine_axes]))
     span = high - low
@@ -165,7 +155,7 @@ def search_box(plan, analysis, sensor, low_m, high_m, step_m, *, progress=None, 
                               int((span > 0).sum()) if refine else 0)
     advance = progress(expected) if progress else None
 
-    figure, state, _ = _figures_at(plan, sensor, site, conductors, currents, coarse, advance)
+    figure, state, _ = _figures_at(plan, sensor, site, coarse, advance)
     candidates, candidate_figure, candidate_state = coarse, figure, state
     if refine:
         seeds = _distinct_best(coarse, figure, REFINED_CELLS, 1.5 * coarse_step)
@@ -176,27 +166,23 @@ def search_box(plan, analysis, sensor, low_m, high_m, step_m, *, progress=None, 
             axes = [a[(a >= l_ - 1e-12) & (a <= h_ + 1e-12)] for a, l_, h_ in zip(fine_axes, lo, hi)]
             fine.append(_points(axes))
         fine = np.unique(np.concatenate(fine), axis=0)
-        fine_figure, fine_state, _ = _figures_at(plan, sensor, site, conductors, currents, fine,
-                                                 advance)
+        fine_figure, fine_state, _ = _figures_at(plan, sensor, site, fine, advance)
         candidates = np.concatenate([coarse, fine])
         candidate_figure = np.concatenate([figure, fine_figure])
         candidate_state = np.concatenate([state, fine_state])
     pick = _distinct_best(candidates, candidate_figure, top, 2 * step_m - 1e-12)
-    spots = tuple(_spot(plan, conductors, candidates[i], candidate_figure[i], candidate_state[i],
-                        sensor.budget_deg, sensor.reference_state) for i in pick)
+    spots = tuple(_spot(plan, site, sensor, candidates[i]) for i in pick)
     return SpotSearch(sensor, spots, _current(plan, analysis, sensor), len(candidates),
                       grid_points, step_m, (low, high))
 
 
 def rank_positions(plan, analysis, sensor, positions_m, names=None):
     """Rank given candidate positions (e.g. a spots sheet) by the held figure, best first."""
-    site, conductors = analysis.site, analysis.conductors
-    currents = conductors.segment_currents(plan.run_currents_a)
     positions = np.asarray(positions_m, dtype=float).reshape(-1, 3)
-    figure, state, inside = _figures_at(plan, sensor, site, conductors, currents, positions)
+    figure, _, _ = _figures_at(plan, sensor, analysis.site, positions)
     order = np.argsort(figure, kind="stable")
-    spots = tuple(_spot(plan, conductors, positions[i], figure[i], state[i], sensor.budget_deg,
-                        sensor.reference_state, names[i] if names else None) for i in order)
+    spots = tuple(_spot(plan, analysis.site, sensor, positions[i], names[i] if names else None)
+                  for i in order)
     return SpotSearch(sensor, spots, _current(plan, analysis, sensor), len(positions),
                       len(positions), None, None)
 
@@ -205,9 +191,8 @@ def _current(plan, analysis, sensor):
     """The sensor where it is now (a what-if sensor not in the plan is evaluated afresh)."""
     result = next((r for r in analysis.sensors if r.sensor is sensor), None)
     if result is None:
-        unit, nearest = run_fields_at(analysis.conductors, len(plan.runs),
-                                      sensor.position_m[None, :])
-        result = evaluate_sensor(plan, sensor, analysis.site, unit[0], nearest[0])
+        result = evaluate_sensor(plan, sensor, analysis.site,
+                                 parts_at(plan, sensor.position_m[None, :]))
     worst = result.worst
     return Spot(np.array(sensor.position_m), worst.budget_used_deg, worst.state,
                 worst.budget_used_deg <= sensor.budget_deg, ())
@@ -222,7 +207,5 @@ def slice_map(plan, analysis, sensor, low_m, high_m, z_m, resolution=160):
     x = np.linspace(low[0], high[0], resolution) if high[0] > low[0] else np.array([low[0]])
     y = np.linspace(low[1], high[1], resolution) if high[1] > low[1] else np.array([low[1]])
     points = _points([x, y, np.array([z_m])])
-    conductors = analysis.conductors
-    currents = conductors.segment_currents(plan.run_currents_a)
-    figure, _, _ = _figures_at(plan, sensor, analysis.site, conductors, currents, points)
+    figure, _, _ = _figures_at(plan, sensor, analysis.site, points)
     return x, y, figure.reshape(len(x), len(y))

@@ -8,7 +8,7 @@ from click.testing import CliRunner
 
 from conftest import SAMPLES
 from deviation import spot as spot_module
-from deviation.analysis import analyse
+from deviation.analysis import analyse, parts_at
 from deviation.budget import budget_figures, equipment_fields
 from deviation.cli import main
 from deviation.field import segment_field
@@ -55,13 +55,12 @@ def test_coarse_to_fine_matches_brute_force_on_a_sample(monkeypatch):
     axes = spot_module._grid(low, high, step)
     points = spot_module._points(axes)
     conductors = analysis.conductors
-    fields, inside = segment_field(conductors.start_m, conductors.end_m,
-                                   conductors.segment_currents(plan.run_currents_a), points,
-                                   radius_m=conductors.radius_m, return_inside=True)
+    _, inside = segment_field(conductors.start_m, conductors.end_m,
+                              conductors.segment_currents(plan.run_currents_a), points,
+                              radius_m=conductors.radius_m, return_inside=True)
     items = equipment_fields(plan, sensor, points, analysis.site.horizontal_t)
-    reference = plan.state_index(sensor.reference_state) if sensor.reference_state else None
-    figures = budget_figures(sensor, analysis.site.horizontal_t, fields + items.oriented,
-                             items.bound, items.changing, reference)
+    figures = budget_figures(plan, sensor, analysis.site.horizontal_t, parts_at(plan, points),
+                             items)
     brute = np.where(inside, np.inf, figures.budget_used_deg.max(axis=1))
     assert result.spots[0].budget_used_deg == pytest.approx(brute.min(), abs=1e-9)
 

@@ -154,8 +154,8 @@ def _render_state(st, sensor, analysis, console, unit, all_runs, hints):
     for row in rows:
         cells = [Text(row.name + (" ≤" if row.bound else "")),
                  "" if row.current_a is None else f"{row.current_a:g}",
-                 format_length(row.nearest_m, unit), f"{row.horizontal_t * 1e6:.3f}",
-                 "" if row.vertical_t is None else f"{row.vertical_t * 1e6:.3f}",
+                 format_length(row.nearest_m, unit), words.microtesla(row.horizontal_t),
+                 "" if row.vertical_t is None else words.microtesla(row.vertical_t),
                  degrees(row.max_deviation_deg)]
         if reference:
             cells.append("adjusted" if row.compensated else degrees(row.change_deg))
@@ -166,8 +166,9 @@ def _render_state(st, sensor, analysis, console, unit, all_runs, hints):
         console.print(f"  {hidden} more run(s) below {view.NEGLIGIBLE_SHARE * 100:g} % of the "
                       "budget each (--all-runs lists them)")
     if any(row.bound for row in rows):
-        console.print("  ≤ an upper bound: labelled safe distance (IEC 60945) or a magnet of "
-                      "unknown orientation")
+        console.print("  ≤ includes an upper bound: a labelled safe distance (IEC 60945), a magnet "
+                      "of unknown orientation, a pair whose lie the plan does not say, or a twisted "
+                      "run's floor")
     for total in view.total_rows(sensor, st):
         line = f"  {total.label}: {words.with_degree_sign(total.value_deg)}"
         if total.held:

@@ -89,7 +89,8 @@ def budget_rows(sensor, st, all_runs=True) -> tuple[tuple[BudgetRow, ...], int]:
         rows.append(BudgetRow(r.name, False, r.current_a, r.nearest_m,
                               float(np.hypot(r.field_t[0], r.field_t[1])), float(r.field_t[2]),
                               r.max_deviation_deg, r.change_from_reference_deg,
-                              r.share_of_budget * sensor.budget_deg, r.share_of_budget, False))
+                              r.share_of_budget * sensor.budget_deg, r.share_of_budget,
+                              r.bound_t > 0))
     for item in st.equipment:
         oriented = item.field_t is not None
         size = float(np.hypot(item.field_t[0], item.field_t[1])) if oriented else item.bound_t

@@ -37,8 +37,14 @@ def with_degree_sign(value, overwhelmed=False) -> str:
     return text if text in (OVERWHELMED, "—") else text + "°"
 
 
+def number(value, digits=3) -> str:
+    """A fixed-point number that never reads "-0.000"."""
+    text = f"{value:.{digits}f}"
+    return text[1:] if text.startswith("-") and float(text) == 0 else text
+
+
 def microtesla(value_t) -> str:
-    return f"{value_t * 1e6:.3f}"
+    return number(value_t * 1e6, 3)
 
 
 def verdict(state_result) -> str:
