@@ -466,10 +466,10 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
             given = "nothing" if kind is None else f'"{row.get("return")}"'
             collector.add("runs", number, "return", f"{given} is not a return kind; expected one of "
                           f'{", ".join(RETURN_KINDS)}{_suggest(kind or "", RETURN_KINDS)}')
-        size_label, radius, default_spacing = None, 0.0, None
+        size_label, radius, default_spacing, bare = None, 0.0, None, None
         if row.get("size") is not None:
             try:
-                size_label, _bare, outer = units.conductor_size(row["size"])
+                size_label, bare, outer = units.conductor_size(row["size"])
                 radius, default_spacing = outer / 2, outer
             except units.UnitError as error:
                 collector.add("runs", number, "size", str(error))
@@ -484,6 +484,9 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
                               "(e.g. 10 AWG) to place its return")
             if spacing is not None and spacing <= 0:
                 collector.add("runs", number, "spacing", "the spacing must be more than zero")
+            elif spacing is not None and row.get("spacing") is not None:
+                _check_spacing(row["spacing"], spacing, small, site.units, size_label,
+                               default_spacing, collector, number)
         if kind == "twisted":
             if row.get("lay") is None:
                 collector.add("runs", number, "lay", "a twisted run needs its lay length "
@@ -523,6 +526,9 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
                                   f"states sheet{_suggest(circuit, list(circuit_names.values()))}")
                 else:
                     run_current = run_current + circuit_currents[key(circuit)]
+        if bare is not None and len(run_current):
+            _check_current(np.abs(run_current).max(), size_label, bare, circuits, collector, number,
+                           "current_a" if circuit_currents is None else "circuits")
         if len(collector.findings) > bad:
             continue
         geometry = RunGeometry(name, route, kind, back, spacing, lay, radius)
@@ -544,6 +550,61 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
                       f"more than the {MAX_SEGMENTS:,} a plan may have (twisted runs take "
                       f"{CHORDS_PER_LAY * 2} per lay length); check the lay lengths")
     return runs, np.array(currents).reshape(len(runs), n_states)
+
+
+def _check_spacing(text, spacing_m, small, plan_unit, size_label, outer_m, collector, row):
+    """A pair spacing closer than the conductors' own diameter, or a bare one under 1 mm."""
+    bare_number = units.is_bare_number(text)
+    limit = None
+    if outer_m is not None and spacing_m < (1 - units.OUTER_DIAMETER_TOLERANCE) * outer_m:
+        shown_outer = (f"{outer_m / units.LENGTH_UNITS['in']:.2f} in" if small == "in" else
+                       f"{outer_m * 1000:.1f} mm")
+        limit = outer_m
+        why = ("two conductors cannot be closer than their own diameter "
+               f"({shown_outer} for {size_label})")
+    elif outer_m is None and bare_number and spacing_m < MIN_BARE_SPACING_M:
+        limit = MIN_BARE_SPACING_M
+        why = "a spacing under 1 mm is less than the diameter of any insulated power conductor"
+    if limit is None:
+        return
+    read = f"{spacing_m / units.LENGTH_UNITS[small]:g} {small}"
+    if not bare_number:
+        collector.add("runs", row, "spacing", f'"{str(text).strip()}" was read as {read}; {why}; '
+                      "give the centre-to-centre spacing")
+        return
+    system = "an imperial" if small == "in" else "a metric"
+    unit_word = "inches" if small == "in" else "mm"
+    # The bare number in the plan's own length unit, if that reading is a sensible spacing.
+    other = float(text) * units.LENGTH_UNITS[plan_unit]
+    if limit <= other <= MAX_SUGGESTED_SPACING_M and plan_unit != small:
+        example = units.format_length(other, plan_unit)
+    elif small == "in":
+        example = f"{max(0.5, math.ceil(limit / units.LENGTH_UNITS['in'] * 10) / 10):g} in"
+    else:
+        example = f"{max(12, math.ceil(limit * 1000)):g} mm"
+    collector.add("runs", row, "spacing", f'"{str(text).strip()}" was read as {read} (bare numbers '
+                  f"in spacing are {unit_word} in {system} plan); {why}; write it with a unit, "
+                  f"e.g. {example}")
+
+
+#: A bare spacing under this is taken as a unit mistake even without a size [m]: the thinnest
+#: insulated power conductors are over 1 mm across (common practice, no source).
+MIN_BARE_SPACING_M = 0.001
+#: A bare spacing read in the plan's unit is offered as the meant one only up to this [m]: the two
+#: conductors of a pair lie within a few centimetres (common practice, no source).
+MAX_SUGGESTED_SPACING_M = 0.1
+
+
+def _check_current(peak_a, size_label, bare_m, circuits, collector, row, column):
+    """A run current far beyond what its conductor size carries continuously."""
+    rating_a = units.allowable_current_a(bare_m)
+    if peak_a <= units.OVERCURRENT_FACTOR * rating_a:
+        return
+    where = (f"the run carries up to {peak_a:g} A (circuits {', '.join(circuits)}, from the "
+             "states sheet)" if circuits else f"the run carries {peak_a:g} A")
+    collector.add("runs", row, column, f"{where}, more than {units.OVERCURRENT_FACTOR:g} times "
+                  f"the {rating_a:.0f} A that {size_label} carries continuously (105 °C insulation, "
+                  "33 CFR 183.425 Table 5); check the current in amperes and the size")
 
 
 def _segment_estimate(geometry, length):
