@@ -210,6 +210,9 @@ def _read_xlsx(path, collector):
 
 
 def _read_csv_folder(path, collector):
+    """Sheets from a folder of CSV files, each separated by , ; or tab (found from its header)."""
+    import io
+
     sheets = {}
     for file in sorted(path.iterdir()):
         if file.suffix.lower() != ".csv" or canonical(file.stem) not in SHEETS:
@@ -224,11 +227,123 @@ def _read_csv_folder(path, collector):
         except UnicodeDecodeError:
             collector.add(name, None, None, f"{file.name} is not UTF-8 text; save it as CSV UTF-8")
             continue
-        grid = list(csv.reader(text.splitlines()))
+        try:
+            separator = _csv_separator(text)
+            grid = list(csv.reader(io.StringIO(text, newline=""), delimiter=separator))
+        except csv.Error as error:                  # e.g. a cell beyond the csv module's limit
+            collector.add(name, None, None, f"{file.name} cannot be read as CSV ({error}); save "
+                          "it again from the spreadsheet as CSV")
+            continue
+        if _header_is_one_column(name, file.name, grid, collector):
+            continue
+        if separator == ";":
+            grid = _decimal_commas(name, grid, collector)
         sheet = _table(name, file.name, grid, 1, collector)
         if sheet is not None:
             sheets[name] = sheet
     return sheets
+
+
+#: Separators a CSV sheet may use, preferred in this order when the header splits equally.
+CSV_SEPARATORS = (",", ";", "\t")
+#: Columns holding positions (x, y, z, or routes of them joined by >) and names or free text;
+#: in a file separated by ";" the other cells may carry decimal commas.
+_POSITION_COLUMNS = ("route", "return_route", "at", "axis")
+_TEXT_COLUMNS = ("run", "circuits", "return", "point", "sensor", "kind", "reference_state", "item",
+                 "safe_distance_for", "states", "spot", "setting", "circuit", "note", "notes",
+                 "comment", "comments")
+# A number with a decimal comma and perhaps a unit: 1,5  -0,75  2,5 mm2  0,9 m  1,5e3
+_DECIMAL_COMMA = re.compile(r"^(\s*[-+]?\d*),(\d+(?:[eE][-+]?\d+)?"
+                            r"\s*(?:[A-Za-z\u00b5\u00b2^'\"]+\d?)?\s*)$")
+
+
+def _csv_separator(text):
+    """The separator of a CSV sheet: whichever of , ; tab splits its header line into most cells."""
+    header = next((line for line in text.splitlines() if line.strip()), "")
+    counts = [len(next(csv.reader([header], delimiter=d), [])) for d in CSV_SEPARATORS]
+    return CSV_SEPARATORS[counts.index(max(counts))]
+
+
+def _header_is_one_column(name, file_name, grid, collector):
+    """A header read as one cell (an unknown separator): one finding saying what was found."""
+    header_at = next((i for i, r in enumerate(grid) if any(not _blank(c) for c in r)), None)
+    if header_at is None:
+        return False
+    cells = [c for c in grid[header_at] if not _blank(c)]
+    if len(cells) != 1 or canonical(cells[0]) in COLUMNS.get(name, {}).get("known", ("circuit",)):
+        return False
+    text = cells[0].strip()
+    shown = text if len(text) <= 80 else text[:77] + "..."
+    marks = [c for c in text if not (c.isalnum() or c.isspace() or c in "_-")]
+    found = max(dict.fromkeys(marks), key=marks.count) if marks else None
+    if found in CSV_SEPARATORS:
+        hint = (f'the file seems to use "{found}" as separator, but the whole header is one quoted '
+                "cell; save the sheet again from the spreadsheet as CSV")
+    elif found:
+        hint = (f'the file seems to use "{found}" as separator; save it with commas, semicolons or '
+                "tabs between cells")
+    else:
+        needs = ", ".join(COLUMNS[name]["required"]) if name in COLUMNS else "circuit and a state"
+        hint = (f"the {name} sheet needs the columns {needs}, separated by commas, semicolons "
+                "or tabs")
+    collector.add(name, header_at + 1, None, f'the header of {file_name} reads as one column '
+                  f'"{shown}"; {hint}')
+    return True
+
+
+def _decimal_commas(name, grid, collector):
+    """Decimal commas of a sheet separated by ";" turned into points, as docs/robustness.md says.
+
+    Number cells: one comma between digits (1,5 or 2,5 mm2) is a decimal comma. Positions (each
+    waypoint): exactly two commas separate x, y, z; with more, the two not between digits
+    separate and those between digits are decimal commas (1,2, 0,5, 0,3); a position whose commas
+    can be read more than one way is reported, and its row is left out (one finding, not a second
+    one for the same cell).
+    """
+    header_at = next((i for i, r in enumerate(grid) if any(not _blank(c) for c in r)), None)
+    if header_at is None:
+        return grid
+    columns = [canonical(c) if not _blank(c) else None for c in grid[header_at]]
+    if name == "states":                            # circuit names, then currents or notes
+        columns = ["circuit"] + [None if c is None else c if c in _TEXT_COLUMNS else "current"
+                                 for c in columns[1:]]
+    out = grid[:header_at + 1]
+    for index, cells in enumerate(grid[header_at + 1:], start=header_at + 1):
+        row = list(cells)
+        for i, cell in enumerate(row):
+            column = columns[i] if i < len(columns) else None
+            if _blank(cell) or column is None or column in _TEXT_COLUMNS:
+                continue
+            if column in _POSITION_COLUMNS:
+                converted = _decimal_comma_position(cell)
+                if converted is None:
+                    collector.add(name, index + 1, column, f'"{cell.strip()}" cannot be read as '
+                                  'x, y, z: in a file separated by ";" a comma is either a decimal '
+                                  "comma or separates coordinates; put a space after each comma "
+                                  "between coordinates (1,2, 0,5, 0,3) or write decimal points "
+                                  "(1.2, 0.5, 0.3)")
+                    row = []
+                    break
+                row[i] = converted
+            else:
+                row[i] = _DECIMAL_COMMA.sub(r"\1.\2", cell)
+        out.append(row)
+    return out
+
+
+def _decimal_comma_position(text):
+    """A position or route with decimal commas written with points; None if it is ambiguous."""
+    waypoints = []
+    for part in text.split(">"):
+        tight = len(re.findall(r"(?<=\d),(?=\d)", part))
+        loose = part.count(",") - tight
+        if tight == 0 or part.count(",") == 2:
+            waypoints.append(part)                  # 1, 2, 3 or 1,2,3 or -1,2,-3 or a point name
+        elif loose == 2:
+            waypoints.append(re.sub(r"(?<=\d),(?=\d)", ".", part))
+        else:
+            return None
+    return ">".join(waypoints)
 
 
 # Cell readers -------------------------------------------------------------------------------------

@@ -50,6 +50,128 @@ def semicolon_plan(route, at="0, 0, 0", spacing="", size="10 AWG", current="10")
     }
 
 
+# Separators and decimal commas --------------------------------------------------------------------
+
+def test_a_semicolon_plan_with_decimal_commas_reads_to_the_same_figures_as_the_comma_plan():
+    # The fixture is the sailboat sample saved with ";" and decimal commas (and a byte-order mark
+    # and CRLF line ends, as a spreadsheet writes "CSV UTF-8"); the figures must be identical.
+    comma = read_plan(SAMPLES / "cruising_sailboat")
+    semicolon = read_plan(BROKEN / "semicolon_decimal_comma")
+    assert [r.name for r in semicolon.runs] == [r.name for r in comma.runs]
+    for a, b in zip(comma.runs, semicolon.runs):
+        np.testing.assert_array_equal(a.geometry.route_m, b.geometry.route_m)
+        if a.geometry.return_route_m is not None:
+            np.testing.assert_array_equal(a.geometry.return_route_m, b.geometry.return_route_m)
+        assert (a.geometry.spacing_m, a.geometry.lay_m) == (b.geometry.spacing_m, b.geometry.lay_m)
+    np.testing.assert_array_equal(comma.run_currents_a, semicolon.run_currents_a)
+    assert semicolon.run_currents_a[2, 0] == 1.5              # "1,5" A, instruments in harbour
+    assert [s.budget_deg for s in semicolon.sensors] == [s.budget_deg for s in comma.sensors]
+    assert semicolon.equipment[0].safe_distance_m == 0.9     # "0,9 m"
+    np.testing.assert_array_equal(semicolon.equipment[0].position_m, [1.2, 0.45, 1.55])
+    assert (semicolon.site.latitude_deg, semicolon.site.longitude_deg) == (43.29, 9.35)
+    first, second = analyse(comma), analyse(semicolon)
+    assert [[s.budget_used_deg for s in r.states] for r in second.sensors] == \
+        [[s.budget_used_deg for s in r.states] for r in first.sensors]
+
+
+def test_a_tab_separated_plan_reads_like_the_comma_plan(tmp_path):
+    comma = write_plan(tmp_path / "comma", straight_wire_plan())
+    tabbed = tmp_path / "tab"
+    tabbed.mkdir()
+    for file in comma.iterdir():
+        rows = list(csv.reader(file.read_text().splitlines()))
+        with open(tabbed / file.name, "w", newline="") as f:
+            csv.writer(f, delimiter="\t", lineterminator="\n").writerows(rows)
+    a, b = read_plan(comma), read_plan(tabbed)
+    np.testing.assert_array_equal(a.runs[0].geometry.route_m, b.runs[0].geometry.route_m)
+    np.testing.assert_array_equal(a.run_currents_a, b.run_currents_a)
+
+
+def test_positions_in_a_semicolon_file_follow_the_documented_rule(tmp_path):
+    # Commas with a space beside them separate coordinates, those between digits are decimal:
+    # "1,2, 0,5, -0,3" is (1.2, 0.5, -0.3); exactly two commas are x,y,z: "4,0,-1" is (4, 0, -1).
+    path = write_raw(tmp_path / "p", semicolon_plan("1,2, 0,5, -0,3 > 4,0,-1 > 9, 0, -1",
+                                                    at="0,5, 0, 0,25"))
+    plan = read_plan(path)
+    np.testing.assert_array_equal(plan.runs[0].geometry.route_m,
+                                  [[1.2, 0.5, -0.3], [4, 0, -1], [9, 0, -1]])
+    np.testing.assert_array_equal(plan.sensors[0].position_m, [0.5, 0, 0.25])
+
+
+def test_a_position_that_reads_two_ways_in_a_semicolon_file_gets_one_finding(tmp_path):
+    path = write_raw(tmp_path / "p", semicolon_plan("1,2,0,5,0,3 > 4, 0, -1"))
+    assert findings_of(path) == [
+        f'{path}: runs row 2, route: "1,2,0,5,0,3 > 4, 0, -1" cannot be read as x, y, z: in a '
+        'file separated by ";" a comma is either a decimal comma or separates coordinates; put a '
+        "space after each comma between coordinates (1,2, 0,5, 0,3) or write decimal points "
+        "(1.2, 0.5, 0.3)"]
+
+
+def test_decimal_commas_in_numbers_with_units(tmp_path):
+    path = write_raw(tmp_path / "p", semicolon_plan("0, 0, -1 > 9, 0, -1", spacing="1,5 cm",
+                                                    size="2,5 mm2", current="2,25"))
+    plan = read_plan(path)
+    # 1.5 cm = 15 mm; 2.5 mm2 is 3.7 mm across (from memory, units.METRIC_OUTER_DIAMETER_MM).
+    assert plan.runs[0].geometry.spacing_m == pytest.approx(0.015, rel=1e-12)
+    assert plan.runs[0].size == "2.5 mm2"
+    assert plan.runs[0].geometry.radius_m == pytest.approx(0.0037 / 2)
+    assert plan.run_currents_a[0, 0] == 2.25
+
+
+def test_a_decimal_comma_spacing_without_a_unit_is_read_as_mm_and_refused(tmp_path):
+    # The mistake that prompted the check: "0,025" (meant as metres) in a metric plan.
+    path = write_raw(tmp_path / "p", semicolon_plan("0, 0, -1 > 9, 0, -1", spacing="0,025",
+                                                    size="8 AWG"))
+    assert findings_of(path) == [
+        f'{path}: runs row 2, spacing: "0.025" was read as 0.025 mm (bare numbers in spacing are '
+        "mm in a metric plan); two conductors cannot be closer than their own diameter (6.6 mm "
+        "for 8 AWG); write it with a unit, e.g. 25 mm"]
+
+
+def test_notes_and_names_in_a_semicolon_file_keep_their_commas(tmp_path):
+    sheets = semicolon_plan("0, 0, -1 > 9, 0, -1")
+    sheets["runs.csv"] = sheets["runs.csv"].replace(";spacing\n", ";spacing;note\n").replace(
+        "feed;feed;", "1,5;feed;").rstrip("\n") + ";1,5\n"
+    sheets["states.csv"] = "circuit;at;note\nfeed;2,5;2,5\n"      # a state named "at"
+    plan = read_plan(write_raw(tmp_path / "p", sheets))
+    assert (plan.runs[0].name, plan.runs[0].note) == ("1,5", "1,5")
+    assert plan.state_names == ["at"] and plan.run_currents_a[0, 0] == 2.5
+
+
+def test_a_cell_too_long_for_csv_is_a_finding(tmp_path):
+    path = write_plan(tmp_path / "p", straight_wire_plan())
+    (path / "runs.csv").write_text('run,route,return\n"' + "x" * 200_000 + '",a > b,none\n')
+    assert findings_of(path) == [
+        f"{path}: runs: runs.csv cannot be read as CSV (field larger than field limit (131072)); "
+        "save it again from the spreadsheet as CSV"]
+
+
+def test_a_comma_file_keeps_commas_in_numbers_as_an_error(tmp_path):
+    # Only a ";" file has decimal commas; in a comma file "1,5" (quoted) is not a number.
+    sheets = straight_wire_plan()
+    sheets["states"] = [["circuit", "on"], ["feed", "1,5"]]
+    path = write_plan(tmp_path / "p", sheets)
+    assert findings_of(path) == [f'{path}: states row 2, on: "1,5" is not a current in amperes']
+
+
+def test_a_header_of_one_column_says_which_separator_the_file_seems_to_use():
+    path = BROKEN / "pipe_separated"
+    assert findings_of(path) == [
+        f'{path}: runs row 1: the header of runs.csv reads as one column '
+        '"run|circuits|route|return|size"; the file seems to use "|" as separator; save it with '
+        "commas, semicolons or tabs between cells"]
+
+
+def test_a_header_quoted_as_one_cell_is_told_apart(tmp_path):
+    sheets = straight_wire_plan()
+    path = write_plan(tmp_path / "p", sheets)
+    (path / "runs.csv").write_text('"run;route;return"\n"a;0,0,0 > 1,0,0;none"\n')
+    assert findings_of(path) == [
+        f'{path}: runs row 1: the header of runs.csv reads as one column "run;route;return"; the '
+        'file seems to use ";" as separator, but the whole header is one quoted cell; save the '
+        "sheet again from the spreadsheet as CSV"]
+
+
 # Spacings closer than the conductors, currents beyond the size -----------------------------------
 
 def paired(spacing, size, units=None, current=10.0):
