@@ -116,7 +116,8 @@ def _table(name, label, grid, first_row, collector):
             continue
         columns[col] = str(cell).strip()
         positions[col] = index
-        if name == "states" and index > 0 and col != "note":
+        # Free-text columns of the states sheet are not operating states.
+        if name == "states" and index > 0 and col not in ("note", "notes", "comment", "comments"):
             state_columns.append((col, str(cell).strip()))
     data = []
     for number, cells in rows[1:]:
@@ -897,6 +898,10 @@ def read_plan(path) -> Plan:
     collector = _Collector(str(path))
     if not path.exists():
         raise PlanError([Finding(str(path), None, None, None, "no such file or folder")])
+    if path.suffix.lower() in (".xls", ".ods", ".numbers"):     # .numbers may be a folder
+        raise PlanError([Finding(str(path), None, None, None, "a plan is an .xlsx workbook or a "
+                                 f"folder of .csv sheets, not an {path.suffix} file; save it as "
+                                 ".xlsx (Excel workbook) or as CSV sheets")])
     if path.is_dir():
         sheets = _read_csv_folder(path, collector)
     elif path.suffix.lower() in (".xlsx", ".xlsm"):

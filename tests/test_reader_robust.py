@@ -172,6 +172,37 @@ def test_a_header_quoted_as_one_cell_is_told_apart(tmp_path):
         "sheet again from the spreadsheet as CSV"]
 
 
+# Notes beside the states -------------------------------------------------------------------------
+
+def test_notes_and_comments_columns_are_not_operating_states():
+    # states.csv: circuit, harbour, Notes, at sea, COMMENTS, Comment; the notes hold text.
+    plan = read_plan(BROKEN / "notes_columns")
+    assert plan.state_names == ["harbour", "at sea"]
+    np.testing.assert_array_equal(plan.run_currents_a, [[10, 12], [0, 2.5]])
+
+
+# Other kinds of workbook -------------------------------------------------------------------------
+
+def test_an_ods_workbook_is_asked_to_be_saved_as_xlsx_or_csv():
+    path = BROKEN / "plan.ods"
+    assert findings_of(path) == [
+        f"{path}: a plan is an .xlsx workbook or a folder of .csv sheets, not an .ods file; save it "
+        "as .xlsx (Excel workbook) or as CSV sheets"]
+
+
+@pytest.mark.parametrize("name", ["plan.xls", "plan.numbers", "Plan.ODS"])
+def test_other_spreadsheet_files_are_asked_to_be_saved_as_xlsx_or_csv(tmp_path, name):
+    path = tmp_path / name
+    if name.endswith(".numbers"):
+        path.mkdir()                                # older Numbers documents are folders
+    else:
+        path.write_bytes(b"\xd0\xcf\x11\xe0")       # the start of an old binary workbook
+    suffix = Path(name).suffix
+    assert findings_of(path) == [
+        f"{path}: a plan is an .xlsx workbook or a folder of .csv sheets, not an {suffix} file; "
+        "save it as .xlsx (Excel workbook) or as CSV sheets"]
+
+
 # Spacings closer than the conductors, currents beyond the size -----------------------------------
 
 def paired(spacing, size, units=None, current=10.0):
