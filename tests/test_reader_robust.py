@@ -299,3 +299,68 @@ def test_the_sample_windlass_is_within_its_size():
     # 85 A on 2/0 AWG (330 A at 105 °C, 33 CFR 183.425 Table 5): no finding.
     plan = read_plan(SAMPLES / "cruising_sailboat")
     assert plan.run_currents_a.max() == 85
+
+
+# Outputs ----------------------------------------------------------------------------------------
+
+def test_an_output_in_a_missing_folder_is_refused_before_any_work(tmp_path):
+    target = tmp_path / "no" / "dir" / "report.html"
+    with pytest.raises(OutputError) as caught:
+        check_output(target, SAMPLES / "camper_van")
+    assert str(caught.value) == (f"the folder {tmp_path / 'no' / 'dir'} does not exist; create it "
+                                 "or write elsewhere")
+    called = []
+    with pytest.raises(OutputError) as caught:
+        write_atomically(target, called.append)
+    assert str(caught.value) == (f"the folder {tmp_path / 'no' / 'dir'} does not exist; create it "
+                                 "or write elsewhere")
+    assert called == [] and os.listdir(tmp_path) == []
+
+
+def test_an_output_under_a_file_is_refused(tmp_path):
+    (tmp_path / "notes.txt").write_text("")
+    with pytest.raises(OutputError) as caught:
+        check_output(tmp_path / "notes.txt" / "r.html", SAMPLES / "camper_van")
+    assert str(caught.value) == f"{tmp_path / 'notes.txt'} is a file, not a folder; write elsewhere"
+
+
+def test_the_commands_say_the_folder_does_not_exist(tmp_path):
+    missing = tmp_path / "no" / "dir"
+    result = run("check", SAMPLES / "camper_van", "--report", missing / "r.html")
+    assert result.exit_code == 2 and "Traceback" not in result.output
+    assert f"the folder {missing} does not exist; create it or write elsewhere" in result.output
+    result = run("new", missing / "plan.xlsx")
+    assert result.exit_code == 2
+    assert f"the folder {missing} does not exist; create it or write elsewhere" in result.output
+
+
+def test_an_output_that_is_a_link_to_the_plan_is_the_plan(tmp_path):
+    plan = tmp_path / "plan.xlsx"
+    assert run("new", plan).exit_code == 0
+    link = tmp_path / "other" / "report.xlsx"
+    link.parent.mkdir()
+    link.symlink_to(plan)
+    with pytest.raises(OutputError, match="is the input plan"):
+        check_output(link, plan)
+
+
+def test_on_a_case_insensitive_file_system_plan_xlsx_in_capitals_is_the_plan(tmp_path, monkeypatch):
+    plan = tmp_path / "plan.xlsx"
+    assert run("new", plan).exit_code == 0
+    monkeypatch.setattr(files, "_case_insensitive", lambda folder: True)
+    with pytest.raises(OutputError) as caught:
+        check_output(tmp_path / "plan.XLSX", plan)
+    assert str(caught.value) == f"{tmp_path / 'plan.XLSX'} is the input plan; write the report to " \
+                                "another file"
+    monkeypatch.setattr(files, "_case_insensitive", lambda folder: False)
+    check_output(tmp_path / "plan.XLSX", plan)      # another file where case matters
+
+
+def test_the_case_probe_matches_the_file_system(tmp_path):
+    # Independent probe: does a file made in lower case answer to its upper-case name?
+    (tmp_path / "probe").write_text("")
+    expected = (tmp_path / "PROBE").exists()
+    assert files._case_insensitive(tmp_path) is expected
+    empty = tmp_path / "empty"
+    empty.mkdir()
+    assert files._case_insensitive(empty) is expected and os.listdir(empty) == []
