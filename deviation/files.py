@@ -14,10 +14,17 @@ class OutputError(DeviationError, ValueError):
 
 
 def check_output(path, plan_path):
-    """Refuse an output path that is the plan itself or lies inside a CSV plan folder's files."""
-    out = Path(path).resolve()
-    plan = Path(plan_path).resolve()
-    if out == plan or (plan.is_dir() and out.parent == plan and out.suffix.lower() == ".csv"):
+    """Refuse, before any work, an output that cannot be written or would replace the plan.
+
+    Refused: an output whose folder does not exist; the plan itself (compared as the file system
+    compares names, so on a case-insensitive one ``plan.XLSX`` is ``plan.xlsx``); a ``.csv`` file
+    inside a CSV plan folder.
+    """
+    out = Path(path)
+    _check_folder(out)
+    plan = Path(plan_path)
+    if _same_file(out, plan) or (plan.is_dir() and _same_file(_folder_of(out), plan)
+                                 and out.suffix.lower() == ".csv"):
         raise OutputError(f"{path} is the input plan; write the report to another file")
 
 
@@ -27,7 +34,8 @@ def write_atomically(path, save):
     The temporary file lies in the same folder, so the rename is atomic on POSIX and Windows.
     """
     path = Path(path)
-    folder = path.parent if str(path.parent) else Path(".")
+    _check_folder(path)
+    folder = _folder_of(path)
     handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=folder)
     os.close(handle)
     try:
@@ -41,3 +49,51 @@ def write_atomically(path, save):
         if os.path.exists(temporary):
             os.unlink(temporary)
         raise
+
+
+def _folder_of(path):
+    return path.parent if str(path.parent) else Path(".")
+
+
+def _check_folder(path):
+    """An output's folder must exist (it is never created: a mistyped folder is a mistake)."""
+    folder = _folder_of(Path(path))
+    if not folder.exists():
+        raise OutputError(f"the folder {folder} does not exist; create it or write elsewhere")
+    if not folder.is_dir():
+        raise OutputError(f"{folder} is a file, not a folder; write elsewhere")
+
+
+def _same_file(a, b):
+    """Whether two paths name the same file, as the file system holding them compares names."""
+    a, b = Path(a), Path(b)
+    if a.exists() and b.exists():
+        return os.path.samefile(a, b)
+    a, b = a.resolve(), b.resolve()
+    if a == b:
+        return True
+    return (str(a).casefold() == str(b).casefold()
+            and _case_insensitive(_folder_of(a) if not a.is_dir() else a))
+
+
+def _case_insensitive(folder):
+    """Whether the file system of ``folder`` ignores the case of names (macOS, Windows by default).
+
+    Probed on a name already in the folder (is its case-swapped name the same file?); in a folder
+    with no such name, on a short-lived probe file. An unreadable folder counts as case-sensitive.
+    """
+    folder = Path(folder)
+    try:
+        for entry in os.scandir(folder):
+            swapped = entry.name.swapcase()
+            if swapped != entry.name:
+                other = folder / swapped
+                return other.exists() and os.path.samefile(folder / entry.name, other)
+        handle, probe = tempfile.mkstemp(prefix=".case-probe-", dir=folder)
+    except OSError:
+        return False
+    os.close(handle)
+    try:
+        return os.path.exists(os.path.join(folder, os.path.basename(probe).upper()))
+    finally:
+        os.unlink(probe)

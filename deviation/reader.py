@@ -99,6 +99,7 @@ def _table(name, label, grid, first_row, collector):
             continue
         columns[col] = str(cell).strip()
         positions[col] = index
+        # Free-text and switching columns of the states sheet are not operating states.
         if name == "states" and index > 0 and col not in STATES_TEXT_COLUMNS:
             state_columns.append((col, str(cell).strip()))
     data = []
@@ -193,6 +194,9 @@ def _read_xlsx(path, collector):
 
 
 def _read_csv_folder(path, collector):
+    """Sheets from a folder of CSV files, each separated by , ; or tab (found from its header)."""
+    import io
+
     sheets = {}
     for file in sorted(path.iterdir()):
         if file.suffix.lower() != ".csv" or canonical(file.stem) not in SHEETS:
@@ -207,11 +211,123 @@ def _read_csv_folder(path, collector):
         except UnicodeDecodeError:
             collector.add(name, None, None, f"{file.name} is not UTF-8 text; save it as CSV UTF-8")
             continue
-        grid = list(csv.reader(text.splitlines()))
+        try:
+            separator = _csv_separator(text)
+            grid = list(csv.reader(io.StringIO(text, newline=""), delimiter=separator))
+        except csv.Error as error:                  # e.g. a cell beyond the csv module's limit
+            collector.add(name, None, None, f"{file.name} cannot be read as CSV ({error}); save "
+                          "it again from the spreadsheet as CSV")
+            continue
+        if _header_is_one_column(name, file.name, grid, collector):
+            continue
+        if separator == ";":
+            grid = _decimal_commas(name, grid, collector)
         sheet = _table(name, file.name, grid, 1, collector)
         if sheet is not None:
             sheets[name] = sheet
     return sheets
+
+
+#: Separators a CSV sheet may use, preferred in this order when the header splits equally.
+CSV_SEPARATORS = (",", ";", "\t")
+#: Columns holding positions (x, y, z, or routes of them joined by >) and names or free text;
+#: in a file separated by ";" the other cells may carry decimal commas.
+_POSITION_COLUMNS = ("route", "return_route", "at", "axis")
+_TEXT_COLUMNS = ("run", "circuits", "return", "point", "sensor", "kind", "reference_state", "item",
+                 "safe_distance_for", "states", "spot", "setting", "circuit", "note", "notes",
+                 "comment", "comments")
+# A number with a decimal comma and perhaps a unit: 1,5  -0,75  2,5 mm2  0,9 m  1,5e3
+_DECIMAL_COMMA = re.compile(r"^(\s*[-+]?\d*),(\d+(?:[eE][-+]?\d+)?"
+                            r"\s*(?:[A-Za-z\u00b5\u00b2^'\"]+\d?)?\s*)$")
+
+
+def _csv_separator(text):
+    """The separator of a CSV sheet: whichever of , ; tab splits its header line into most cells."""
+    header = next((line for line in text.splitlines() if line.strip()), "")
+    counts = [len(next(csv.reader([header], delimiter=d), [])) for d in CSV_SEPARATORS]
+    return CSV_SEPARATORS[counts.index(max(counts))]
+
+
+def _header_is_one_column(name, file_name, grid, collector):
+    """A header read as one cell (an unknown separator): one finding saying what was found."""
+    header_at = next((i for i, r in enumerate(grid) if any(not _blank(c) for c in r)), None)
+    if header_at is None:
+        return False
+    cells = [c for c in grid[header_at] if not _blank(c)]
+    if len(cells) != 1 or canonical(cells[0]) in COLUMNS.get(name, {}).get("known", ("circuit",)):
+        return False
+    text = cells[0].strip()
+    shown = text if len(text) <= 80 else text[:77] + "..."
+    marks = [c for c in text if not (c.isalnum() or c.isspace() or c in "_-")]
+    found = max(dict.fromkeys(marks), key=marks.count) if marks else None
+    if found in CSV_SEPARATORS:
+        hint = (f'the file seems to use "{found}" as separator, but the whole header is one quoted '
+                "cell; save the sheet again from the spreadsheet as CSV")
+    elif found:
+        hint = (f'the file seems to use "{found}" as separator; save it with commas, semicolons or '
+                "tabs between cells")
+    else:
+        needs = ", ".join(COLUMNS[name]["required"]) if name in COLUMNS else "circuit and a state"
+        hint = (f"the {name} sheet needs the columns {needs}, separated by commas, semicolons "
+                "or tabs")
+    collector.add(name, header_at + 1, None, f'the header of {file_name} reads as one column '
+                  f'"{shown}"; {hint}')
+    return True
+
+
+def _decimal_commas(name, grid, collector):
+    """Decimal commas of a sheet separated by ";" turned into points, as docs/robustness.md says.
+
+    Number cells: one comma between digits (1,5 or 2,5 mm2) is a decimal comma. Positions (each
+    waypoint): exactly two commas separate x, y, z; with more, the two not between digits
+    separate and those between digits are decimal commas (1,2, 0,5, 0,3); a position whose commas
+    can be read more than one way is reported, and its row is left out (one finding, not a second
+    one for the same cell).
+    """
+    header_at = next((i for i, r in enumerate(grid) if any(not _blank(c) for c in r)), None)
+    if header_at is None:
+        return grid
+    columns = [canonical(c) if not _blank(c) else None for c in grid[header_at]]
+    if name == "states":                            # circuit names, then currents or notes
+        columns = ["circuit"] + [None if c is None else c if c in _TEXT_COLUMNS else "current"
+                                 for c in columns[1:]]
+    out = grid[:header_at + 1]
+    for index, cells in enumerate(grid[header_at + 1:], start=header_at + 1):
+        row = list(cells)
+        for i, cell in enumerate(row):
+            column = columns[i] if i < len(columns) else None
+            if _blank(cell) or column is None or column in _TEXT_COLUMNS:
+                continue
+            if column in _POSITION_COLUMNS:
+                converted = _decimal_comma_position(cell)
+                if converted is None:
+                    collector.add(name, index + 1, column, f'"{cell.strip()}" cannot be read as '
+                                  'x, y, z: in a file separated by ";" a comma is either a decimal '
+                                  "comma or separates coordinates; put a space after each comma "
+                                  "between coordinates (1,2, 0,5, 0,3) or write decimal points "
+                                  "(1.2, 0.5, 0.3)")
+                    row = []
+                    break
+                row[i] = converted
+            else:
+                row[i] = _DECIMAL_COMMA.sub(r"\1.\2", cell)
+        out.append(row)
+    return out
+
+
+def _decimal_comma_position(text):
+    """A position or route with decimal commas written with points; None if it is ambiguous."""
+    waypoints = []
+    for part in text.split(">"):
+        tight = len(re.findall(r"(?<=\d),(?=\d)", part))
+        loose = part.count(",") - tight
+        if tight == 0 or part.count(",") == 2:
+            waypoints.append(part)                  # 1, 2, 3 or 1,2,3 or -1,2,-3 or a point name
+        elif loose == 2:
+            waypoints.append(re.sub(r"(?<=\d),(?=\d)", ".", part))
+        else:
+            return None
+    return ">".join(waypoints)
 
 
 # Cell readers -------------------------------------------------------------------------------------
@@ -466,10 +582,10 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
             given = "nothing" if kind is None else f'"{row.get("return")}"'
             collector.add("runs", number, "return", f"{given} is not a return kind; expected one of "
                           f'{", ".join(RETURN_KINDS)}{_suggest(kind or "", RETURN_KINDS)}')
-        size_label, radius, default_spacing = None, 0.0, None
+        size_label, radius, default_spacing, bare = None, 0.0, None, None
         if row.get("size") is not None:
             try:
-                size_label, _bare, outer = units.conductor_size(row["size"])
+                size_label, bare, outer = units.conductor_size(row["size"])
                 radius, default_spacing = outer / 2, outer
             except units.UnitError as error:
                 collector.add("runs", number, "size", str(error))
@@ -484,6 +600,9 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
                               "(e.g. 10 AWG) to place its return")
             if spacing is not None and spacing <= 0:
                 collector.add("runs", number, "spacing", "the spacing must be more than zero")
+            elif spacing is not None and row.get("spacing") is not None:
+                _check_spacing(row["spacing"], spacing, small, site.units, size_label,
+                               default_spacing, collector, number)
         if kind == "twisted":
             if row.get("lay") is None:
                 collector.add("runs", number, "lay", "a twisted run needs its lay length "
@@ -523,6 +642,9 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
                                   f"states sheet{_suggest(circuit, list(circuit_names.values()))}")
                 else:
                     run_current = run_current + circuit_currents[key(circuit)]
+        if bare is not None and len(run_current):
+            _check_current(np.abs(run_current).max(), size_label, bare, circuits, collector, number,
+                           "current_a" if circuit_currents is None else "circuits")
         lie = "not known"
         if row.get("lie") is not None:
             lie = _choice(row["lie"], PAIR_LIES, "not known", collector, "runs", number, "lie",
@@ -554,6 +676,61 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
                       f"more than the {MAX_SEGMENTS:,} a plan may have (twisted runs take "
                       f"{CHORDS_PER_LAY * 2} per lay length); check the lay lengths")
     return runs, np.array(currents).reshape(len(runs), n_states)
+
+
+def _check_spacing(text, spacing_m, small, plan_unit, size_label, outer_m, collector, row):
+    """A pair spacing closer than the conductors' own diameter, or a bare one under 1 mm."""
+    bare_number = units.is_bare_number(text)
+    limit = None
+    if outer_m is not None and spacing_m < (1 - units.OUTER_DIAMETER_TOLERANCE) * outer_m:
+        shown_outer = (f"{outer_m / units.LENGTH_UNITS['in']:.2f} in" if small == "in" else
+                       f"{outer_m * 1000:.1f} mm")
+        limit = outer_m
+        why = ("two conductors cannot be closer than their own diameter "
+               f"({shown_outer} for {size_label})")
+    elif outer_m is None and bare_number and spacing_m < MIN_BARE_SPACING_M:
+        limit = MIN_BARE_SPACING_M
+        why = "a spacing under 1 mm is less than the diameter of any insulated power conductor"
+    if limit is None:
+        return
+    read = f"{spacing_m / units.LENGTH_UNITS[small]:g} {small}"
+    if not bare_number:
+        collector.add("runs", row, "spacing", f'"{str(text).strip()}" was read as {read}; {why}; '
+                      "give the centre-to-centre spacing")
+        return
+    system = "an imperial" if small == "in" else "a metric"
+    unit_word = "inches" if small == "in" else "mm"
+    # The bare number in the plan's own length unit, if that reading is a sensible spacing.
+    other = float(text) * units.LENGTH_UNITS[plan_unit]
+    if limit <= other <= MAX_SUGGESTED_SPACING_M and plan_unit != small:
+        example = units.format_length(other, plan_unit)
+    elif small == "in":
+        example = f"{max(0.5, math.ceil(limit / units.LENGTH_UNITS['in'] * 10) / 10):g} in"
+    else:
+        example = f"{max(12, math.ceil(limit * 1000)):g} mm"
+    collector.add("runs", row, "spacing", f'"{str(text).strip()}" was read as {read} (bare numbers '
+                  f"in spacing are {unit_word} in {system} plan); {why}; write it with a unit, "
+                  f"e.g. {example}")
+
+
+#: A bare spacing under this is taken as a unit mistake even without a size [m]: the thinnest
+#: insulated power conductors are over 1 mm across (common practice, no source).
+MIN_BARE_SPACING_M = 0.001
+#: A bare spacing read in the plan's unit is offered as the meant one only up to this [m]: the two
+#: conductors of a pair lie within a few centimetres (common practice, no source).
+MAX_SUGGESTED_SPACING_M = 0.1
+
+
+def _check_current(peak_a, size_label, bare_m, circuits, collector, row, column):
+    """A run current far beyond what its conductor size carries continuously."""
+    rating_a = units.allowable_current_a(bare_m)
+    if peak_a <= units.OVERCURRENT_FACTOR * rating_a:
+        return
+    where = (f"the run carries up to {peak_a:g} A (circuits {', '.join(circuits)}, from the "
+             "states sheet)" if circuits else f"the run carries {peak_a:g} A")
+    collector.add("runs", row, column, f"{where}, more than {units.OVERCURRENT_FACTOR:g} times "
+                  f"the {rating_a:.0f} A that {size_label} carries continuously (105 °C insulation, "
+                  "33 CFR 183.425 Table 5); check the current in amperes and the size")
 
 
 def _segment_estimate(geometry, length):
@@ -753,6 +930,10 @@ def read_plan(path) -> Plan:
     collector = _Collector(str(path))
     if not path.exists():
         raise PlanError([Finding(str(path), None, None, None, "no such file or folder")])
+    if path.suffix.lower() in (".xls", ".ods", ".numbers"):     # .numbers may be a folder
+        raise PlanError([Finding(str(path), None, None, None, "a plan is an .xlsx workbook or a "
+                                 f"folder of .csv sheets, not an {path.suffix} file; save it as "
+                                 ".xlsx (Excel workbook) or as CSV sheets")])
     if path.is_dir():
         sheets = _read_csv_folder(path, collector)
     elif path.suffix.lower() in (".xlsx", ".xlsm"):

@@ -10,9 +10,22 @@ LENGTH_UNITS = {"m": 1.0, "cm": 0.01, "mm": 0.001, "ft": 0.3048, "in": 0.0254}
 IMPERIAL = ("ft", "in")
 
 _NUMBER = r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?"
-_WITH_UNIT = re.compile(rf"^\s*({_NUMBER})\s*(mm|cm|m|ft|in|'|\"|feet|foot|inch|inches)?\s*$", re.I)
-_FEET_INCHES = re.compile(rf"^\s*([-+]?)\s*({_NUMBER})\s*(?:'|ft)\s*({_NUMBER})\s*(?:\"|in)\s*$", re.I)
-_ALIASES = {"'": "ft", '"': "in", "feet": "ft", "foot": "ft", "inch": "in", "inches": "in"}
+_UNSIGNED = r"(?:\d+(?:\.\d*)?|\.\d+)"
+# Feet and inch marks as typed, and as spreadsheets and word processors "smarten" them
+# (right single/double quotation marks, primes); two apostrophes are often typed for inches.
+_FOOT_MARK = r"(?:'|\u2019|\u2032|ft\.?|feet|foot)"
+_INCH_MARK = r"(?:\"|''|\u201d|\u2033|in\.?|inch|inches)"
+_WITH_UNIT = re.compile(rf"^\s*({_NUMBER})\s*(mm|cm|m|ft|in|''|'|\"|\u2019|\u2032|\u201d|\u2033|"
+                        r"feet|foot|inch|inches)?\s*$", re.I)
+# Inches as a whole or decimal number, a fraction, or both: 6, 6.5, 1/2, 6 1/2 (or 6-1/2).
+_INCHES = rf"(?:({_UNSIGNED})(?:(?:\s+|-)(\d+)/(\d+))?|(\d+)/(\d+))"
+# After the sign: 2'-6", 2' 6", 2'6", 2 ft 6 in, 2'-6 1/2"; the dash after the foot mark only
+# separates feet from inches; after a foot mark the inch mark may be left out (2'6).
+_FEET_THEN_INCHES = re.compile(
+    rf"^({_UNSIGNED})\s*{_FOOT_MARK}(?:\s*-?\s*{_INCHES}\s*{_INCH_MARK}?)?$", re.I)
+_INCHES_ALONE = re.compile(rf"^{_INCHES}\s*{_INCH_MARK}$", re.I)
+_ALIASES = {"'": "ft", '"': "in", "feet": "ft", "foot": "ft", "inch": "in", "inches": "in",
+            "''": "in", "\u2019": "ft", "\u2032": "ft", "\u201d": "in", "\u2033": "in"}
 
 
 class UnitError(ValueError):
@@ -20,9 +33,28 @@ class UnitError(ValueError):
 
 
 def parse_length(text, default_unit="m") -> float:
-    """A length in metres from ``1.2 m``, ``35 cm``, ``850 mm``, ``4 ft``, ``18 in``, ``2'6"``.
+    """A length in metres from ``1.2 m``, ``35 cm``, ``850 mm``, ``4 ft``, ``18 in``, ``2'-6"``.
 
-    A bare number is in ``default_unit``.
+    Feet and inches are read as the trade writes them: ``2'-6"``, ``2' 6"``, ``2'6"``,
+    ``2 ft 6 in``, ``6"``, ``2'``, fractions of an inch (``6 1/2"``, ``2'-6 1/2"``, ``1/2"``). The
+    dash after the foot mark separates feet from inches; only a sign in front makes the whole
+    length negative (``-2'-6"`` is -30 in).
+
+    Parameters
+    ----------
+    text : str or float
+        The length as written; a bare number is in ``default_unit``.
+    default_unit : str
+        One of ``LENGTH_UNITS``.
+
+    Returns
+    -------
+    float
+        The length [m].
+
+    References
+    ----------
+    1 in = 0.0254 m and 1 ft = 12 in exactly (international yard and pound agreement, 1959).
     """
     if isinstance(text, bool):
         raise UnitError(f"{text!r} is not a length")
@@ -32,12 +64,13 @@ def parse_length(text, default_unit="m") -> float:
             raise UnitError(f"{text!r} is not a finite length")
         return value * LENGTH_UNITS[default_unit]
     raw = str(text).strip()
-    match = _FEET_INCHES.match(raw)
-    if match:
-        sign = -1.0 if match.group(1) == "-" else 1.0
-        return sign * (float(match.group(2)) * 0.3048 + float(match.group(3)) * 0.0254)
     match = _WITH_UNIT.match(raw)
     if not match:
+        metres = _feet_and_inches_m(raw)
+        if metres is not None and not math.isfinite(metres):
+            raise UnitError(f'"{raw}" is not a finite length')
+        if metres is not None:
+            return metres
         raise UnitError(f'"{raw}" is not a length (e.g. 1.2 m, 35 cm, 850 mm, 4 ft, 18 in, 2\'6")')
     unit = (match.group(2) or default_unit).lower()
     unit = _ALIASES.get(unit, unit)
@@ -45,6 +78,41 @@ def parse_length(text, default_unit="m") -> float:
     if not math.isfinite(value):
         raise UnitError(f'"{raw}" is not a finite length')
     return value
+
+
+def is_bare_number(text) -> bool:
+    """Whether a cell is a number with no unit (read in the sheet's default unit)."""
+    if isinstance(text, bool):
+        return False
+    if isinstance(text, (int, float)):
+        return True
+    return re.fullmatch(rf"\s*{_NUMBER}\s*", str(text)) is not None
+
+
+def _feet_and_inches_m(raw):
+    """Metres from feet and inches as the trade writes them, or None if ``raw`` is not that.
+
+    Total inches times 0.0254 m (exact by definition), so 2'-6" is 30 in = 0.762 m exactly.
+    """
+    sign = -1.0 if raw.startswith("-") else 1.0
+    body = raw[1:].lstrip() if raw[:1] in ("+", "-") else raw
+    feet = 0.0
+    match = _FEET_THEN_INCHES.match(body)
+    if match:
+        feet, inch_groups = float(match.group(1)), match.groups()[1:]
+    else:
+        match = _INCHES_ALONE.match(body)
+        if not match:
+            return None
+        inch_groups = match.groups()
+    whole, numerator, denominator, alone_numerator, alone_denominator = inch_groups
+    numerator, denominator = numerator or alone_numerator, denominator or alone_denominator
+    if denominator is not None and int(denominator) == 0:
+        return None
+    inches = float(whole) if whole else 0.0
+    if denominator is not None:
+        inches += int(numerator) / int(denominator)
+    return sign * (feet * 12 + inches) * LENGTH_UNITS["in"]
 
 
 def format_length(metres: float, unit_system: str) -> str:
@@ -77,6 +145,23 @@ AWG_OUTER_DIAMETER_MM = {16: 3.0, 14: 3.3, 12: 3.8, 10: 4.3, 8: 6.6, 6: 7.6, 4: 
 #: Insulated outer diameter of metric flexible single core [mm], from memory (±15 %), by mm².
 METRIC_OUTER_DIAMETER_MM = {1.5: 3.1, 2.5: 3.7, 4: 4.4, 6: 5.0, 10: 6.6, 16: 8.0, 25: 9.8,
                             35: 11.3, 50: 13.5, 70: 15.6, 95: 18.0}
+
+#: The tables above are from memory (±15 %): a given pair spacing is taken as closer than the
+#: conductors' own diameter only below (1 - this) times the tabulated outer diameter.
+OUTER_DIAMETER_TOLERANCE = 0.15
+
+#: Allowable continuous current of one copper conductor with 105 °C insulation outside engine
+#: spaces [A], by AWG gauge (0, 00, 000, 0000 as 0, -1, -2, -3). Source: 33 CFR 183.425 Table 5,
+#: "Allowable amperage of conductors", 105 °C column (U.S. Coast Guard; ABYC E-11 tabulates the
+#: same figures). 105 °C is the usual rating of boat cable; engine spaces allow 0.85 of these.
+AWG_AMPACITY_105C_A = {18: 20, 16: 25, 14: 35, 12: 45, 10: 60, 8: 80, 6: 120, 4: 160, 3: 180,
+                       2: 210, 1: 245, 0: 285, -1: 330, -2: 385, -3: 445}
+#: A run whose largest current is more than this many times its size's allowable continuous
+#: current is taken as a mistake in the plan (a slipped digit, milliamperes written as amperes, the
+#: wrong size), not a load. 33 CFR 183.425(b) exempts "intermittent surges" from the table, and a
+#: windlass or thruster start draws a few times its running current for a second or two, so the
+#: factor leaves room for short peaks. The factor 3 is common practice, no source.
+OVERCURRENT_FACTOR = 3.0
 
 _AWG = re.compile(r"^\s*(\d{1,2}|[1-4]/0|0{1,4})\s*(?:awg|ga|gauge)\s*$", re.I)
 _METRIC = re.compile(rf"^\s*({_NUMBER})\s*(?:mm2|mm²|mm\^2|sq\s*mm|sqmm)\s*$", re.I)
@@ -136,3 +221,39 @@ def _interpolate(table, key, bare_mm, by_gauge):
             w = (math.log(bare_mm) - math.log(x0)) / (math.log(x1) - math.log(x0))
             return math.exp(math.log(y0) + w * (math.log(y1) - math.log(y0)))
     raise AssertionError("unreachable")
+
+
+def allowable_current_a(bare_diameter_m: float) -> float:
+    """Allowable continuous current of a copper conductor of this bare diameter [A].
+
+    Parameters
+    ----------
+    bare_diameter_m : float
+        Diameter of the copper cross-section [m] (as :func:`conductor_size` returns it).
+
+    Returns
+    -------
+    float
+        The 105 °C figure of ``AWG_AMPACITY_105C_A`` for an AWG size in the table; other sizes
+        (metric ones, odd gauges) are read on the same table by cross-section, log-log between
+        its rows and along its end rows' slope beyond them.
+
+    References
+    ----------
+    33 CFR 183.425 Table 5 (allowable amperage of conductors); AWG cross-sections from ASTM B258.
+    """
+    area = math.pi / 4 * (bare_diameter_m * 1000) ** 2
+    points = sorted((math.pi / 4 * awg_diameter_mm(g) ** 2, amps)
+                    for g, amps in AWG_AMPACITY_105C_A.items())
+    for row_area, amps in points:
+        if math.isclose(area, row_area, rel_tol=1e-9):
+            return float(amps)
+    if area < points[0][0]:
+        (x0, y0), (x1, y1) = points[0], points[1]
+    elif area > points[-1][0]:
+        (x0, y0), (x1, y1) = points[-2], points[-1]
+    else:
+        (x0, y0), (x1, y1) = next((a, b) for a, b in zip(points, points[1:])
+                                  if a[0] <= area <= b[0])
+    slope = math.log(y1 / y0) / math.log(x1 / x0)
+    return y0 * (area / x0) ** slope
