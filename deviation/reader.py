@@ -652,11 +652,20 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
             if kind != "paired":
                 collector.add("runs", number, "lie", f'lie is only used with return "paired", '
                               f'not "{kind}"')
+        ends = None
+        if row.get("untwisted_ends") is not None:
+            ends = _length(row["untwisted_ends"], site.units, collector, "runs", number,
+                           "untwisted_ends")
+            if kind != "twisted":
+                collector.add("runs", number, "untwisted_ends", "untwisted ends are only used "
+                              f'with return "twisted", not "{kind}"')
+            elif ends is not None and ends < 0:
+                collector.add("runs", number, "untwisted_ends", "the length must be zero or more")
         if len(collector.findings) > bad:
             continue
         route = frozen_array(route)
         back = None if back is None else frozen_array(back)
-        geometry = RunGeometry(name, route, kind, back, spacing, lay, radius)
+        geometry = RunGeometry(name, route, kind, back, spacing, lay, radius, ends)
         length = np.linalg.norm(np.diff(route, axis=0), axis=1).sum()
         if length == 0:
             collector.add("runs", number, "route", "the route has no length (all waypoints coincide)")

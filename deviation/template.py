@@ -5,97 +5,45 @@ from __future__ import annotations
 import re
 
 from .files import write_atomically
-from .plan import SAFE_DISTANCE_FOR, SENSOR_KINDS
-from .routing import RETURN_KINDS
+from .schema import SCHEMA
 from .units import LENGTH_UNITS
 
-# (column, explanation) per sheet, in order. The explanations become header comments.
-SHEET_COLUMNS = {
-    "site": [
-        ("setting", "Name of the setting (see the rows below)."),
-        ("value", "Its value."),
-        ("note", "Free text."),
-    ],
-    "points": [
-        ("point", "Name of a place to route through or mount at; used in routes and 'at' cells."),
-        ("x", "Forward of the datum (bare numbers in the plan's units; or e.g. 1.2 m, 4 ft)."),
-        ("y", "To port (left) of the datum; starboard is negative."),
-        ("z", "Up from the datum."),
-        ("note", "Free text."),
-    ],
-    "runs": [
-        ("run", "Unique name of the cable run."),
-        ("circuits", "Circuit(s) whose current this run carries, as named in the states sheet, "
-                     "separated by ;"),
-        ("route", "Waypoints from the source to the load, separated by >; each a point name or "
-                  "x, y, z."),
-        ("return", "paired (return beside the supply), twisted, separate (own route) or none."),
-        ("return_route", "For separate: waypoints from the load back to the source."),
-        ("spacing", "Centre-to-centre distance of supply and return (paired, twisted); bare "
-                    "numbers in mm (in for imperial plans). Blank: one insulated diameter of size."),
-        ("lay", "Twisted: length of one full twist; bare numbers in mm (in for imperial plans)."),
-        ("size", "Conductor size, e.g. 10 AWG, 2/0 AWG, 16 mm2."),
-        ("current_a", "Current in amperes, used only when the plan has no states sheet."),
-        ("note", "Free text."),
-    ],
-    "states": [
-        ("circuit", "Circuit name. Every other column except note is an operating state; each cell "
-                    "is the circuit's current in A in that state (blank: off; negative: reversed, "
-                    "e.g. charging)."),
-        ("harbour", "An operating state: rename, add or remove state columns freely."),
-        ("night motoring", "Another operating state."),
-        ("note", "Free text."),
-    ],
-    "sensors": [
-        ("sensor", "Unique name of the compass or magnetometer."),
-        ("at", "Point name or x, y, z of its centre."),
-        ("kind", "magnetic compass, electronic compass or magnetometer."),
-        ("budget_deg", "Deviation in degrees this sensor may take from the wiring and equipment."),
-        ("reference_state", "State in which it will be adjusted or calibrated (blank: none, the "
-                            "absolute deviation counts)."),
-        ("max_heel_deg", "Largest heel to check, degrees (blank: 0)."),
-        ("note", "Free text."),
-    ],
-    "equipment": [
-        ("item", "Name of a magnetised item (speaker, motor, instrument)."),
-        ("at", "Point name or x, y, z."),
-        ("safe_distance", "Compass safe distance from its label (IEC 60945)."),
-        ("safe_distance_for", "Which compass the label is for: standard or steering."),
-        ("moment_am2", "Or: its magnetic moment in A·m²."),
-        ("axis", "Direction of the moment, x, y, z (blank: the worst orientation)."),
-        ("states", "States it is present or powered in, separated by ; (blank: all)."),
-        ("note", "Free text."),
-    ],
-    "spots": [
-        ("spot", "Name of a candidate mounting position for `deviation spot` to rank."),
-        ("at", "Point name or x, y, z."),
-        ("note", "Free text."),
-    ],
-}
+#: (column, explanation) per sheet, in order, from the one schema the reader uses too.
+SHEET_COLUMNS = {name: [(c.name, c.explanation) for c in spec.columns]
+                 for name, spec in SCHEMA.items()}
 
+#: Worked examples, by column; the template writes them under each sheet's header.
 EXAMPLE_ROWS = {
-    "site": [["units", "m", "length unit of bare numbers: m, cm, mm, ft, in"],
-             ["latitude", 50.8, "decimal degrees, north positive"],
-             ["longitude", -1.3, "decimal degrees, east positive"],
-             ["date", "2027-06-01", "YYYY-MM-DD or a decimal year (blank: today)"],
-             ["altitude_m", 0, "height above the WGS-84 ellipsoid, m"],
-             ["horizontal_field_ut", None, "optional: measured H in µT, overrides the model"],
-             ["vertical_field_ut", None, "optional: measured Z in µT, positive down"]],
-    "points": [["battery", 3.0, -0.5, 0.3, "example: house battery"],
-               ["helm", 1.5, 0.0, 1.8, "example: compass position"]],
-    "runs": [["helm instruments", "instruments", "battery > 2.0, 0, 0.8 > 1.5, 0.1, 1.5",
-              "paired", None, None, None, "16 AWG", None, "example row: replace with your runs"]],
-    "states": [["instruments", 1.5, 3.0, "example circuit"]],
-    "sensors": [["steering compass", "helm", "magnetic compass", 1.0, "harbour", 20, "example"]],
-    "equipment": [["speaker", "1.2, 0.4, 1.4", "0.8 m", "standard", None, None, None, "example"]],
-    "spots": [["bulkhead", "1.5, 0.3, 1.8", "example candidate"]],
+    "site": [{"setting": "units", "value": "m",
+              "note": "length unit of bare numbers: m, cm, mm, ft, in"},
+             {"setting": "latitude", "value": 50.8, "note": "decimal degrees, north positive"},
+             {"setting": "longitude", "value": -1.3, "note": "decimal degrees, east positive"},
+             {"setting": "date", "value": "2027-06-01",
+              "note": "YYYY-MM-DD or a decimal year (blank: today)"},
+             {"setting": "altitude_m", "value": 0, "note": "height above the WGS-84 ellipsoid, m"},
+             {"setting": "horizontal_field_ut",
+              "note": "optional: measured H in µT, overrides the model"},
+             {"setting": "vertical_field_ut", "note": "optional: measured Z in µT, positive down"}],
+    "points": [{"point": "battery", "x": 3.0, "y": -0.5, "z": 0.3, "note": "example: house battery"},
+               {"point": "helm", "x": 1.5, "y": 0.0, "z": 1.8, "note": "example: compass position"}],
+    "runs": [{"run": "helm instruments", "circuits": "instruments",
+              "route": "battery > 2.0, 0, 0.8 > 1.5, 0.1, 1.5", "return": "paired",
+              "size": "16 AWG", "note": "example row: replace with your runs"}],
+    "states": [{"circuit": "instruments", "harbour": 1.5, "night motoring": 3.0,
+                "note": "example circuit"},
+               {"circuit": "windlass", "harbour": 80, "switching": "independent",
+                "note": "example: on or off in any state"}],
+    "sensors": [{"sensor": "steering compass", "at": "helm", "kind": "magnetic compass",
+                 "budget_deg": 1.0, "reference_state": "harbour", "max_heel_deg": 20,
+                 "note": "example"}],
+    "equipment": [{"item": "speaker", "at": "1.2, 0.4, 1.4", "safe_distance": "0.8 m",
+                   "safe_distance_for": "standard", "note": "example"}],
+    "spots": [{"spot": "bulkhead", "at": "1.5, 0.3, 1.8", "note": "example candidate"}],
 }
 
-CHOICES = {
-    ("runs", "return"): RETURN_KINDS,
-    ("sensors", "kind"): SENSOR_KINDS,
-    ("equipment", "safe_distance_for"): SAFE_DISTANCE_FOR,
-}
+#: Drop-down lists, from the schema's choices.
+CHOICES = {(name, c.name): c.choices for name, spec in SCHEMA.items() for c in spec.columns
+           if c.choices}
 
 
 def write_template(path, units="m"):
@@ -116,9 +64,11 @@ def write_template(path, units="m"):
             cell.font, cell.fill = header_font, header_fill
             cell.comment = Comment(explanation, "deviation")
             sheet.column_dimensions[cell.column_letter].width = max(12, min(40, len(column) + 14))
-        for r, row in enumerate(EXAMPLE_ROWS[name], start=2):
-            if name == "site" and row[0] == "units":
-                row = [row[0], units, row[2]]
+        order = [c for c, _ in columns]
+        for r, example in enumerate(EXAMPLE_ROWS[name], start=2):
+            if name == "site" and example["setting"] == "units":
+                example = {**example, "value": units}
+            row = [example.get(column) for column in order]
             for c, value in enumerate(row, start=1):
                 cell = sheet.cell(row=r, column=c, value=value)
                 if isinstance(value, str):
@@ -150,11 +100,22 @@ def _route_text(points):
     return " > ".join(_xyz(p) for p in points)
 
 
+def _table(sheet, records):
+    """Rows of a sheet in the schema's column order: header, then one row per record (dict)."""
+    columns = [c for c, _ in SHEET_COLUMNS[sheet]]
+    return [columns] + [[record.get(c) for c in columns] for record in records]
+
+
+def _metres(value):
+    return None if value is None else f"{float(value)!r} m"
+
+
 def plan_rows(plan):
     """The plan's content as rows per sheet, in the workbook layout, lengths in metres.
 
-    Lengths are written as text with full float precision, so they read back exactly; other
-    numbers are workbook numbers, which keep 15 significant digits (the xlsx number format).
+    Names, points, circuits, switching and notes are kept. Lengths are written as text with full
+    float precision, so they read back exactly; other numbers are workbook numbers, which keep
+    15 significant digits (the xlsx number format).
     """
     site = plan.site
     rows = {"site": [["setting", "value", "note"], ["units", "m", "written by deviation"]]}
@@ -168,34 +129,35 @@ def plan_rows(plan):
                         ("vertical_field_ut", site.vertical_ut)):
         if value is not None:
             rows["site"].append([name, float(value), None])
-    rows["points"] = [["point", "x", "y", "z", "note"]]
-    runs = [["run", "circuits", "route", "return", "return_route", "spacing", "lay", "size",
-             "current_a", "note"]]
-    for r, run in enumerate(plan.runs):
-        g = run.geometry
-        runs.append([run.name, f"run {r + 1}", _route_text(g.route_m), g.return_kind,
-                     _route_text(g.return_route_m) if g.return_route_m is not None else None,
-                     f"{g.spacing_m!r} m" if g.spacing_m is not None else None,
-                     f"{g.lay_m!r} m" if g.lay_m is not None else None,
-                     run.size, None, run.note or None])
-    rows["runs"] = runs
-    # One circuit per run keeps every run's current in every state exactly.
-    rows["states"] = [["circuit", *plan.state_names, "note"]] + [
-        [f"run {r + 1}", *(float(c) for c in plan.run_currents_a[r]), None]
-        for r in range(len(plan.runs))]
-    rows["sensors"] = [["sensor", "at", "kind", "budget_deg", "reference_state", "max_heel_deg",
-                        "note"]] + [[s.name, _xyz(s.position_m), s.kind, float(s.budget_deg),
-                                     s.reference_state, float(s.max_heel_deg), s.note or None]
-                                    for s in plan.sensors]
-    rows["equipment"] = [["item", "at", "safe_distance", "safe_distance_for", "moment_am2", "axis",
-                          "states", "note"]] + [
-        [e.name, _xyz(e.position_m),
-         f"{e.safe_distance_m!r} m" if e.safe_distance_m is not None else None,
-         e.safe_distance_for, e.moment_am2,
-         ", ".join(repr(float(v)) for v in e.axis) if e.axis is not None else None,
-         "; ".join(e.states) if e.states is not None else None, e.note or None]
-        for e in plan.equipment]
-    rows["spots"] = [["spot", "at", "note"]] + [[name, _xyz(p), None] for name, p in plan.spots]
+    rows["points"] = _table("points", [{"point": name, "x": _metres(p[0]), "y": _metres(p[1]),
+                                        "z": _metres(p[2])} for name, p in plan.points])
+    rows["runs"] = _table("runs", [{
+        "run": run.name, "circuits": "; ".join(run.circuits), "route": _route_text(g.route_m),
+        "return": g.return_kind,
+        "return_route": _route_text(g.return_route_m) if g.return_route_m is not None else None,
+        "spacing": _metres(g.spacing_m), "lay": _metres(g.lay_m),
+        "lie": run.lie if g.return_kind == "paired" else None,
+        "untwisted_ends": _metres(g.untwisted_end_m), "size": run.size, "note": run.note or None}
+        for run in plan.runs for g in [run.geometry]])
+    states = [["circuit", *plan.state_names, "switching", "note"]]
+    for circuit in plan.circuits:
+        states.append([circuit.name, *(float(a) for a in circuit.currents_a),
+                       circuit.switching if circuit.independent else None, circuit.note or None])
+    rows["states"] = states
+    rows["sensors"] = _table("sensors", [{
+        "sensor": s.name, "at": _xyz(s.position_m), "kind": s.kind,
+        "budget_deg": float(s.budget_deg), "reference_state": s.reference_state,
+        "used_in": "; ".join(s.used_in) if s.used_in is not None else None,
+        "max_heel_deg": float(s.max_heel_deg), "max_pitch_deg": float(s.max_pitch_deg),
+        "note": s.note or None} for s in plan.sensors])
+    rows["equipment"] = _table("equipment", [{
+        "item": e.name, "at": _xyz(e.position_m), "safe_distance": _metres(e.safe_distance_m),
+        "safe_distance_for": e.safe_distance_for, "moment_am2": e.moment_am2,
+        "axis": ", ".join(repr(float(v)) for v in e.axis) if e.axis is not None else None,
+        "states": "; ".join(e.states) if e.states is not None else None, "note": e.note or None}
+        for e in plan.equipment])
+    rows["spots"] = _table("spots", [{"spot": p.name, "at": _xyz(p.position_m)}
+                                     for p in plan.spots])
     return rows
 
 

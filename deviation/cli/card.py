@@ -34,19 +34,19 @@ def card(plan, sensor_name, step_deg, plot_path, as_json, width):
     from ..files import check_output
 
     the_plan = api.read_plan(plan)
-    if sensor_name:
-        the_plan.sensor(sensor_name)                  # an unknown name fails before any work
+    chosen = [the_plan.sensor(sensor_name)] if sensor_name else list(the_plan.sensors)
+    targets = []
+    if plot_path:                                     # refuse a bad output before any work
+        targets = [Path(plot_path)] if len(chosen) == 1 else [
+            Path(plot_path).with_name(f"{Path(plot_path).stem}-{_slug(s.name)}"
+                                      f"{Path(plot_path).suffix}") for s in chosen]
+        for target in targets:
+            check_output(target, plan)
     result = api.check(the_plan, remedies=False)
     made = api.deviation_cards(result, sensor_name, float(step_deg))
-    targets = []
     if plot_path:
         from ..render.plots import card_curves
 
-        targets = [Path(plot_path)] if len(made) == 1 else [
-            Path(plot_path).with_name(f"{Path(plot_path).stem}-{_slug(c.sensor.name)}"
-                                      f"{Path(plot_path).suffix}") for c in made]
-        for target in targets:
-            check_output(target, plan)
         for target, one in zip(targets, made):
             card_curves(one, target)
     if as_json:
