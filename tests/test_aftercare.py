@@ -455,3 +455,8 @@ def test_refit_cli_exit_status(plan_dir):
     assert advised.exit_code == 1
     assert "second feed (added)" in advised.output and "A new swing is advised." in advised.output
 
+
+def test_after_installation_doc_names_every_new_command():
+    text = (ROOT / "docs" / "after-installation.md").read_text()
+    for command in ("test-sheet", "test-results", "swing", "swing-state", "deflection", "refit"):
+        assert f"deviation {command}" in text
