@@ -85,7 +85,7 @@ def main():
     """
 
 
-from . import card, check, new, site, spot  # noqa: E402,F401  (commands register on main)
+from . import card, check, deflection, new, refit, site, spot, swing, swing_state, test_results, test_sheet  # noqa: E402,F401,E501  (commands register on main)
 
 if __name__ == "__main__":  # pragma: no cover
     main()

@@ -1,0 +1,46 @@
+"""``deviation refit``: what a changed plan does to the compass, and whether to swing again."""
+
+from __future__ import annotations
+
+import sys
+
+import click
+
+from . import console_for, echo_json, json_option, library_errors, main, width_option
+
+
+@main.command()
+@click.argument("old", type=click.Path(exists=False, dir_okay=True))
+@click.argument("new", type=click.Path(exists=False, dir_okay=True))
+@click.option("--threshold", "threshold_deg", type=click.FloatRange(0, 90), default=1.0,
+              show_default=True,
+              help="Advise a new swing where the deviation card changes by more than this, "
+                   "degrees (common practice, no source).")
+@json_option
+@width_option
+@library_errors
+def refit(old, new, threshold_deg, as_json, width):
+    """Compare a plan with its earlier version: per sensor and state, how the held figure, the
+    level deviation and the deviation card change, which runs and items cause it (added,
+    removed, moved, current changed), and whether a new swing is advised.
+
+    The card change assumes the correctors stay as they were set for the earlier plan.
+
+    Exit status: 0 no new swing is advised, 1 a new swing is advised, 2 a plan or the command
+    line is wrong.
+    """
+    from .. import api
+    from ..aftercare import refit as compare
+
+    old_plan = api.read_plan(old)
+    new_plan = api.read_plan(new)
+    result = compare(old_plan, new_plan, threshold_deg)
+    if as_json:
+        from ..render.aftercare import refit_json
+
+        echo_json(refit_json(result))
+    else:
+        from ..render.aftercare import render_refit
+
+        render_refit(result, console_for(width))
+    sys.exit(1 if result.swing_advised else 0)

@@ -1,0 +1,82 @@
+"""``deviation swing``: a swing fitted to the approximate coefficients, beside the plan's."""
+
+from __future__ import annotations
+
+import click
+
+from . import console_for, echo_json, json_option, library_errors, main, plan_argument, width_option
+from .test_results import readings_errors
+
+
+@main.command()
+@plan_argument
+@click.argument("readings", type=click.Path(exists=False, dir_okay=True))
+@click.option("--sensor", "sensor_name", required=True, help="The compass that was swung.")
+@click.option("--state", default=None,
+              help="The state of readings whose state cell is blank (needed when the plan has "
+                   "several states and the sheet names none).")
+@click.option("--on", type=click.Choice(["compass", "magnetic"]), default="compass",
+              show_default=True,
+              help="Write the coefficients against compass headings (the handbook's way) or "
+                   "magnetic headings.")
+@click.option("--adjusted-in", default=None, metavar="STATE",
+              help="The state the correctors were set in before the swing (default: the "
+                   "sensor's reference state in the plan).")
+@click.option("--not-adjusted", is_flag=True,
+              help="No correctors were set: compare with the whole field of the wiring.")
+@click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
+              help="Draw readings, fitted and predicted curves: FILE.png or FILE.svg.")
+@click.option("--report", type=click.Path(dir_okay=False),
+              help="Also write the fit: FILE.xlsx or FILE.html (with the curves).")
+@json_option
+@width_option
+@library_errors
+@readings_errors
+def swing(plan, readings, sensor_name, state, on, adjusted_in, not_adjusted, plot_path, report,
+          as_json, width):
+    """Fit a compass swing to the approximate coefficients A-E per state and set the plan's
+    own coefficients beside them; the difference is what the plan does not explain.
+
+    READINGS: a .csv file, a workbook (sheet "swing" or its only sheet) or a folder with
+    swing.csv; per row the compass heading and the deviation (3.5E, 2W or signed, east
+    positive), or the compass and the magnetic heading, and the state. Five or more distinct
+    headings per state; least squares, which on the eight cardinal and quadrantal headings gives
+    the handbook's A, D and E (NGA Handbook of Magnetic Compass Adjustment, ch. V).
+
+    Exit status: 0 fitted, 2 the plan, the readings or the command line is wrong.
+    """
+    from .. import api
+    from ..aftercare import read_swing, swing_comparison
+    from ..files import check_output
+    from . import CommandProblem
+
+    if not_adjusted and adjusted_in:
+        raise CommandProblem("give --adjusted-in or --not-adjusted, not both")
+    the_plan = api.read_plan(plan)
+    sensor = the_plan.sensor(sensor_name)
+    for target in (plot_path, report):
+        if target:
+            check_output(target, plan)
+            check_output(target, readings)
+    data = read_swing(readings, the_plan, state)
+    comparison = swing_comparison(the_plan, sensor, data, on=on,
+                                  adjusted_in=None if not_adjusted else adjusted_in or "reference")
+    if plot_path:
+        from ..render.aftercare import swing_plot
+
+        swing_plot(comparison, plot_path)
+    if report:
+        from ..render.aftercare import write_swing
+
+        write_swing(comparison, report)
+    if as_json:
+        from ..render.aftercare import swing_json
+
+        echo_json(swing_json(comparison))
+        return
+    from ..render.aftercare import render_swing
+
+    render_swing(comparison, console_for(width))
+    for target, what in ((plot_path, "Curves"), (report, "Report")):
+        if target:
+            click.echo(f"{what} written to {target}")

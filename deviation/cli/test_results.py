@@ -1,0 +1,102 @@
+"""``deviation test-results``: the switch-on test read back against the plan."""
+
+from __future__ import annotations
+
+import functools
+import sys
+
+import click
+
+from . import (PlanProblem, console_for, echo_json, json_option, library_errors, main,
+               plan_argument, width_option)
+
+
+class ReadingsProblem(PlanProblem):
+    """Findings in a readings sheet: one line each on stderr, exit status 2, nothing written."""
+
+    def __init__(self, findings):
+        self.findings = findings
+        count = len(findings)
+        click.ClickException.__init__(self, f"{count} problem{'s' if count != 1 else ''} in the "
+                                            "readings; nothing was computed or written.")
+
+
+def readings_errors(command):
+    """Turn a readings sheet's findings into one located line each, exit status 2."""
+
+    @functools.wraps(command)
+    def wrapper(*args, **kwargs):
+        from ..aftercare import ReadingsError
+
+        try:
+            return command(*args, **kwargs)
+        except ReadingsError as error:
+            raise ReadingsProblem(error.findings) from None
+
+    return wrapper
+
+
+@main.command("test-results")
+@plan_argument
+@click.argument("readings", type=click.Path(exists=False, dir_okay=True))
+@click.option("--sensor", "sensor_name", default=None,
+              help="The sensor watched (default: the sheet's settings).")
+@click.option("--heading", "heading_deg", type=click.FloatRange(0, 360), default=None,
+              help="Magnetic heading the vessel lay on (default: the sheet's settings).")
+@click.option("--from", "start_state", default=None, metavar="STATE",
+              help="The starting state (default: the sheet's settings, else all off).")
+@click.option("--adjusted/--not-adjusted", default=None,
+              help="Correctors were set in the reference state (default: the sheet's settings, "
+                   "else not).")
+@click.option("--resolution", "resolution_deg", type=click.FloatRange(0, 10), default=0.5,
+              show_default=True,
+              help="Reading resolution of the card, degrees (common practice, no source).")
+@click.option("--fraction", type=click.FloatRange(0, 1), default=0.25, show_default=True,
+              help="Share of the predicted change allowed (common practice, no source).")
+@click.option("--report", type=click.Path(dir_okay=False),
+              help="Also write the comparison: FILE.xlsx or FILE.html.")
+@json_option
+@width_option
+@library_errors
+@readings_errors
+def test_results(plan, readings, sensor_name, heading_deg, start_state, adjusted,
+                 resolution_deg, fraction, report, as_json, width):
+    """Read a filled-in switch-on test back: each observed change beside the predicted, and the
+    circuits that differ named as probable routing errors.
+
+    READINGS is the sheet test-sheet wrote, filled in; or a plan workbook or folder with a
+    "switch-on test" sheet; or a .csv file of it (columns circuit or state, reading before and
+    reading after, or observed change). A step differs when the observed change is further from
+    the predicted than max(resolution, fraction x predicted).
+
+    Exit status: 0 every step read agrees, 1 at least one differs, 2 the plan, the readings or
+    the command line is wrong (each bad cell named by sheet, row and column).
+    """
+    from .. import api
+    from ..aftercare import read_switch_on_results
+
+    the_plan = api.read_plan(plan)
+    if report:
+        from ..files import check_output
+
+        check_output(report, plan)
+        check_output(report, readings)
+    results = read_switch_on_results(the_plan, readings, sensor=sensor_name,
+                                     heading_deg=heading_deg, start_state=start_state,
+                                     adjusted=adjusted, resolution_deg=resolution_deg,
+                                     fraction=fraction)
+    if report:
+        from ..render.aftercare import write_results
+
+        write_results(results, report)
+    if as_json:
+        from ..render.aftercare import results_json
+
+        echo_json(results_json(results))
+    else:
+        from ..render.aftercare import render_test_results
+
+        render_test_results(results, console_for(width))
+        if report:
+            click.echo(f"Report written to {report}")
+    sys.exit(0 if results.agrees else 1)
