@@ -84,6 +84,12 @@ class SensorResult:
         """(R,) each run's nearest distance to the sensor [m]."""
         return self.parts.nearest_m[0]
 
+    @property
+    def unit_fields_t(self) -> np.ndarray:
+        """(R, 3) each run's field of known direction per ampere at the sensor [T/A] (for a pair
+        whose lie is not fixed: the centre of its lies)."""
+        return self.parts.unit_t[0]
+
     def state(self, name: str) -> StateResult:
         return next(s for s in self.states if s.state == name)
 
