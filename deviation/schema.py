@@ -17,6 +17,8 @@ SAFE_DISTANCE_FOR = ("standard", "steering")
 PAIR_LIES = ("not known", "side by side", "one above the other")
 #: How a circuit switches: with the operating states, or on its own on top of any state.
 SWITCHING = ("with states", "independent", "independent, reversing")
+#: Kinds of box in the volumes sheet.
+VOLUME_KINDS = ("mount in", "keep out")
 #: Column names of the states sheet that are free text, never an operating state.
 STATES_TEXT_COLUMNS = ("note", "notes", "comment", "comments", "switching")
 
@@ -121,6 +123,16 @@ SCHEMA: dict[str, SheetSpec] = {s.name: s for s in (
     _sheet("spots",
            ("spot", "Name of a candidate mounting position for `deviation spot` to rank.", True),
            ("at", "Point name or x, y, z.", True),
+           ("for_sensor", "The sensor it is a candidate for, as named in the sensors sheet "
+                          "(blank or all: every sensor)."),
+           NOTE),
+    _sheet("volumes",
+           ("volume", "Name of a box where a sensor may be mounted, or must not be.", True),
+           ("kind", "mount in (spots only inside such boxes) or keep out (never a spot inside).",
+            True, VOLUME_KINDS),
+           ("from", "One corner of the box: point name or x, y, z.", True),
+           ("to", "The opposite corner: point name or x, y, z.", True),
+           ("for_sensor", "The sensor it applies to (blank or all: every sensor)."),
            NOTE),
 )}
 

@@ -236,17 +236,45 @@ def render_spots(search, plan, console, seconds):
         table.add_row(str(rank), *named, *(format_length(v, unit) for v in s.position_m),
                       Text(degrees(s.budget_used_deg), style=_ok(s.within_budget)),
                       Text(s.worst_state), Text(runs or "—"))
+    if search.spots and not search.within_budget:
+        table.caption = Text(f"No spot meets the {sensor.budget_deg:g}° budget: the best found "
+                             f"uses {words.with_degree_sign(search.spots[0].budget_used_deg)}.",
+                             style="bold red")
+        table.caption_justify = "left"
     console.print(table)
+    if search.best_on_edge:
+        # The faces in the words of a vessel's plan (x forward, y port, z up).
+        named = {"x low": "aft", "x high": "forward", "y low": "starboard", "y high": "port",
+                 "z low": "bottom", "z high": "top"}
+        faces = [named[f] for f in search.edge_faces]
+        faces = " and ".join([", ".join(faces[:-1]), faces[-1]] if len(faces) > 1 else faces)
+        plural = "s" if len(search.edge_faces) > 1 else ""
+        console.print(Text(f"The best spot lies on the edge of the searched box: the box may be "
+                           f"too small (the spot is on its {faces} face{plural}).",
+                           style="yellow"))
+    if search.volumes:
+        kinds = [(kind, [v.name for v in search.volumes if v.kind == kind])
+                 for kind in ("mount in", "keep out")]
+        listed = "; ".join(f"{kind} " + ", ".join(f'"{n}"' for n in names)
+                           for kind, names in kinds if names)
+        console.print(Text(f"Volumes honoured: {listed}."))
+    if search.excluded:
+        console.print(Text("Left out by the volumes: " + "; ".join(
+            f"{name} ({why})" for name, why in search.excluded) + "."))
     if search.current is not None:
         now = search.current
-        console.print(Text(f"Where it is now {words.position(now.position_m, unit)}: "
+        inside = [v.name for v in search.volumes
+                  if v.kind == "keep out" and v.contains(now.position_m)[0]]
+        where = f' (inside keep-out "{inside[0]}")' if inside else ""
+        console.print(Text(f"Where it is now {words.position(now.position_m, unit)}{where}: "
                            f"{words.with_degree_sign(now.budget_used_deg)} in {now.worst_state}"))
     if search.step_m:
         console.print(f"Searched {search.evaluated:,} positions for a {search.grid_points:,}-point "
                       f"grid at {format_length(search.step_m, unit)} steps in {seconds:.1f} s.")
     console.print("The figure is the one held against the budget: the worst state it is used "
-                  "in, at the worst attitude, after adjustment where it has a reference state. Check the spot for vibration, heat, access "
-                  "and equipment not in the plan before mounting.")
+                  "in, at the worst attitude, after adjustment where it has a reference state. "
+                  "Check the spot for vibration, heat, access and equipment not in the plan "
+                  "before mounting.")
 
 
 def _signed(deviation):
