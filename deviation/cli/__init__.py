@@ -85,7 +85,7 @@ def main():
     """
 
 
-from . import card, check, new, site, spot  # noqa: E402,F401  (commands register on main)
+from . import card, check, clearance, new, site, spot  # noqa: E402,F401  (commands register on main)
 
 if __name__ == "__main__":  # pragma: no cover
     main()

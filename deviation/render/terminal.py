@@ -277,6 +277,53 @@ def render_spots(search, plan, console, seconds):
                   "before mounting.")
 
 
+def render_clearance(table, console, unit, source, notes, warning=None):
+    """The clearance table: least distance per current, then what it assumes and the cautions.
+
+    Parameters
+    ----------
+    table : deviation.clearance.ClearanceTable
+    console : rich Console
+    unit : str
+        Units of the distances printed ("m" or "ft").
+    source : str
+        Where the horizontal field came from, in words.
+    notes : sequence of str
+        What each column assumes, one sentence each.
+    warning : str, optional
+        The site's zone warning, if any.
+    """
+    console.print(Text(f"Least distance from a compass for a {table.budget_deg:g}° budget",
+                       style="bold"))
+    console.print(Text(f"H {table.horizontal_t * 1e6:.3f} µT ({source}); allowed disturbance "
+                       f"H sin {table.budget_deg:g}° = {table.allowed_t * 1e6:.4f} µT"))
+    if warning:
+        console.print(Text(warning, style="bold red"))
+    out = Table(box=_box(console))
+    out.add_column("current A", justify="right")
+    out.add_column("single conductor", justify="right")
+    out.add_column(Text(f"pair at {format_length(table.spacing_m, unit)}"), justify="right")
+    out.add_column(Text(f"twisted pair, {format_length(table.lay_m, unit)} lay"),
+                   justify="right")
+    for row in table:
+        out.add_row(f"{row.current_a:g}", format_length(row.single_m, unit),
+                    format_length(row.pair_m, unit), format_length(row.twisted_m, unit))
+    console.print(out)
+
+    def bullets(lines):              # wrapped lines stay indented under their bullet
+        grid = Table.grid(padding=(0, 1))
+        grid.add_column(width=3, justify="right")
+        grid.add_column()
+        for line in lines:
+            grid.add_row("•", Text(line))
+        console.print(grid)
+
+    bullets(notes)
+    console.print()
+    console.print(Text("Cautions", style="bold"))
+    bullets(CAUTIONS)
+
+
 def _signed(deviation):
     side = "E" if deviation > 0.005 else "W" if deviation < -0.005 else " "
     return f"{abs(deviation):.2f}°{side}"
