@@ -89,7 +89,7 @@ class Circuit:
 
     ``switching`` is "with states" (the current is what the state column says), "independent"
     (the load may be on or off on top of any state, at the current its cell gives in that state),
-    or "independent, reversing" (on either way round, or off).
+    or "independent reversing" (on either way round, or off).
     """
 
     name: str
@@ -107,7 +107,7 @@ class Circuit:
 
     @property
     def reversing(self) -> bool:
-        return self.switching == "independent, reversing"
+        return self.switching == "independent reversing"
 
 
 @dataclass(frozen=True)
@@ -164,9 +164,43 @@ class Equipment:
 class CandidateSpot:
     name: str
     position_m: np.ndarray
+    for_sensor: str | None = None     # the sensor it is a candidate for; None: every sensor
 
     def __post_init__(self):
         _freeze(self, "position_m")
+
+    def is_for(self, sensor_name: str) -> bool:
+        return self.for_sensor is None or name_key(self.for_sensor) == name_key(sensor_name)
+
+
+@dataclass(frozen=True)
+class Volume:
+    """A box of the volumes sheet: where a sensor may be mounted, or must not be.
+
+    ``kind`` is "mount in" (spots only inside such boxes, where the sensor has any) or "keep out"
+    (never a spot inside). The box is closed: its faces count as inside. A box may be flat in
+    one axis (a shelf's top, a bulkhead's face).
+    """
+
+    name: str
+    kind: str
+    low_m: np.ndarray                 # (3,) the corner of least x, y, z
+    high_m: np.ndarray                # (3,) the opposite corner
+    for_sensor: str | None = None     # None: every sensor
+    note: str = ""
+    row: int | None = None
+
+    def __post_init__(self):
+        _freeze(self, "low_m", "high_m")
+
+    def is_for(self, sensor_name: str) -> bool:
+        return self.for_sensor is None or name_key(self.for_sensor) == name_key(sensor_name)
+
+    def contains(self, points_m, tolerance_m: float = 1e-9) -> np.ndarray:
+        """(P,) True for the points [m] inside the closed box (within ``tolerance_m``)."""
+        points = np.asarray(points_m, dtype=float).reshape(-1, 3)
+        return np.all((points >= self.low_m - tolerance_m) & (points <= self.high_m + tolerance_m),
+                      axis=1)
 
 
 @dataclass(frozen=True, eq=False)
@@ -193,6 +227,7 @@ class Plan:
     spots: tuple[CandidateSpot, ...] = ()
     circuits_from_runs: bool = False  # no states sheet: each run is its own circuit
     notes: dict = field(default_factory=dict, compare=False)  # sheet -> free-text column titles
+    volumes: tuple[Volume, ...] = ()  # boxes to mount in or keep out of (the volumes sheet)
 
     def __post_init__(self):
         for name in ("runs", "state_names", "circuits", "sensors", "equipment", "spots",

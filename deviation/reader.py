@@ -894,7 +894,23 @@ def _read_equipment(sheet, site, points, states, collector):
     return items
 
 
-def _read_spots(sheet, site, points, collector):
+def _for_sensor(value, sensors, collector, sheet, row):
+    """The sensor a for_sensor cell names (None: blank or all, every sensor); a finding if unknown.
+
+    Returns (name or None, ok).
+    """
+    if value is None or key(value) == "all":
+        return None, True
+    names = [s.name for s in sensors]
+    match = next((n for n in names if key(n) == key(value)), None)
+    if match is None:
+        collector.add(sheet, row, "for_sensor", f'"{value}" is not a sensor in the sensors sheet '
+                      f"(blank or all: every sensor){_suggest(str(value), names)}")
+        return None, False
+    return match, True
+
+
+def _read_spots(sheet, site, points, sensors, collector):
     spots = []
     if sheet is None or not _check_columns(sheet, collector):
         return spots
@@ -903,9 +919,63 @@ def _read_spots(sheet, site, points, collector):
             collector.add("spots", number, "at", "where is it? give a point name or x, y, z")
             continue
         position = _position(row["at"], points, site.units, collector, "spots", number, "at")
-        if position is not None:
-            spots.append(CandidateSpot(str(row.get("spot") or f"row {number}"), position))
+        owner, ok = _for_sensor(row.get("for_sensor"), sensors, collector, "spots", number)
+        if position is not None and ok:
+            spots.append(CandidateSpot(str(row.get("spot") or f"row {number}"), position, owner))
     return spots
+
+
+def _read_volumes(sheet, site, points, sensors, collector):
+    """Boxes to mount a sensor in or keep it out of, each with its corners ordered."""
+    from .plan import Volume            # imported here to keep this sheet's change in one place
+    from .schema import VOLUME_KINDS
+
+    volumes = []
+    if sheet is None or not _check_columns(sheet, collector):
+        return volumes
+    seen = set()
+    for number, row in sheet.rows:
+        bad = len(collector.findings)
+        name = row.get("volume")
+        if name is None:
+            collector.add("volumes", number, "volume", "the volume has no name")
+        elif key(name) in seen:
+            collector.add("volumes", number, "volume", f'"{name}" is named twice')
+        seen.add(key(name) if name else None)
+        kind = None
+        if row.get("kind") is None:
+            collector.add("volumes", number, "kind", "say mount in (spots only inside it) or keep "
+                          "out (never a spot inside)")
+        else:
+            # "keep-out" and "mount_in" are the same words.
+            wanted = key(re.sub(r"[-_]", " ", str(row["kind"])))
+            kind = next((k for k in VOLUME_KINDS if key(k) == wanted), None)
+            if kind is None:
+                collector.add("volumes", number, "kind", f'"{row["kind"]}" is not a kind of '
+                              f'volume; expected one of {", ".join(VOLUME_KINDS)}'
+                              f"{_suggest(wanted, VOLUME_KINDS)}")
+        corners = []
+        for column in ("from", "to"):
+            if row.get(column) is None:
+                collector.add("volumes", number, column, "a corner of the box is needed: a point "
+                              "name or x, y, z")
+                continue
+            corner = _position(row[column], points, site.units, collector, "volumes", number,
+                               column)
+            if corner is not None:
+                corners.append(corner)
+        owner, _ = _for_sensor(row.get("for_sensor"), sensors, collector, "volumes", number)
+        if len(collector.findings) > bad:
+            continue
+        low, high = np.minimum(*corners), np.maximum(*corners)
+        if kind == "keep out" and np.any(high <= low):
+            flat = ", ".join(a for a, lo, hi in zip("xyz", low, high) if hi <= lo)
+            collector.add("volumes", number, "to", f"a keep-out box with no thickness in {flat} "
+                          "keeps nothing out; give corners that differ in x, y and z")
+            continue
+        volumes.append(Volume(str(name), kind, low, high, owner, str(row.get("note") or ""),
+                              number))
+    return volumes
 
 
 def _check_sensors_outside_conductors(plan, collector):
@@ -1015,7 +1085,8 @@ def _plan_from_sheets(sheets, source, collector) -> Plan:
     equipment = _read_equipment(sheets.get("equipment"), site, points, states, collector)
     if "sensors" in sheets and not sensors and not collector.findings:
         collector.add("sensors", None, None, "the plan has no sensors to check")
-    spots = _read_spots(sheets.get("spots"), site, points, collector)
+    spots = _read_spots(sheets.get("spots"), site, points, sensors, collector)
+    volumes = _read_volumes(sheets.get("volumes"), site, points, sensors, collector)
     if circuit_currents is None:        # no states sheet: each run is its own circuit
         circuits = [Circuit(run.name, run_currents[r], row=run.row) for r, run in enumerate(runs)]
         runs = [replace(run, circuits=(run.name,)) for run in runs]
@@ -1024,7 +1095,7 @@ def _plan_from_sheets(sheets, source, collector) -> Plan:
                     for k in circuit_currents]
     plan = Plan(source, site, tuple((name, points[key(name)]) for name in points.names), runs,
                 states, circuits, sensors, equipment, spots,
-                circuits_from_runs=circuit_currents is None)
+                circuits_from_runs=circuit_currents is None, volumes=tuple(volumes))
     if not collector.findings:
         _check_sensors_outside_conductors(plan, collector)
     if collector.findings:

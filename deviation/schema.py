@@ -16,7 +16,9 @@ SAFE_DISTANCE_FOR = ("standard", "steering")
 #: How the two conductors of a paired run lie about its axis; "not known" counts the worst.
 PAIR_LIES = ("not known", "side by side", "one above the other")
 #: How a circuit switches: with the operating states, or on its own on top of any state.
-SWITCHING = ("with states", "independent", "independent, reversing")
+SWITCHING = ("with states", "independent", "independent reversing")
+#: Kinds of box in the volumes sheet.
+VOLUME_KINDS = ("mount in", "keep out")
 #: Column names of the states sheet that are free text, never an operating state.
 STATES_TEXT_COLUMNS = ("note", "notes", "comment", "comments", "switching")
 
@@ -92,7 +94,7 @@ SCHEMA: dict[str, SheetSpec] = {s.name: s for s in (
            ("night motoring", "Another operating state."),
            ("switching", "with states (blank), or independent: the load may be on or off on top "
                          "of any state (windlass, thruster, a radio transmitting), at the current "
-                         "its cell gives; independent, reversing: either way round. The budget "
+                         "its cell gives; independent reversing: either way round. The budget "
                          "takes the worst combination.", False, SWITCHING),
            NOTE),
     _sheet("sensors",
@@ -121,6 +123,16 @@ SCHEMA: dict[str, SheetSpec] = {s.name: s for s in (
     _sheet("spots",
            ("spot", "Name of a candidate mounting position for `deviation spot` to rank.", True),
            ("at", "Point name or x, y, z.", True),
+           ("for_sensor", "The sensor it is a candidate for, as named in the sensors sheet "
+                          "(blank or all: every sensor)."),
+           NOTE),
+    _sheet("volumes",
+           ("volume", "Name of a box where a sensor may be mounted, or must not be.", True),
+           ("kind", "mount in (spots only inside such boxes) or keep out (never a spot inside).",
+            True, VOLUME_KINDS),
+           ("from", "One corner of the box: point name or x, y, z.", True),
+           ("to", "The opposite corner: point name or x, y, z.", True),
+           ("for_sensor", "The sensor it applies to (blank or all: every sensor)."),
            NOTE),
 )}
 

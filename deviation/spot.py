@@ -6,6 +6,11 @@ change, with equipment bounds), evaluated at candidate positions instead of the 
 A box is searched coarse to fine: a coarse grid finds the promising cells, and a grid at the
 requested step refines each of them. Every stage evaluates the held figure itself (it is closed
 form: see :mod:`deviation.budget`), so the ranking needs no separate exact pass.
+
+The plan's volumes sheet limits where a spot may be: never inside a keep-out box, and, where the
+sensor has mount-in boxes, only inside one of them. Each mount-in box within the searched box is
+searched on its own grid, so a thin box (a shelf, a bulkhead's face) is not missed between the
+points of a coarse grid.
 """
 
 from __future__ import annotations
@@ -24,6 +29,15 @@ COARSE_POINTS = 40_000
 REFINED_CELLS = 24
 #: Points evaluated per call of the field kernel (bounds memory: P x R x 3 doubles).
 CHUNK_POINTS = 20_000
+#: Fewest coarse points given to one mount-in box when several share the coarse stage.
+MIN_COARSE_POINTS_PER_BOX = 1_000
+#: Margin added around the plan's geometry to make its extent [m] (common practice, no source:
+#: room for a sensor's housing beyond the outermost point of the plan).
+EXTENT_MARGIN_M = 0.1
+#: Two coordinates closer than this are the same [m] (far below any grid step).
+_SAME_M = 1e-9
+#: Faces of a box, in the words of a vessel's plan (x forward, y port, z up).
+FACES = ("x low", "x high", "y low", "y high", "z low", "z high")
 
 
 @dataclass(frozen=True)
@@ -38,6 +52,21 @@ class Spot:
 
 @dataclass(frozen=True)
 class SpotSearch:
+    """The result of a spot search, best spot first.
+
+    Attributes
+    ----------
+    best_on_edge : bool
+        The best spot lies on a face of the searched box (where the box, not a mount-in volume,
+        set the limit): a better spot may lie outside it.
+    edge_faces : tuple of str
+        Those faces, from :data:`FACES` (e.g. "z high").
+    volumes : tuple of Volume
+        The volumes that limited the search.
+    excluded : tuple of (str, str)
+        Candidates of a ranking left out by the volumes: (spot name, why).
+    """
+
     sensor: object
     spots: tuple
     current: Spot | None              # the sensor's own position, for comparison
@@ -45,6 +74,15 @@ class SpotSearch:
     grid_points: int                  # positions of the full grid at the requested step
     step_m: float | None
     region: tuple | None
+    best_on_edge: bool = False
+    edge_faces: tuple = ()
+    volumes: tuple = ()
+    excluded: tuple = ()
+
+    @property
+    def within_budget(self) -> bool:
+        """The best spot meets the sensor's budget (False when there is no spot)."""
+        return bool(self.spots) and self.spots[0].within_budget
 
     def to_frame(self):
         """One row per spot, best first: position [m], held figure [deg], worst state."""
@@ -56,6 +94,97 @@ class SpotSearch:
             "worst_state": s.worst_state, "within_budget": s.within_budget,
             "dominant_runs": "; ".join(f"{n} {share * 100:.0f} %" for n, share in s.dominant_runs)}
             for i, s in enumerate(self.spots, start=1)])
+
+
+def volumes_for(plan, sensor):
+    """The volumes that apply to a sensor: (mount-in boxes, keep-out boxes)."""
+    boxes = [v for v in plan.volumes if v.is_for(sensor.name)]
+    return (tuple(v for v in boxes if v.kind == "mount in"),
+            tuple(v for v in boxes if v.kind == "keep out"))
+
+
+def allowed(plan, sensor, points_m):
+    """(P,) True where the volumes let the sensor be mounted: outside every keep-out box and, if
+    the sensor has mount-in boxes, inside one of them (faces count as inside)."""
+    points = np.asarray(points_m, dtype=float).reshape(-1, 3)
+    mount, keep = volumes_for(plan, sensor)
+    ok = np.ones(len(points), dtype=bool)
+    for volume in keep:
+        ok &= ~volume.contains(points)
+    if mount:
+        ok &= np.any([volume.contains(points) for volume in mount], axis=0)
+    return ok
+
+
+def _why_excluded(plan, sensor, position):
+    mount, keep = volumes_for(plan, sensor)
+    inside = [v.name for v in keep if v.contains(position)[0]]
+    if inside:
+        return f'inside keep-out "{inside[0]}"'
+    return "outside every mount-in volume"
+
+
+def spots_for(plan, sensor):
+    """The spots sheet's candidates for a sensor (its own and those for every sensor)."""
+    return tuple(s for s in plan.spots if s.is_for(sensor.name))
+
+
+def plan_extent(plan, margin_m=EXTENT_MARGIN_M):
+    """The box holding the plan: every route and return route, sensor, point, equipment item and
+    candidate spot, grown by ``margin_m`` [m] on every side. Returns (low, high) (3,) [m]."""
+    pieces = [s.position_m[None] for s in plan.sensors]
+    for run in plan.runs:
+        pieces.append(run.geometry.route_m)
+        if run.geometry.return_route_m is not None:
+            pieces.append(run.geometry.return_route_m)
+    pieces += [p[None] for _, p in plan.points]
+    pieces += [e.position_m[None] for e in plan.equipment]
+    pieces += [s.position_m[None] for s in plan.spots]
+    everything = np.concatenate(pieces).reshape(-1, 3)
+    return everything.min(axis=0) - margin_m, everything.max(axis=0) + margin_m
+
+
+def search_box_around(plan, sensor, half_m):
+    """A box to search for a better spot near a sensor: (low, high) (3,) [m].
+
+    Parameters
+    ----------
+    plan : Plan
+    sensor : Sensor
+    half_m : float [m]
+        Half the box's size in each axis, more than 0.
+
+    Returns
+    -------
+    low, high : (3,) arrays [m]
+        The cube of half-size ``half_m`` around the sensor, cut to the plan's extent
+        (:func:`plan_extent`) and, where the sensor has mount-in volumes, to the part of them
+        within it; never larger than the extent. When no mount-in volume lies within the cube,
+        the cube is centred instead on the nearest point of the nearest mount-in volume.
+    """
+    half_m = float(half_m)
+    if not half_m > 0:
+        raise ValueError(f"the half-size must be more than zero metres, got {half_m:g}")
+    extent_low, extent_high = plan_extent(plan)
+    mount, _ = volumes_for(plan, sensor)
+    centre = np.asarray(sensor.position_m, dtype=float)
+    low = np.maximum(centre - half_m, extent_low)
+    high = np.minimum(centre + half_m, extent_high)
+    if not mount:
+        return low, high
+    met = [(np.maximum(low, v.low_m), np.minimum(high, v.high_m)) for v in mount]
+    met = [(lo, hi) for lo, hi in met if np.all(lo <= hi + _SAME_M)]
+    if not met:
+        nearest = min(mount, key=lambda v: np.linalg.norm(centre - np.clip(centre, v.low_m,
+                                                                            v.high_m)))
+        centre = np.clip(centre, nearest.low_m, nearest.high_m)
+        low = np.maximum(np.maximum(centre - half_m, nearest.low_m), extent_low)
+        high = np.minimum(np.minimum(centre + half_m, nearest.high_m), extent_high)
+        if np.any(low > high):           # the volume lies outside the plan's extent
+            low = np.maximum(centre - half_m, nearest.low_m)
+            high = np.minimum(centre + half_m, nearest.high_m)
+        return low, high
+    return (np.min([lo for lo, _ in met], axis=0), np.max([hi for _, hi in met], axis=0))
 
 
 def _figures_at(plan, sensor, site, points, progress=None):
@@ -117,6 +246,70 @@ def _spot(plan, site, sensor, position, name=None):
                 bool(worst.within_budget), dominant, name)
 
 
+class _Part:
+    """One box searched on its own grid: the searched box, or its meeting with a mount-in box."""
+
+    def __init__(self, low, high, step, coarse_budget, volume=None):
+        self.low, self.high = low, high
+        self.volume = volume              # the mount-in volume it lies in, if any
+        self.fine_axes = _grid(low, high, step)
+        self.grid_points = int(np.prod([len(a) for a in self.fine_axes]))
+        span = high - low
+        self.dimensions = int((span > 0).sum())
+        cells = max(1.0, self.grid_points / coarse_budget)
+        self.coarse_step = step * max(1.0, cells ** (1 / max(1, self.dimensions)))
+        self.coarse = _points(_grid(low, high, self.coarse_step))
+        if self.grid_points <= len(self.coarse) * 1.5:   # small job: search the fine grid directly
+            self.coarse, self.coarse_step = _points(self.fine_axes), step
+        self.refine = self.coarse_step > step
+
+    def expected(self, step):
+        if not self.refine:
+            return len(self.coarse)
+        return len(self.coarse) + REFINED_CELLS * int(math.ceil(2 * self.coarse_step / step + 1)) \
+            ** self.dimensions
+
+    def around(self, seed):
+        """The fine grid within a coarse step of a seed point."""
+        lo = np.maximum(self.low, seed - self.coarse_step)
+        hi = np.minimum(self.high, seed + self.coarse_step)
+        axes = [a[(a >= l_ - 1e-12) & (a <= h_ + 1e-12)]
+                for a, l_, h_ in zip(self.fine_axes, lo, hi)]
+        return _points(axes)
+
+
+def _parts(low, high, step, mount):
+    """The boxes to search: the whole box, or its meeting with each mount-in box."""
+    if not mount:
+        return [_Part(low, high, step, COARSE_POINTS)]
+    boxes = [(np.maximum(low, v.low_m), np.minimum(high, v.high_m), v) for v in mount]
+    boxes = [(lo, np.maximum(lo, hi), v) for lo, hi, v in boxes if np.all(lo <= hi + _SAME_M)]
+    sizes = [int(np.prod([len(a) for a in _grid(lo, hi, step)])) for lo, hi, _ in boxes]
+    total = max(1, sum(sizes))
+    parts = []
+    for (lo, hi, volume), size in zip(boxes, sizes):
+        parts.append(_Part(lo, hi, step, max(MIN_COARSE_POINTS_PER_BOX,
+                                             COARSE_POINTS * size / total), volume))
+    return parts
+
+
+def _edge_faces(part, position, region_low, region_high):
+    """Faces of the searched box the position lies on, where the box (not a mount-in volume)
+    set the limit; axes the box is flat in have no faces."""
+    volume = part.volume
+    faces = []
+    for a, axis in enumerate(part.fine_axes):
+        if len(axis) < 2:
+            continue
+        limit_low = volume is None or region_low[a] > volume.low_m[a] + _SAME_M
+        limit_high = volume is None or region_high[a] < volume.high_m[a] - _SAME_M
+        if limit_low and position[a] <= axis[0] + _SAME_M:
+            faces.append(FACES[2 * a])
+        if limit_high and position[a] >= axis[-1] - _SAME_M:
+            faces.append(FACES[2 * a + 1])
+    return tuple(faces)
+
+
 def search_box(plan, analysis, sensor, low_m, high_m, step_m, *, progress=None, top=10):
     """Best mounting spots in the box [low_m, high_m] at a resolution of ``step_m``.
 
@@ -137,54 +330,75 @@ def search_box(plan, analysis, sensor, low_m, high_m, step_m, *, progress=None, 
     Returns
     -------
     SpotSearch
+        Only positions the plan's volumes allow (:func:`allowed`); ``best_on_edge`` says when the
+        best of them lies on a face of the box. No spots when the volumes allow none in the box.
     """
     low = np.minimum(low_m, high_m).astype(float)
     high = np.maximum(low_m, high_m).astype(float)
     site = analysis.site
-    fine_axes = _grid(low, high, step_m)
-    grid_points = int(np.prod([len(a) for a in fine_axes]))
-    span = high - low
-    cells = max(1.0, grid_points / COARSE_POINTS)
-    coarse_step = step_m * max(1.0, cells ** (1 / max(1, int((span > 0).sum()))))
-    coarse_axes = _grid(low, high, coarse_step)
-    coarse = _points(coarse_axes)
-    if grid_points <= len(coarse) * 1.5:               # small job: search the fine grid directly
-        coarse, coarse_step = _points(fine_axes), step_m
-    refine = coarse_step > step_m
-    expected = len(coarse) + (REFINED_CELLS * int(math.ceil(2 * coarse_step / step_m + 1)) **
-                              int((span > 0).sum()) if refine else 0)
-    advance = progress(expected) if progress else None
+    mount, keep = volumes_for(plan, sensor)
+    parts = _parts(low, high, step_m, mount)
+    for part in parts:
+        part.coarse = part.coarse[allowed(plan, sensor, part.coarse)]
+    grid_points = sum(part.grid_points for part in parts)
+    advance = progress(sum(part.expected(step_m) for part in parts)) if progress else None
 
-    figure, state, _ = _figures_at(plan, sensor, site, coarse, advance)
-    candidates, candidate_figure, candidate_state = coarse, figure, state
-    if refine:
-        seeds = _distinct_best(coarse, figure, REFINED_CELLS, 1.5 * coarse_step)
-        fine = []
-        for i in seeds:
-            lo = np.maximum(low, coarse[i] - coarse_step)
-            hi = np.minimum(high, coarse[i] + coarse_step)
-            axes = [a[(a >= l_ - 1e-12) & (a <= h_ + 1e-12)] for a, l_, h_ in zip(fine_axes, lo, hi)]
-            fine.append(_points(axes))
-        fine = np.unique(np.concatenate(fine), axis=0)
-        fine_figure, fine_state, _ = _figures_at(plan, sensor, site, fine, advance)
-        candidates = np.concatenate([coarse, fine])
-        candidate_figure = np.concatenate([figure, fine_figure])
-        candidate_state = np.concatenate([state, fine_state])
-    pick = _distinct_best(candidates, candidate_figure, top, 2 * step_m - 1e-12)
+    def evaluate(points):
+        if not len(points):
+            return np.empty(0), np.empty(0, dtype=int)
+        figure, state, _ = _figures_at(plan, sensor, site, points, advance)
+        return figure, state
+
+    # Seeded empty, so that a box no mount-in volume meets gives no spots.
+    candidates, figures, states, owners = ([np.empty((0, 3))], [np.empty(0)],
+                                           [np.empty(0, dtype=int)], [np.empty(0, dtype=int)])
+    for p, part in enumerate(parts):
+        figure, state = evaluate(part.coarse)
+        found = [(part.coarse, figure, state)]
+        if part.refine and len(part.coarse):
+            seeds = _distinct_best(part.coarse, figure, REFINED_CELLS, 1.5 * part.coarse_step)
+            if len(seeds):
+                fine = np.unique(np.concatenate([part.around(part.coarse[i]) for i in seeds]),
+                                 axis=0)
+                fine = fine[allowed(plan, sensor, fine)]
+                found.append((fine, *evaluate(fine)))
+        for points, figure, state in found:
+            candidates.append(points)
+            figures.append(figure)
+            states.append(state)
+            owners.append(np.full(len(points), p))
+    candidates = np.concatenate(candidates).reshape(-1, 3)
+    figures, states, owners = (np.concatenate(x) for x in (figures, states, owners))
+    pick = _distinct_best(candidates, figures, top, 2 * step_m - 1e-12)
     spots = tuple(_spot(plan, site, sensor, candidates[i]) for i in pick)
+    faces = (_edge_faces(parts[owners[pick[0]]], candidates[pick[0]], low, high) if len(pick)
+             else ())
     return SpotSearch(sensor, spots, _current(plan, analysis, sensor), len(candidates),
-                      grid_points, step_m, (low, high))
+                      grid_points, step_m, (low, high), bool(faces), faces, mount + keep)
 
 
 def rank_positions(plan, analysis, sensor, positions_m, names=None):
-    """Rank given candidate positions (e.g. a spots sheet) by the held figure, best first."""
+    """Rank given candidate positions (e.g. a spots sheet) by the held figure, best first.
+
+    Positions the plan's volumes do not allow (:func:`allowed`) are left out, and listed in the
+    result's ``excluded`` with the reason.
+    """
+    site = analysis.site
     positions = np.asarray(positions_m, dtype=float).reshape(-1, 3)
-    figure, _, _ = _figures_at(plan, sensor, analysis.site, positions)
-    order = np.argsort(figure, kind="stable")
-    spots = tuple(_spot(plan, analysis.site, sensor, positions[i], names[i] if names else None)
-                  for i in order)
-    return SpotSearch(sensor, spots, _current(plan, analysis, sensor), len(positions),
-                      len(positions), None, None)
+    names = list(names) if names is not None else [None] * len(positions)
+    ok = allowed(plan, sensor, positions)
+    excluded = tuple((names[i] or f"position {i + 1}", _why_excluded(plan, sensor, positions[i]))
+                     for i in np.flatnonzero(~ok))
+    kept = np.flatnonzero(ok)
+    spots = ()
+    if len(kept):
+        figure, _, _ = _figures_at(plan, sensor, site, positions[kept])
+        order = np.argsort(figure, kind="stable")
+        spots = tuple(_spot(plan, site, sensor, positions[kept[i]], names[kept[i]])
+                      for i in order)
+    mount, keep = volumes_for(plan, sensor)
+    return SpotSearch(sensor, spots, _current(plan, analysis, sensor), len(kept), len(positions),
+                      None, None, volumes=mount + keep, excluded=excluded)
 
 
 def _current(plan, analysis, sensor):

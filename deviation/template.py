@@ -38,7 +38,10 @@ EXAMPLE_ROWS = {
                  "note": "example"}],
     "equipment": [{"item": "speaker", "at": "1.2, 0.4, 1.4", "safe_distance": "0.8 m",
                    "safe_distance_for": "standard", "note": "example"}],
-    "spots": [{"spot": "bulkhead", "at": "1.5, 0.3, 1.8", "note": "example candidate"}],
+    "spots": [{"spot": "bulkhead", "at": "1.5, 0.3, 1.8", "for_sensor": "steering compass",
+               "note": "example candidate"}],
+    "volumes": [{"volume": "engine space", "kind": "keep out", "from": "2.5, -1, 0",
+                 "to": "4.5, 1, 1", "note": "example: no sensor here"}],
 }
 
 #: Drop-down lists, from the schema's choices.

@@ -110,12 +110,17 @@ def test_new_template_has_comments_and_drop_downs(tmp_path):
     path = tmp_path / "plan.xlsx"
     run("new", path, "--units", "ft")
     book = openpyxl.load_workbook(path)
-    assert book.sheetnames == ["site", "points", "runs", "states", "sensors", "equipment", "spots"]
+    assert book.sheetnames == ["site", "points", "runs", "states", "sensors", "equipment", "spots",
+                               "volumes"]
     runs = book["runs"]
     assert [c.value for c in runs[1]][:4] == ["run", "circuits", "route", "return"]
     assert all(c.comment is not None for c in runs[1])
     lists = [dv.formula1 for dv in runs.data_validations.dataValidation]
     assert '"paired,twisted,separate,none"' in lists
+    assert '"not known,side by side,one above the other"' in lists
+    states = book["states"]
+    assert '"with states,independent,independent reversing"' in [
+        dv.formula1 for dv in states.data_validations.dataValidation]
     assert book["site"]["B2"].value == "ft"
 
 

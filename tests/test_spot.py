@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 from click.testing import CliRunner
 
-from conftest import SAMPLES
+from conftest import SAMPLES, straight_wire_plan
 from deviation import spot as spot_module
 from deviation.analysis import analyse, parts_at
 from deviation.budget import budget_figures, equipment_fields
@@ -110,3 +110,101 @@ def test_spot_command_bad_region_exits_2(plan_dir):
                                        "compass", "--region", "0,0", "1,1,1"])
     assert result.exit_code == 2
     assert "is not x,y,z" in result.output
+
+
+def over_budget_wire():
+    # 40 A in a long wire 0.5 m below the compass: mu0 I / (2 pi r) (Griffiths ch. 5) is 16 uT at
+    # 0.5 m, against H = 20 uT, far over a 1 degree budget anywhere in a small box above it.
+    return straight_wire_plan(current=40.0)
+
+
+def test_spot_command_exits_1_and_says_so_when_no_spot_meets_the_budget(plan_dir):
+    path = plan_dir(over_budget_wire())
+    result = CliRunner().invoke(main, ["spot", str(path), "--sensor", "compass", "--region",
+                                       "-0.1,-0.1,0", "0.1,0.1,0.2", "--step", "5cm",
+                                       "--width", "120"])
+    assert result.exit_code == 1, result.output
+    assert "No spot meets the 1° budget: the best found uses" in result.output
+    as_json = CliRunner().invoke(main, ["spot", str(path), "--sensor", "compass", "--region",
+                                        "-0.1,-0.1,0", "0.1,0.1,0.2", "--step", "5cm", "--json"])
+    assert as_json.exit_code == 1
+    assert json.loads(as_json.output)["within_budget"] is False
+
+
+def test_spot_command_flags_a_best_spot_on_the_edge_of_the_box(plan_dir):
+    # The wire's field falls as 1/r: the best spot is the box's top face, farthest from it.
+    path = plan_dir(over_budget_wire())
+    result = CliRunner().invoke(main, ["spot", str(path), "--sensor", "compass", "--region",
+                                       "-0.1,-0.1,0", "0.1,0.1,0.2", "--step", "5cm",
+                                       "--width", "200"])
+    assert ("The best spot lies on the edge of the searched box: the box may be too small"
+            in result.output)
+    assert "top" in result.output.split("the box may be too small")[1].splitlines()[0]
+    data = json.loads(CliRunner().invoke(main, [
+        "spot", str(path), "--sensor", "compass", "--region", "-0.1,-0.1,0", "0.1,0.1,0.2",
+        "--step", "5cm", "--json"]).output)
+    assert data["best_on_edge"] is True and "z high" in data["edge_faces"]
+
+
+def test_spot_command_exits_0_with_no_edge_line_for_an_interior_best(plan_dir):
+    sheets = twin_feeds()
+    sheets["sensors"] = [["sensor", "at", "kind", "budget_deg", "max_heel_deg"],
+                         ["compass", "0, 0.6, 0.3", "magnetic compass", 1.0, 20]]
+    result = CliRunner().invoke(main, ["spot", str(plan_dir(sheets)), "--sensor", "compass",
+                                       "--region", "0,-0.3,-0.2", "0,0.3,0.2", "--width", "200"])
+    assert result.exit_code == 0, result.output
+    assert "edge of the searched box" not in result.output
+    assert "No spot meets" not in result.output
+
+
+def test_spot_command_ranks_only_the_sensors_own_and_shared_spots(plan_dir):
+    sheets = twin_feeds()
+    sheets["sensors"].append(["autopilot", "0, -0.6, 0.3", "electronic compass", 5.0])
+    sheets["spots"] = [["spot", "at", "for_sensor"], ["binnacle", "0, 0, 0", "compass"],
+                       ["pod", "0, 0.1, 0", "autopilot"], ["anywhere", "0, 0.2, 0.1", ""]]
+    path = str(plan_dir(sheets))
+    data = json.loads(CliRunner().invoke(main, ["spot", path, "--sensor", "autopilot",
+                                                "--json"]).output)
+    assert [s["name"] for s in data["spots"]] == ["pod", "anywhere"]
+    data = json.loads(CliRunner().invoke(main, ["spot", path, "--sensor", "compass",
+                                                "--json"]).output)
+    assert [s["name"] for s in data["spots"]] == ["binnacle", "anywhere"]
+
+
+def test_spot_command_without_spots_for_the_sensor_exits_2(plan_dir):
+    sheets = twin_feeds()
+    sheets["sensors"].append(["autopilot", "0, -0.6, 0.3", "electronic compass", 5.0])
+    sheets["spots"] = [["spot", "at", "for_sensor"], ["binnacle", "0, 0, 0", "compass"]]
+    result = CliRunner().invoke(main, ["spot", str(plan_dir(sheets)), "--sensor", "autopilot"])
+    assert result.exit_code == 2
+    assert 'the spots sheet has no spot for "autopilot"' in result.output
+
+
+def test_spot_command_lists_spots_left_out_by_the_volumes(plan_dir):
+    sheets = twin_feeds()
+    sheets["volumes"] = [["volume", "kind", "from", "to"],
+                         ["bilge", "keep out", "-1, -0.1, -0.1", "1, 0.1, 0.1"]]
+    result = CliRunner().invoke(main, ["spot", str(plan_dir(sheets)), "--sensor", "compass",
+                                       "--width", "200"])
+    assert result.exit_code == 0, result.output
+    assert 'Left out by the volumes: midline (inside keep-out "bilge").' in result.output
+    assert 'Volumes honoured: keep out "bilge".' in result.output
+    table = result.output.split("Left out")[0]
+    assert "off" in table and "midline" not in table
+
+
+def test_spot_command_exits_2_when_the_volumes_allow_no_position(plan_dir):
+    sheets = twin_feeds()
+    sheets["volumes"] = [["volume", "kind", "from", "to"],
+                         ["everywhere", "keep out", "-1, -1, -1", "1, 1, 1"]]
+    result = CliRunner().invoke(main, ["spot", str(plan_dir(sheets)), "--sensor", "compass",
+                                       "--region", "-0.2,-0.2,-0.2", "0.2,0.2,0.2"])
+    assert result.exit_code == 2
+    assert 'the volumes sheet allows no position in the searched box for "compass"' in \
+        result.output
+
+
+def test_spot_command_help_gives_the_exit_status():
+    text = CliRunner().invoke(main, ["spot", "--help"]).output
+    assert "Exit status: 0 the best spot meets the sensor's budget, 1 no spot found meets it" in \
+        " ".join(text.split())

@@ -61,7 +61,7 @@ def switching_plan(switching, sensor=None):
 
 
 def test_worst_switching_of_independent_loads_matches_brute_force_over_every_combination():
-    switching = {"windlass": "independent", "pump": "independent, reversing",
+    switching = {"windlass": "independent", "pump": "independent reversing",
                  "radio": "independent"}
     result = deviation.check(switching_plan(switching), remedies=False)
     st = result.sensors[0].states[0]

@@ -85,7 +85,9 @@ def main():
     """
 
 
-from . import card, check, deflection, new, refit, site, spot, swing, swing_state, test_results, test_sheet  # noqa: E402,F401,E501  (commands register on main)
+# The commands register themselves on main.
+from . import (card, check, clearance, deflection, new, refit, site, spot,  # noqa: E402,F401
+               swing, swing_state, test_results, test_sheet)
 
 if __name__ == "__main__":  # pragma: no cover
     main()

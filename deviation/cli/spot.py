@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import sys
 import time
 
 import click
@@ -35,12 +36,32 @@ def _step(step, plan):
     return step_m
 
 
+def _no_spot(plan, sensor, result, region):
+    """Why the volumes leave no spot, as a command problem (exit 2)."""
+    from ..spot import volumes_for
+
+    mount, keep = volumes_for(plan, sensor)
+    if not region:
+        left_out = "; ".join(f"{name} ({why})" for name, why in result.excluded)
+        return CommandProblem(f'the volumes sheet leaves no spot of the spots sheet for '
+                              f'"{sensor.name}": {left_out}')
+    boxes = []
+    if mount:
+        boxes.append("mount in " + ", ".join(f'"{v.name}"' for v in mount))
+    if keep:
+        boxes.append("keep out " + ", ".join(f'"{v.name}"' for v in keep))
+    return CommandProblem(f'the volumes sheet allows no position in the searched box for '
+                          f'"{sensor.name}" ({"; ".join(boxes)}); search a box that meets a '
+                          "mount-in volume and lies outside the keep-out ones")
+
+
 @main.command()
 @plan_argument
 @click.option("--sensor", "sensor_name", required=True, help="The sensor to find a spot for.")
 @click.option("--region", nargs=2, metavar="X0,Y0,Z0 X1,Y1,Z1",
               help="Opposite corners of the box to search (plan units unless a unit is given). "
-                   "Without it, the plan's spots sheet is ranked.")
+                   "Without it, the plan's spots sheet is ranked (the spots for this sensor and "
+                   "those for every sensor).")
 @click.option("--step", default=None,
               help="Grid resolution of the answer, e.g. 2cm or 1in (default 2 cm, or 1 in in an "
                    "imperial plan).")
@@ -57,11 +78,18 @@ def spot(plan, sensor_name, region, step, top, plot_path, as_json, width):
 
     Searches a box coarse to fine (the figure is the one held against the budget: the worst
     state the sensor is used in, at the worst attitude, after adjustment where it has a reference
-    state), or ranks the candidates of the plan's spots sheet.
+    state), or ranks the candidates of the plan's spots sheet. The plan's volumes sheet is
+    honoured: no spot inside a keep-out volume and, where the sensor has mount-in volumes, only
+    spots inside one of them. A best spot on the edge of the searched box is flagged: the box may
+    be too small.
+
+    Exit status: 0 the best spot meets the sensor's budget, 1 no spot found meets it, 2 the plan
+    or the command line is wrong (or the volumes leave no spot to rank).
     """
     from .. import api
     from ..analysis import analyse
     from ..files import check_output
+    from ..spot import spots_for
 
     the_plan = api.read_plan(plan)
     sensor = the_plan.sensor(sensor_name)
@@ -69,7 +97,12 @@ def spot(plan, sensor_name, region, step, top, plot_path, as_json, width):
         if not region:
             raise CommandProblem("--plot needs --region (a map of a box)")
         check_output(plot_path, plan)
-    if not region and not the_plan.spots:
+    candidates = spots_for(the_plan, sensor)
+    if not region and not candidates:
+        if the_plan.spots:
+            raise CommandProblem(f'the spots sheet has no spot for "{sensor.name}" (each names '
+                                 "another sensor in for_sensor); give --region X0,Y0,Z0 "
+                                 "X1,Y1,Z1, or add spots for it")
         raise CommandProblem("give --region X0,Y0,Z0 X1,Y1,Z1, or add a spots sheet of "
                              "candidate positions to the plan")
     analysis = analyse(the_plan)
@@ -87,23 +120,33 @@ def spot(plan, sensor_name, region, step, top, plot_path, as_json, width):
     else:
         from dataclasses import replace
 
-        result = api.rank_spots(the_plan, sensor, analysis=analysis)
+        result = api.rank_spots(the_plan, sensor, [s.position_m for s in candidates],
+                                [s.name for s in candidates], analysis=analysis)
         result = replace(result, spots=result.spots[:top])
     seconds = time.perf_counter() - started
+    if not result.spots:
+        raise _no_spot(the_plan, sensor, result, region)
     if plot_path:
         from ..render.plots import spot_map
         from ..spot import slice_map
 
-        z = result.spots[0].position_m[2] if result.spots else sensor.position_m[2]
+        z = result.spots[0].position_m[2]
         x, y, figure = slice_map(the_plan, analysis, sensor, result.region[0], result.region[1], z)
-        spot_map(the_plan, result, x, y, figure, plot_path)
+        spot_map(the_plan, result, x, y, figure, plot_path, z_m=z)
     if as_json:
         from ..render.json_out import spots_json
 
-        echo_json(spots_json(result))
-        return
-    from ..render.terminal import render_spots
+        document = spots_json(result)
+        document.update({
+            "within_budget": result.within_budget, "best_on_edge": result.best_on_edge,
+            "edge_faces": list(result.edge_faces),
+            "volumes": [{"volume": v.name, "kind": v.kind} for v in result.volumes],
+            "excluded": [{"spot": name, "reason": why} for name, why in result.excluded]})
+        echo_json(document)
+    else:
+        from ..render.terminal import render_spots
 
-    render_spots(result, the_plan, console_for(width), seconds)
-    if plot_path:
-        click.echo(f"Map written to {plot_path}")
+        render_spots(result, the_plan, console_for(width), seconds)
+        if plot_path:
+            click.echo(f"Map written to {plot_path}")
+    sys.exit(0 if result.within_budget else 1)

@@ -37,13 +37,55 @@ def _draw_runs(axes, plan, alpha=0.9, scale=1.0):
         axes.annotate(run.name, (middle[1], middle[0]), fontsize=6, color="#333333", alpha=0.8)
 
 
-def spot_map(plan, search, x, y, figure, path):
-    """Map of the worst-case figure over a horizontal slice, with runs, sensor and best spots."""
+def _draw_volumes(axes, plan, volumes, scale, z_m=None):
+    """Outlines of volumes in plan (y, x): keep-out hatched red, mount-in dashed green. With
+    ``z_m`` [m], only those the horizontal slice at that height cuts."""
+    from matplotlib.patches import Rectangle
+
+    labelled = set()
+    for volume in volumes:
+        if z_m is not None and not volume.low_m[2] - 1e-9 <= z_m <= volume.high_m[2] + 1e-9:
+            continue
+        low, high = volume.low_m / scale, volume.high_m / scale
+        keep_out = volume.kind == "keep out"
+        label = ("keep-out volume" if keep_out else "mount-in volume")
+        patch = Rectangle((low[1], low[0]), high[1] - low[1], high[0] - low[0], fill=False,
+                          edgecolor="#c0392b" if keep_out else "#1e8449",
+                          hatch="//" if keep_out else None, ls="-" if keep_out else "--",
+                          lw=1.2, label=None if label in labelled else label, zorder=4)
+        labelled.add(label)
+        axes.add_patch(patch)
+        axes.annotate(volume.name, (high[1], high[0]), fontsize=6, xytext=(2, -8),
+                      textcoords="offset points",
+                      color="#c0392b" if keep_out else "#1e8449")
+
+
+def spot_map(plan, search, x, y, figure, path, z_m=None):
+    """Map of the worst-case figure over a horizontal slice, with runs, sensor and best spots.
+
+    Parameters
+    ----------
+    plan, search : the plan and the spot search drawn
+    x, y : (nx,), (ny,) arrays [m]
+    figure : (nx, ny) array [deg]
+        The held figure over the slice (:func:`deviation.spot.slice_map`).
+    path : str
+        FILE.png or FILE.svg.
+    z_m : float [m], optional
+        Height of the slice (default: the best spot's, or the sensor's). The title and the colour
+        bar state it; the sensor's marker is hollow, and the legend says how far, when the
+        sensor is not in the slice.
+    """
     plt = _pyplot()
     from matplotlib.colors import LogNorm
 
+    from ..units import format_length
+
     sensor = search.sensor
     scale, unit = _scale(plan)
+    if z_m is None:
+        z_m = search.spots[0].position_m[2] if search.spots else sensor.position_m[2]
+    slice_text = f"z = {z_m / scale:.3g} {unit}"
     x, y = x / scale, y / scale
     fig, ax = plt.subplots(figsize=(7, 8), dpi=130)
     shown = np.where(np.isfinite(figure), figure, np.nan)
@@ -54,12 +96,22 @@ def spot_map(plan, search, x, y, figure, path):
     if low < sensor.budget_deg < high:
         ax.contour(y, x, shown, levels=[sensor.budget_deg], colors="white", linewidths=1.2)
     bar = fig.colorbar(mesh, ax=ax, shrink=0.8)
-    bar.set_label(f"figure held against the budget [deg] (white line: the {sensor.budget_deg:g}° "
-                  "budget)")
+    bar.set_label(f"figure held against the budget at {slice_text} [deg]\n(white line: the "
+                  f"{sensor.budget_deg:g}° budget)")
     _draw_runs(ax, plan, scale=scale)
+    _draw_volumes(ax, plan, search.volumes, scale, z_m)
     here = sensor.position_m / scale
-    ax.plot(here[1], here[0], marker="x", ms=10, mew=2, color="red", label="sensor now",
-            clip_on=False)
+    # The sensor is in the slice when it is within half a grid step of it.
+    tolerance_m = (search.step_m or 0.002) / 2
+    above_m = float(sensor.position_m[2] - z_m)
+    if abs(above_m) <= tolerance_m:
+        ax.plot(here[1], here[0], marker="x", ms=10, mew=2, color="red",
+                label="sensor now (in this slice)", clip_on=False, zorder=6)
+    else:
+        side = "above" if above_m > 0 else "below"
+        ax.plot(here[1], here[0], marker="o", ms=10, mew=1.6, mfc="none", mec="red",
+                ls="none", clip_on=False, zorder=6,
+                label=f"sensor now, {format_length(abs(above_m), unit)} {side} this slice")
     if search.spots:
         best = search.spots[0].position_m / scale
         ax.plot(best[1], best[0], marker="*", ms=16, color="orange", mec="black",
@@ -69,9 +121,9 @@ def spot_map(plan, search, x, y, figure, path):
     ax.set_aspect("equal")
     ax.set_xlabel(f"y [{unit}]   (← port | starboard →)")
     ax.set_ylabel(f"x forward [{unit}]")
-    z = (search.spots[0].position_m[2] if search.spots else sensor.position_m[2]) / scale
     screen = " (change, first order)" if sensor.reference_state else ""
-    ax.set_title(f"{sensor.name}: worst case over states{screen} at z = {z:.3g} {unit}")
+    ax.set_title(f"{sensor.name}: worst case over states{screen}\nin the horizontal slice at "
+                 f"{slice_text}")
     ax.legend(loc="lower right", fontsize=7)
     fig.tight_layout()
     _save(fig, path)
@@ -98,27 +150,84 @@ def deviation_curves(sensor_name, headings_deg, curves, path=None, ylabel="devia
     return data
 
 
+def _stretches(points_m, scale):
+    """Consecutive (y, x) segments of a polyline for a LineCollection, and each one's mean z."""
+    points = points_m / scale
+    segments = np.stack([points[:-1][:, [1, 0]], points[1:][:, [1, 0]]], axis=1)
+    return segments, (points[:-1, 2] + points[1:, 2]) / 2
+
+
 def plan_view(plan, path=None):
-    """Plan view of the runs and sensors (x forward up the page, y port to the left)."""
+    """Plan view of the runs, sensors, equipment and volumes (x forward up the page, y port to
+    the left).
+
+    Each straight stretch of a run is coloured by its height (the mean z of its ends), with a
+    colour bar, and each run's label gives its length-weighted mean height; sensors and
+    equipment are labelled with their heights. Equipment with a labelled safe distance has it
+    drawn as a dashed circle.
+    """
     plt = _pyplot()
+    from matplotlib.collections import LineCollection
+    from matplotlib.colors import Normalize
+
+    from ..spot import plan_extent
+
     scale, unit = _scale(plan)
-    routes = [r.geometry.route_m for r in plan.runs] + [s.position_m[None] for s in plan.sensors]
-    everything = np.concatenate(routes) / scale
-    fig, ax = plt.subplots(figsize=(6, 7), dpi=130)
-    _draw_runs(ax, plan, scale=scale)
-    for sensor in plan.sensors:
+    low, high = (v / scale for v in plan_extent(plan, margin_m=0.0))
+    fig, ax = plt.subplots(figsize=(6.6, 7), dpi=130)
+    pieces = []
+    for run in plan.runs:
+        pieces.append((_stretches(run.geometry.route_m, scale), "-", 1.6))
+        if run.geometry.return_kind == "separate":
+            pieces.append((_stretches(run.geometry.return_route_m, scale), "--", 1.1))
+    heights = np.concatenate([z for (_, z), _, _ in pieces]) if pieces else np.zeros(1)
+    z_low, z_high = float(heights.min()), float(heights.max())
+    if z_high - z_low < 1e-9:                        # a flat plan: a colour bar of some width
+        z_low, z_high = z_low - 0.5, z_high + 0.5
+    norm = Normalize(z_low, z_high)
+    lines = None
+    for (segments, z), style, width in pieces:
+        lines = LineCollection(segments, cmap="plasma", norm=norm, linestyles=style,
+                               linewidths=width)
+        lines.set_array(z)
+        ax.add_collection(lines)
+    for run in plan.runs:
+        route = run.geometry.route_m / scale
+        lengths = np.linalg.norm(np.diff(route, axis=0), axis=1)
+        mean_z = float(((route[:-1, 2] + route[1:, 2]) / 2 * lengths).sum() / lengths.sum())
+        middle = route[len(route) // 2]
+        ax.annotate(f"{run.name} (z {mean_z:.2f})", (middle[1], middle[0]), fontsize=6,
+                    color="#333333", alpha=0.85)
+    if lines is not None:
+        bar = fig.colorbar(lines, ax=ax, shrink=0.7)
+        bar.set_label(f"height z of each stretch of run (mean of its ends) [{unit}]")
+    for i, sensor in enumerate(plan.sensors):
         here = sensor.position_m / scale
-        ax.plot(here[1], here[0], marker="o", ms=7, color="red")
-        ax.annotate(sensor.name, (here[1], here[0]), fontsize=7, color="red", xytext=(4, 4),
-                    textcoords="offset points")
-    span = np.ptp(everything, axis=0).max() * 0.08 + 0.05 / scale
-    ax.set_xlim(everything[:, 1].max() + span, everything[:, 1].min() - span)   # port left
-    ax.set_ylim(everything[:, 0].min() - span, everything[:, 0].max() + span)
+        ax.plot(here[1], here[0], marker="o", ms=7, color="red", ls="none",
+                label="sensor" if i == 0 else None, zorder=5)
+        ax.annotate(f"{sensor.name} (z {here[2]:.2f})", (here[1], here[0]), fontsize=7,
+                    color="red", xytext=(4, 4), textcoords="offset points")
+    for i, item in enumerate(plan.equipment):
+        here = item.position_m / scale
+        ax.plot(here[1], here[0], marker="s", ms=6, color="#7d3c98", ls="none",
+                label="equipment" if i == 0 else None, zorder=5)
+        ax.annotate(f"{item.name} (z {here[2]:.2f})", (here[1], here[0]), fontsize=6,
+                    color="#7d3c98", xytext=(4, -9), textcoords="offset points")
+        if item.safe_distance_m:
+            ax.add_patch(plt.Circle((here[1], here[0]), item.safe_distance_m / scale, fill=False,
+                                    ls=":", lw=0.9, color="#7d3c98"))
+    _draw_volumes(ax, plan, plan.volumes, scale)
+    span = np.ptp(np.stack([low, high]), axis=0).max() * 0.08 + 0.05 / scale
+    ax.set_xlim(high[1] + span, low[1] - span)        # port left
+    ax.set_ylim(low[0] - span, high[0] + span)
     ax.set_aspect("equal")
     ax.set_xlabel(f"y [{unit}]   (← port | starboard →)")
     ax.set_ylabel(f"x forward [{unit}]")
-    ax.set_title("Plan view: runs (dashed: separate returns) and sensors")
+    ax.set_title("Plan view: runs coloured by height (dashed: separate returns),\nsensors, "
+                 f"equipment (dotted: labelled safe distance); heights z in {unit}", fontsize=9)
     ax.grid(alpha=0.2)
+    if ax.get_legend_handles_labels()[0]:
+        ax.legend(loc="lower right", fontsize=7)
     fig.tight_layout()
     data = _save(fig, path)
     plt.close(fig)

@@ -237,17 +237,92 @@ def render_spots(search, plan, console, seconds):
         table.add_row(str(rank), *named, *(format_length(v, unit) for v in s.position_m),
                       Text(degrees(s.budget_used_deg), style=_ok(s.within_budget)),
                       Text(s.worst_state), Text(runs or "—"))
+    if search.spots and not search.within_budget:
+        table.caption = Text(f"No spot meets the {sensor.budget_deg:g}° budget: the best found "
+                             f"uses {words.with_degree_sign(search.spots[0].budget_used_deg)}.",
+                             style="bold red")
+        table.caption_justify = "left"
     console.print(table)
+    if search.best_on_edge:
+        # The faces in the words of a vessel's plan (x forward, y port, z up).
+        named = {"x low": "aft", "x high": "forward", "y low": "starboard", "y high": "port",
+                 "z low": "bottom", "z high": "top"}
+        faces = [named[f] for f in search.edge_faces]
+        faces = " and ".join([", ".join(faces[:-1]), faces[-1]] if len(faces) > 1 else faces)
+        plural = "s" if len(search.edge_faces) > 1 else ""
+        console.print(Text(f"The best spot lies on the edge of the searched box: the box may be "
+                           f"too small (the spot is on its {faces} face{plural}).",
+                           style="yellow"))
+    if search.volumes:
+        kinds = [(kind, [v.name for v in search.volumes if v.kind == kind])
+                 for kind in ("mount in", "keep out")]
+        listed = "; ".join(f"{kind} " + ", ".join(f'"{n}"' for n in names)
+                           for kind, names in kinds if names)
+        console.print(Text(f"Volumes honoured: {listed}."))
+    if search.excluded:
+        console.print(Text("Left out by the volumes: " + "; ".join(
+            f"{name} ({why})" for name, why in search.excluded) + "."))
     if search.current is not None:
         now = search.current
-        console.print(Text(f"Where it is now {words.position(now.position_m, unit)}: "
+        inside = [v.name for v in search.volumes
+                  if v.kind == "keep out" and v.contains(now.position_m)[0]]
+        where = f' (inside keep-out "{inside[0]}")' if inside else ""
+        console.print(Text(f"Where it is now {words.position(now.position_m, unit)}{where}: "
                            f"{words.with_degree_sign(now.budget_used_deg)} in {now.worst_state}"))
     if search.step_m:
         console.print(f"Searched {search.evaluated:,} positions for a {search.grid_points:,}-point "
                       f"grid at {format_length(search.step_m, unit)} steps in {seconds:.1f} s.")
     console.print("The figure is the one held against the budget: the worst state it is used "
-                  "in, at the worst attitude, after adjustment where it has a reference state. Check the spot for vibration, heat, access "
-                  "and equipment not in the plan before mounting.")
+                  "in, at the worst attitude, after adjustment where it has a reference state. "
+                  "Check the spot for vibration, heat, access and equipment not in the plan "
+                  "before mounting.")
+
+
+def render_clearance(table, console, unit, source, notes, warning=None):
+    """The clearance table: least distance per current, then what it assumes and the cautions.
+
+    Parameters
+    ----------
+    table : deviation.clearance.ClearanceTable
+    console : rich Console
+    unit : str
+        Units of the distances printed ("m" or "ft").
+    source : str
+        Where the horizontal field came from, in words.
+    notes : sequence of str
+        What each column assumes, one sentence each.
+    warning : str, optional
+        The site's zone warning, if any.
+    """
+    console.print(Text(f"Least distance from a compass for a {table.budget_deg:g}° budget",
+                       style="bold"))
+    console.print(Text(f"H {table.horizontal_t * 1e6:.3f} µT ({source}); allowed disturbance "
+                       f"H sin {table.budget_deg:g}° = {table.allowed_t * 1e6:.4f} µT"))
+    if warning:
+        console.print(Text(warning, style="bold red"))
+    out = Table(box=_box(console))
+    out.add_column("current A", justify="right")
+    out.add_column("single conductor", justify="right")
+    out.add_column(Text(f"pair at {format_length(table.spacing_m, unit)}"), justify="right")
+    out.add_column(Text(f"twisted pair, {format_length(table.lay_m, unit)} lay"),
+                   justify="right")
+    for row in table:
+        out.add_row(f"{row.current_a:g}", format_length(row.single_m, unit),
+                    format_length(row.pair_m, unit), format_length(row.twisted_m, unit))
+    console.print(out)
+
+    def bullets(lines):              # wrapped lines stay indented under their bullet
+        grid = Table.grid(padding=(0, 1))
+        grid.add_column(width=3, justify="right")
+        grid.add_column()
+        for line in lines:
+            grid.add_row("•", Text(line))
+        console.print(grid)
+
+    bullets(notes)
+    console.print()
+    console.print(Text("Cautions", style="bold"))
+    bullets(CAUTIONS)
 
 
 def _signed(deviation):
