@@ -100,10 +100,13 @@ def rank_spots(plan: Plan, sensor: str | Sensor, positions_m=None, names=None, *
                analysis: Analysis | None = None) -> SpotSearch:
     """Rank candidate positions by the sensor's held figure, best first (default: the plan's
     spots sheet)."""
+    from .spot import spots_for
+
     chosen = _sensor(plan, sensor)
     if positions_m is None:
-        positions_m = [s.position_m for s in plan.spots]
-        names = [s.name for s in plan.spots]
+        candidates = spots_for(plan, chosen)
+        positions_m = [s.position_m for s in candidates]
+        names = [s.name for s in candidates]
     return rank_positions(plan, analysis or analyse(plan), chosen, positions_m, names)
 
 
