@@ -12,12 +12,18 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from . import heading
-from .budget import (RunParts, asin_deg, budget_figures, equipment_fields, item_effect,
-                     parts_of_runs, run_fields_at)
+from .budget import (
+    RunParts,
+    asin_deg,
+    budget_figures,
+    equipment_fields,
+    item_effect,
+    parts_of_runs,
+)
 from .plan import Plan, Sensor, conductors_of, frozen_array
-from .worst_case import worst_combination
 from .routing import Conductors
 from .sitefield import SiteField, site_field
+from .worst_case import worst_combination
 
 
 @dataclass(frozen=True)

@@ -5,9 +5,9 @@ import math
 import numpy as np
 import pytest
 
+import deviation
 from conftest import SAMPLES, straight_wire_plan
 from deviation import heading
-import deviation
 from deviation.advice import rule_findings
 from deviation.analysis import analyse
 from deviation.budget import safe_distance_disturbance_t

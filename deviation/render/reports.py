@@ -13,8 +13,6 @@ import html
 import re
 from pathlib import Path
 
-import numpy as np
-
 from .. import __version__
 from ..card import cards
 from ..files import check_output, write_atomically

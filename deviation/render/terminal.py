@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import numpy as np
 from rich import box
 from rich.console import Console
 from rich.table import Table
@@ -11,7 +10,6 @@ from rich.text import Text
 from ..units import format_length
 from . import view, words
 from .words import CAUTIONS, degrees
-
 
 #: Width of tables written to a file or a pipe, where no terminal says how wide it is.
 PIPED_WIDTH = 120
