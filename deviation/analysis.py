@@ -86,6 +86,7 @@ class SensorResult:
     states: tuple[StateResult, ...]
     within_budget: bool               # in every state the sensor is used in
     parts: RunParts = field(repr=False)  # each run's field per ampere at the sensor (P = 1)
+    fixes: object = None              # advice.FixSet once remedies are made, for a sensor over
 
     @property
     def nearest_m(self) -> np.ndarray:

@@ -87,6 +87,17 @@ def remedy_json(remedy, unit_system, plan_source):
             "spacing_m": _m(remedy.spacing_m), "lay_m": _m(remedy.lay_m)}
 
 
+def fix_set_json(fixes, unit_system):
+    if fixes is None:
+        return None
+    return {"before_deg": _deg(fixes.before_deg), "reaches_budget": fixes.reaches_budget,
+            "steps": [{"kind": step.kind, "run": step.run,
+                       "action": words.fix_step_action(step, unit_system),
+                       "after_deg": _deg(step.after_deg), "within_budget_after": step.within_after,
+                       "spacing_m": _m(step.spacing_m), "lay_m": _m(step.lay_m),
+                       "clearance_m": _m(step.clearance_m)} for step in fixes.steps]}
+
+
 def finding_json(finding):
     return {"sensor": finding.sensor, "state": finding.state, "rule": finding.rule,
             "message": words.finding_message(finding), "source": words.finding_source(finding)}
@@ -113,6 +124,7 @@ def analysis_json(analysis):
             "within_budget": s.within_budget,
             "verdict": summary[s.sensor.name].verdict,
             "states": [state_json(s.sensor, st, plan.site.units, plan.source) for st in s.states],
+            "fix_set": fix_set_json(s.fixes, plan.site.units),
         } for s in analysis.sensors],
         "findings": [finding_json(f) for f in analysis.findings],
         "cautions": list(CAUTIONS),

@@ -134,6 +134,14 @@ def _render_sensor(result, analysis, console, unit, all_runs, hints):
         console.print(Text("  relied on in: " + ", ".join(sensor.used_in)))
     for st in result.states:
         _render_state(st, sensor, analysis, console, unit, all_runs, hints)
+    lines = words.fix_set_lines(result.fixes, unit) if hints else []
+    if lines:
+        console.print()
+        console.print(Text(f"{sensor.name}: the set of fixes, each figure with the changes "
+                           "before it made (every state it is used in, worst attitude and "
+                           "switching)", style="bold"))
+        for line in lines:
+            console.print(Text(f"  {line}"))
 
 
 def _render_state(st, sensor, analysis, console, unit, all_runs, hints):
