@@ -13,11 +13,9 @@ worst case are bounds, and the results say so.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
-
-from dataclasses import replace
 
 from . import heading
 from .constants import SAFE_DISTANCE_DEG_UT, TWISTED_FLOOR_FRACTION

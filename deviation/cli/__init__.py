@@ -86,8 +86,20 @@ def main():
 
 
 # The commands register themselves on main.
-from . import (card, check, clearance, deflection, new, refit, site, spot,  # noqa: E402,F401
-               swing, swing_state, test_results, test_sheet)
+from . import (  # noqa: E402,F401
+    card,
+    check,
+    clearance,
+    deflection,
+    new,
+    refit,
+    site,
+    spot,
+    swing,
+    swing_state,
+    test_results,
+    test_sheet,
+)
 
 if __name__ == "__main__":  # pragma: no cover
     main()
