@@ -228,6 +228,10 @@ class Plan:
     circuits_from_runs: bool = False  # no states sheet: each run is its own circuit
     notes: dict = field(default_factory=dict, compare=False)  # sheet -> free-text column titles
     volumes: tuple[Volume, ...] = ()  # boxes to mount in or keep out of (the volumes sheet)
+    #: (sheet, row) of the template's example rows left in the plan; they were not read.
+    skipped_examples: tuple[tuple[str, int], ...] = ()
+    #: Notes of items that carry none themselves: {"points"/"spots": {name key: note}}.
+    item_notes: dict = field(default_factory=dict, compare=False)
 
     def __post_init__(self):
         for name in ("runs", "state_names", "circuits", "sensors", "equipment", "spots",

@@ -13,7 +13,7 @@ import difflib
 import math
 import re
 import zipfile
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 import numpy as np
@@ -81,15 +81,27 @@ class Sheet:
     columns: dict            # canonical column -> header text
     rows: list               # (row number, {canonical column: value})
     state_columns: list      # for the states sheet: (canonical, header text) in order
+    examples: list = field(default_factory=list)   # row numbers of template examples, skipped
 
 
 class _Collector:
     def __init__(self, file):
         self.file = file
         self.findings = []
+        self._dependent = set()      # ids of findings that follow from one already reported
 
     def add(self, sheet, row, column, message):
         self.findings.append(Finding(self.file, sheet, row, column, message))
+
+    def add_dependent(self, sheet, row, column, message):
+        """A problem that only follows from one reported elsewhere (a row using a bad point):
+        it stops the row like any finding, but is not shown, so the cause is reported once."""
+        self.add(sheet, row, column, message)
+        self._dependent.add(id(self.findings[-1]))
+
+    def shown(self):
+        """The findings to report: all but the dependent ones."""
+        return [f for f in self.findings if id(f) not in self._dependent]
 
 
 # Reading the raw sheets ---------------------------------------------------------------------------
@@ -126,8 +138,11 @@ def _table(name, label, grid, first_row, collector):
         # Free-text and switching columns of the states sheet are not operating states.
         if name == "states" and index > 0 and col not in STATES_TEXT_COLUMNS:
             state_columns.append((col, str(cell).strip()))
-    data = []
+    data, examples = [], []
     for number, cells in rows[1:]:
+        if is_example_row(cells):
+            examples.append(number)
+            continue
         values = {col: _clean(cells[i]) if i < len(cells) else None for col, i in positions.items()}
         if name == "states" and header and not _blank(header[0]):
             values["circuit"] = _clean(cells[0]) if cells else None
@@ -136,7 +151,20 @@ def _table(name, label, grid, first_row, collector):
         collector.add(name, None, None, f"{len(data)} rows is more than the {MAX_ROWS} a plan may "
                       "have; split the plan or remove empty formatted rows")
         return None
-    return Sheet(name, label, columns, data, state_columns)
+    return Sheet(name, label, columns, data, state_columns, examples)
+
+
+#: The template's worked examples begin their first cell with this (any case, spaces ignored);
+#: such rows are never read as data (docs/plan-format.md, docs/robustness.md).
+EXAMPLE_MARK = "e.g."
+_EXAMPLE = re.compile(r"^\s*e\s*\.\s*g\s*\.", re.I)
+
+
+def is_example_row(cells) -> bool:
+    """Whether a row is one of the template's worked examples: its first cell (column A) is text
+    beginning with "e.g."."""
+    first = cells[0] if len(cells) else None
+    return isinstance(first, str) and _EXAMPLE.match(first) is not None
 
 
 def _check_zip(path, collector):
@@ -403,6 +431,10 @@ def _position(text, points, default_unit, collector, sheet, row, column):
     text = str(text).strip()
     if key(text) in points:
         return points[key(text)]
+    if key(text) in points.bad:
+        collector.add_dependent(sheet, row, column, f'point "{text}" has a bad coordinate (points '
+                                f"row {points.bad[key(text)]})")
+        return None
     parts = [p for p in text.split(",")]
     if len(parts) == 3:
         coords = []
@@ -423,6 +455,7 @@ class _Points(dict):
     def __init__(self):
         super().__init__()
         self.names = []
+        self.bad = {}            # name key -> points row of a point whose coordinates are bad
 
 
 # The sheets ---------------------------------------------------------------------------------------
@@ -440,7 +473,7 @@ def _check_columns(sheet, collector):
 
 
 def _read_site(sheet, collector):
-    values, rows = {}, {}
+    values, rows, notes = {}, {}, []
     if sheet is not None and _check_columns(sheet, collector):
         for number, row in sheet.rows:
             setting = row.get("setting")
@@ -454,6 +487,8 @@ def _read_site(sheet, collector):
                               f'one of {", ".join(SITE_SETTINGS)}{_suggest(name, SITE_SETTINGS)}')
                 continue
             values[name], rows[name] = row.get("value"), number
+            if row.get("note") is not None:
+                notes.append((name, str(row["note"])))
 
     def number(name, low, high, what):
         if values.get(name) is None:
@@ -497,7 +532,8 @@ def _read_site(sheet, collector):
                       f"{year:.2f} is outside the validity of WMM-2025 ({WMM_VALID_FROM:.1f}-"
                       f"{WMM_VALID_UNTIL:.1f}); give the site's field from a measurement or a "
                       "current model instead")
-    return Site(unit, latitude, longitude, year, date_text, altitude, horizontal, vertical)
+    return Site(unit, latitude, longitude, year, date_text, altitude, horizontal, vertical,
+                tuple(notes))
 
 
 def _read_points(sheet, unit, collector):
@@ -509,7 +545,7 @@ def _read_points(sheet, unit, collector):
         if name is None:
             collector.add("points", number, "point", "the point has no name")
             continue
-        if key(name) in points:
+        if key(name) in points or key(name) in points.bad:
             collector.add("points", number, "point", f'"{name}" is named twice')
             continue
         coords = []
@@ -523,6 +559,10 @@ def _read_points(sheet, unit, collector):
         if coords is not None:
             points[key(name)] = np.array(coords)
             points.names.append(str(name))
+        else:
+            # Known, but with a bad coordinate (reported here): cells naming it are not
+            # reported again (see _position).
+            points.bad[key(name)] = number
     return points
 
 
@@ -1105,10 +1145,14 @@ def _plan_from_sheets(sheets, source, collector) -> Plan:
                                                                     collector)
     runs, run_currents = _read_runs(sheets.get("runs"), site, points, circuit_currents, len(states),
                                     circuit_names, collector)
+    _check_unused_circuits(sheets.get("runs"), circuit_names, details, collector)
     sensors = _read_sensors(sheets.get("sensors"), site, points, states, collector)
     equipment = _read_equipment(sheets.get("equipment"), site, points, states, collector)
-    if "sensors" in sheets and not sensors and not collector.findings:
-        collector.add("sensors", None, None, "the plan has no sensors to check")
+    only_examples = "sensors" in sheets and sheets["sensors"].examples and not sheets["sensors"].rows
+    if "sensors" in sheets and not sensors and (not collector.findings or only_examples):
+        examples = ("; its rows beginning with \"e.g.\" are the template's examples, which are "
+                    "not read" if sheets["sensors"].examples else "")
+        collector.add("sensors", None, None, f"the plan has no sensors to check{examples}")
     spots = _read_spots(sheets.get("spots"), site, points, sensors, collector)
     volumes = _read_volumes(sheets.get("volumes"), site, points, sensors, collector)
     if circuit_currents is None:        # no states sheet: each run is its own circuit
@@ -1119,9 +1163,52 @@ def _plan_from_sheets(sheets, source, collector) -> Plan:
                     for k in circuit_currents]
     plan = Plan(source, site, tuple((name, points[key(name)]) for name in points.names), runs,
                 states, circuits, sensors, equipment, spots,
-                circuits_from_runs=circuit_currents is None, volumes=tuple(volumes))
+                circuits_from_runs=circuit_currents is None, volumes=tuple(volumes),
+                skipped_examples=tuple((name, row) for name in SHEETS if name in sheets
+                                       for row in sheets[name].examples),
+                item_notes=_item_notes(sheets))
     if not collector.findings:
         _check_sensors_outside_conductors(plan, collector)
     if collector.findings:
-        raise PlanError(collector.findings)
+        raise PlanError(collector.shown())
     return plan
+
+
+def _check_unused_circuits(sheet, circuit_names, details, collector):
+    """A circuit renamed on one side only: the states row it left behind is reported too.
+
+    Only when some run names a circuit the states sheet lacks (that run is reported at its own
+    row); each circuit of the states sheet that no run names is then reported at its row, with
+    the closest unknown name from the runs sheet.
+    """
+    if sheet is None or not circuit_names or "circuits" not in sheet.columns:
+        return
+    named, unknown = set(), []
+    for _, row in sheet.rows:
+        for circuit in str(row.get("circuits") or "").split(";"):
+            if not circuit.strip():
+                continue
+            named.add(key(circuit))
+            if key(circuit) not in circuit_names and circuit.strip() not in unknown:
+                unknown.append(circuit.strip())
+    if not unknown:
+        return
+    for circuit_key, name in circuit_names.items():
+        if circuit_key not in named:
+            collector.add("states", details[circuit_key][2], "circuit", f'circuit "{name}" is used '
+                          f"by no run{_suggest(name, unknown)}")
+
+
+def _item_notes(sheets):
+    """Notes of the points and spots sheets, whose items carry no note of their own:
+    {sheet: {name key: note}}, for writing the plan back (template.plan_rows)."""
+    notes = {}
+    for name, column in (("points", "point"), ("spots", "spot")):
+        sheet = sheets.get(name)
+        if sheet is None:
+            continue
+        found = {key(row.get(column) or f"row {number}"): str(row["note"])
+                 for number, row in sheet.rows if row.get("note") is not None}
+        if found:
+            notes[name] = found
+    return notes

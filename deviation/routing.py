@@ -8,8 +8,11 @@ Conventions (also in the project's docs):
 
 * the supply conductor follows the route from the source to the load;
 * ``paired``: the return lies beside the supply at the centre spacing, offset in the horizontal
-  plane to the *left* of the direction of travel (a run laid forward has its return to port);
-  on vertical stretches the neighbouring stretches' side is kept;
+  plane to the *left* of the direction of travel (a run laid forward has its return to port).
+  A vertical stretch has no left of its own: it takes the left of the *next* stretch along the
+  route that is not vertical, or, when none follows, of the last one before it (not simply the
+  nearest neighbour); a route vertical all the way has its return to port (see
+  :func:`_left_normals` and docs/routing.md);
 * ``twisted``: the route is the pair's axis; the two conductors are helices of radius
   spacing/2, half a turn apart, advancing one turn per lay length, starting with the return to the
   left of travel as a paired run has it. The first and last ``untwisted_end_m`` of the route (lugs,
@@ -158,7 +161,31 @@ def _closed_circuit(supply, back, forward_sign, back_sign):
 
 
 def _left_normals(points):
-    """Unit horizontal normals to the left of each stretch; vertical stretches borrow a neighbour's."""
+    """Unit horizontal normals to the left of each stretch of a route.
+
+    Parameters
+    ----------
+    points : (N, 3) array [m]
+        The route, source to load.
+
+    Returns
+    -------
+    (N - 1, 3) array
+        For stretch i, d = points[i + 1] - points[i]: the unit vector along z x d = (-d_y, d_x, 0)
+        (left of travel, horizontal). A stretch is vertical when that has length at most 1e-9 of
+        the stretch's (a stretch of zero length too); it takes the normal of the first stretch
+        after it that is not vertical (``searchsorted`` over their indices), or, when none
+        follows, of the last one before it (the index clipped to the last of them). Every
+        stretch vertical: (0, 1, 0), to port.
+
+    Notes
+    -----
+    So a cable going up a compass pedestal and then forward into the binnacle has its return to
+    port all the way up, whatever the stretch before the pedestal does; one ending at the top of
+    the pedestal keeps the side of the stretch before it. A stretch leaning by any measurable
+    amount is not vertical and keeps the left of its own horizontal direction. Rules and
+    drawings: docs/routing.md; checked against magpylib in tests/test_routing_docs.py.
+    """
     direction = np.diff(points, axis=0)
     normal = np.cross([0.0, 0.0, 1.0], direction)
     size = np.linalg.norm(normal, axis=1)
@@ -191,9 +218,13 @@ def offset_polyline(points, spacing_m, angle_deg=0.0):
 
     Notes
     -----
-    At a corner the offset point lies on the bisector of the two stretches' normals, at the
-    distance that keeps both offset stretches ``spacing_m`` from their originals (capped at three
-    spacings on hairpin turns).
+    The normals are :func:`_left_normals` (vertical stretches take the next non-vertical
+    stretch's side, else the previous one's), turned by ``angle_deg``. The end points are offset
+    by ``spacing_m`` along the first and last stretch's normal. At a corner the offset point
+    lies on the bisector m of the two stretches' normals, at the distance
+    ``spacing_m / (m . n_before)`` that keeps both offset stretches ``spacing_m`` from their
+    originals (capped at three spacings on hairpin turns); where the route doubles back (the two
+    normals opposite) it is offset along the first stretch's normal. Docs: docs/routing.md.
     """
     points = np.asarray(points, dtype=float)
     normals = _left_normals(points)

@@ -3,44 +3,65 @@
 from __future__ import annotations
 
 import re
+from decimal import Decimal
 
 from .files import write_atomically
-from .schema import SCHEMA
-from .units import LENGTH_UNITS
+from .plan import name_key
+from .schema import SCHEMA, SITE_SETTINGS
+from .units import IMPERIAL, LENGTH_UNITS, UnitError, conductor_size
+
+#: The mark that begins the first cell of every worked example row (see reader.is_example_row).
+EXAMPLE = "e.g. "
+#: Said in the comment on each sheet's first column.
+EXAMPLE_NOTE = (' Rows whose first cell begins with "e.g." are the template\'s examples: they are '
+                "never read; overwrite or delete them.")
+
+
+def _plain(text):
+    """Explanations as a spreadsheet comment shows them: no Markdown backticks."""
+    return re.sub(r"`([^`]*)`", r'"\1"', text)
+
 
 #: (column, explanation) per sheet, in order, from the one schema the reader uses too.
-SHEET_COLUMNS = {name: [(c.name, c.explanation) for c in spec.columns]
+SHEET_COLUMNS = {name: [(c.name, _plain(c.explanation)) for c in spec.columns]
                  for name, spec in SCHEMA.items()}
 
-#: Worked examples, by column; the template writes them under each sheet's header.
-EXAMPLE_ROWS = {
-    "site": [{"setting": "units", "value": "m",
+#: The site sheet: every setting on its own row, to be filled in; examples only in the notes, so
+#: an unfilled latitude is reported, never taken from the template.
+SITE_ROWS = [{"setting": "units", "value": "m",
               "note": "length unit of bare numbers: m, cm, mm, ft, in"},
-             {"setting": "latitude", "value": 50.8, "note": "decimal degrees, north positive"},
-             {"setting": "longitude", "value": -1.3, "note": "decimal degrees, east positive"},
-             {"setting": "date", "value": "2027-06-01",
-              "note": "YYYY-MM-DD or a decimal year (blank: today)"},
-             {"setting": "altitude_m", "value": 0, "note": "height above the WGS-84 ellipsoid, m"},
+             {"setting": "latitude", "note": "decimal degrees, north positive, e.g. 50.8"},
+             {"setting": "longitude", "note": "decimal degrees, east positive, e.g. -1.3"},
+             {"setting": "date", "note": "YYYY-MM-DD or a decimal year, e.g. 2027-06-01 "
+                                         "(blank: today)"},
+             {"setting": "altitude_m", "note": "height above the WGS-84 ellipsoid, m (blank: 0)"},
              {"setting": "horizontal_field_ut",
               "note": "optional: measured H in µT, overrides the model"},
-             {"setting": "vertical_field_ut", "note": "optional: measured Z in µT, positive down"}],
-    "points": [{"point": "battery", "x": 3.0, "y": -0.5, "z": 0.3, "note": "example: house battery"},
-               {"point": "helm", "x": 1.5, "y": 0.0, "z": 1.8, "note": "example: compass position"}],
-    "runs": [{"run": "helm instruments", "circuits": "instruments",
+             {"setting": "vertical_field_ut", "note": "optional: measured Z in µT, positive down"}]
+
+#: Worked examples, by column; the template writes them under each sheet's header. Each one's
+#: first cell begins with EXAMPLE, so the reader skips it and ``check`` says it is still there.
+EXAMPLE_ROWS = {
+    "site": SITE_ROWS,
+    "points": [{"point": EXAMPLE + "battery", "x": 3.0, "y": -0.5, "z": 0.3,
+                "note": "example: house battery"},
+               {"point": EXAMPLE + "helm", "x": 1.5, "y": 0.0, "z": 1.8,
+                "note": "example: compass position"}],
+    "runs": [{"run": EXAMPLE + "helm instruments", "circuits": "instruments",
               "route": "battery > 2.0, 0, 0.8 > 1.5, 0.1, 1.5", "return": "paired",
-              "size": "16 AWG", "note": "example row: replace with your runs"}],
-    "states": [{"circuit": "instruments", "harbour": 1.5, "night motoring": 3.0,
+              "size": "16 AWG", "note": "example: the route names the point battery"}],
+    "states": [{"circuit": EXAMPLE + "instruments", "harbour": 1.5, "night motoring": 3.0,
                 "note": "example circuit"},
-               {"circuit": "windlass", "harbour": 80, "switching": "independent",
+               {"circuit": EXAMPLE + "windlass", "harbour": 80, "switching": "independent",
                 "note": "example: on or off in any state"}],
-    "sensors": [{"sensor": "steering compass", "at": "helm", "kind": "magnetic compass",
+    "sensors": [{"sensor": EXAMPLE + "steering compass", "at": "helm", "kind": "magnetic compass",
                  "budget_deg": 1.0, "reference_state": "harbour", "max_heel_deg": 20,
                  "note": "example"}],
-    "equipment": [{"item": "speaker", "at": "1.2, 0.4, 1.4", "safe_distance": "0.8 m",
+    "equipment": [{"item": EXAMPLE + "speaker", "at": "1.2, 0.4, 1.4", "safe_distance": "0.8 m",
                    "safe_distance_for": "standard", "note": "example"}],
-    "spots": [{"spot": "bulkhead", "at": "1.5, 0.3, 1.8", "for_sensor": "steering compass",
-               "note": "example candidate"}],
-    "volumes": [{"volume": "engine space", "kind": "keep out", "from": "2.5, -1, 0",
+    "spots": [{"spot": EXAMPLE + "bulkhead", "at": "1.5, 0.3, 1.8",
+               "for_sensor": "steering compass", "note": "example candidate"}],
+    "volumes": [{"volume": EXAMPLE + "engine space", "kind": "keep out", "from": "2.5, -1, 0",
                  "to": "4.5, 1, 1", "note": "example: no sensor here"}],
 }
 
@@ -65,7 +86,8 @@ def write_template(path, units="m"):
         for c, (column, explanation) in enumerate(columns, start=1):
             cell = sheet.cell(row=1, column=c, value=column)
             cell.font, cell.fill = header_font, header_fill
-            cell.comment = Comment(explanation, "deviation")
+            note = explanation + (EXAMPLE_NOTE if c == 1 and name != "site" else "")
+            cell.comment = Comment(note, "deviation")
             sheet.column_dimensions[cell.column_letter].width = max(12, min(40, len(column) + 14))
         order = [c for c, _ in columns]
         for r, example in enumerate(EXAMPLE_ROWS[name], start=2):
@@ -94,13 +116,89 @@ def write_template(path, units="m"):
     write_atomically(path, book.save)
 
 
-def _xyz(position):
-    """A position cell that reads back exactly: metres with full float precision."""
-    return ", ".join(f"{float(v)!r} m" for v in position)
+#: A length written with more significant digits than this is not one a person typed; another
+#: unit is tried, and full precision in metres is the last resort.
+TYPED_DIGITS = 12
 
 
-def _route_text(points):
-    return " > ".join(_xyz(p) for p in points)
+def shortest_number(value_m, unit):
+    """The shortest decimal ``x`` that reads back exactly: ``float(x) * LENGTH_UNITS[unit]`` is
+    ``value_m`` to the last bit (as the reader computes it), or None.
+
+    Positional, never with an exponent (``1200000``, ``0.00001``); "-0" is written "0".
+    """
+    scale = LENGTH_UNITS[unit]
+    value = float(value_m) / scale
+    for digits in range(1, 18):
+        text = f"{value:.{digits}g}"
+        if float(text) * scale == value_m:
+            if "e" in text:
+                text = format(Decimal(text), "f")
+            return "0" if float(text) == 0 else text
+    return None
+
+
+def _digits(text):
+    """Significant digits of a decimal, leading and trailing zeros not counted."""
+    return len(text.lstrip("-").replace(".", "").strip("0")) or 1
+
+
+#: Units tried, in this order, for a length with no short decimal in the plan's own unit.
+OTHER_UNITS = ("mm", "m", "cm", "in", "ft")
+
+
+def length_text(value_m, unit, bare=True):
+    """A length as a person would type it, reading back to the same float.
+
+    In ``unit`` with the shortest decimal (``13.6`` in a plan in feet, not ``4.1452800000000005``
+    m); bare when ``bare`` (the cell's bare numbers are in ``unit``), else with the unit
+    (``25 mm``). When no short decimal in ``unit`` reads back exactly, the one of fewest
+    significant digits in another unit (``OTHER_UNITS`` breaks ties), with that unit (``850 mm``
+    in a plan in feet); failing that, metres at full precision.
+    """
+    text = shortest_number(value_m, unit)
+    if text is not None and _digits(text) <= TYPED_DIGITS:
+        return text if bare else f"{text} {unit}"
+    found = [(_digits(t), order, f"{t} {u}") for order, u in enumerate(OTHER_UNITS) if u != unit
+             for t in [shortest_number(value_m, u)] if t is not None and _digits(t) <= TYPED_DIGITS]
+    return min(found)[2] if found else f"{float(value_m)!r} m"
+
+
+def number_cell(value):
+    """A number for a cell: the number itself when the workbook keeps it exactly (openpyxl writes
+    16 significant digits), else its full-precision text, which the reader reads the same."""
+    if value is None:
+        return None
+    value = float(value)
+    if float(f"{value:.16g}") != value:
+        return repr(value)
+    return int(value) if value.is_integer() and abs(value) < 1e15 else value
+
+
+class _Places:
+    """Positions written as the plan's own point names where a position is exactly a point."""
+
+    def __init__(self, plan):
+        self.unit = plan.site.units
+        self.names = {}
+        for name, position in plan.points:
+            self.names.setdefault(tuple(float(v) for v in position), name)
+        self.keys = {name_key(name) for name, _ in plan.points}
+
+    def coordinates(self, position):
+        text = ", ".join(length_text(v, self.unit) for v in position)
+        if name_key(text) in self.keys:          # a point is named like these coordinates
+            text = ", ".join(length_text(v, self.unit, bare=False) for v in position)
+        return text
+
+    def at(self, position, in_route=False):
+        name = self.names.get(tuple(float(v) for v in position))
+        if name is not None and not (in_route and ">" in name):
+            return name
+        return self.coordinates(position)
+
+    def route(self, points):
+        return " > ".join(self.at(p, in_route=True) for p in points)
 
 
 def _table(sheet, records):
@@ -109,58 +207,109 @@ def _table(sheet, records):
     return [columns] + [[record.get(c) for c in columns] for record in records]
 
 
-def _metres(value):
-    return None if value is None else f"{float(value)!r} m"
+def _coordinate_cell(value_m, unit):
+    """A coordinate of the points sheet: a workbook number in the plan's unit where it can be
+    (its text has at most TYPED_DIGITS digits, which the workbook keeps), else text with a unit."""
+    text = length_text(value_m, unit)
+    return text if " " in text else number_cell(float(text))
+
+
+def _spacing(run, small):
+    """A run's spacing as written, or blank where it is its size's default (one diameter)."""
+    spacing = run.geometry.spacing_m
+    if spacing is None:
+        return None
+    if run.size is not None:
+        try:
+            if conductor_size(run.size)[2] == spacing:
+                return None
+        except UnitError:
+            pass
+    return length_text(spacing, small, bare=False)
+
+
+def _site_rows(site):
+    notes = dict(site.notes)
+    rows = [["setting", "value", "note"], ["units", site.units, notes.get("units")]]
+    date = site.date_text if re.fullmatch(r"\d{4}-\d{2}-\d{2}", site.date_text) else None
+    values = {"latitude": site.latitude_deg, "longitude": site.longitude_deg,
+              "date": date or site.decimal_year,
+              # Written where the model is used (it needs the height), or where it is not 0.
+              "altitude_m": site.altitude_m if site.altitude_m or site.latitude_deg is not None
+              else None,
+              "horizontal_field_ut": site.horizontal_ut, "vertical_field_ut": site.vertical_ut}
+    for name in SITE_SETTINGS[1:]:
+        value = values[name]
+        if value is None and name not in notes:
+            continue
+        rows.append([name, value if isinstance(value, str) else number_cell(value),
+                     notes.get(name)])
+    return rows
 
 
 def plan_rows(plan):
-    """The plan's content as rows per sheet, in the workbook layout, lengths in metres.
+    """The plan's content as rows per sheet, in the workbook layout, as a person would type it.
 
-    Names, points, circuits, switching and notes are kept. Lengths are written as text with full
-    float precision, so they read back exactly; other numbers are workbook numbers, which keep
-    15 significant digits (the xlsx number format).
+    Names, notes, circuits, switching, points and the site's notes are kept; routes and positions
+    name a point wherever they are exactly at one. Lengths are in the plan's own units with the
+    shortest decimal that reads back to the same float (:func:`length_text`); other numbers are
+    workbook numbers where the workbook keeps them exactly, else full-precision text. A plan with
+    no states sheet is written with a current per run and no states sheet again.
     """
-    site = plan.site
-    rows = {"site": [["setting", "value", "note"], ["units", "m", "written by deviation"]]}
-    date = site.date_text if re.fullmatch(r"\d{4}-\d{2}-\d{2}", site.date_text) else None
-    if date:
-        rows["site"].append(["date", date, None])
-    for name, value in (("latitude", site.latitude_deg), ("longitude", site.longitude_deg),
-                        ("date", None if date else site.decimal_year),
-                        ("altitude_m", site.altitude_m),
-                        ("horizontal_field_ut", site.horizontal_ut),
-                        ("vertical_field_ut", site.vertical_ut)):
-        if value is not None:
-            rows["site"].append([name, float(value), None])
-    rows["points"] = _table("points", [{"point": name, "x": _metres(p[0]), "y": _metres(p[1]),
-                                        "z": _metres(p[2])} for name, p in plan.points])
+    unit = plan.site.units
+    small = "in" if unit in IMPERIAL else "mm"
+    places = _Places(plan)
+    notes = plan.item_notes or {}
+    point_notes = notes.get("points", {})
+    rows = {"site": _site_rows(plan.site)}
+    rows["points"] = _table("points", [{
+        "point": name, **{axis: _coordinate_cell(v, unit) for axis, v in zip("xyz", p)},
+        "note": point_notes.get(name_key(name))} for name, p in plan.points])
+    own = plan.circuits_from_runs
+    currents = {name_key(c.name): c.currents_a for c in plan.circuits}
     rows["runs"] = _table("runs", [{
-        "run": run.name, "circuits": "; ".join(run.circuits), "route": _route_text(g.route_m),
-        "return": g.return_kind,
-        "return_route": _route_text(g.return_route_m) if g.return_route_m is not None else None,
-        "spacing": _metres(g.spacing_m), "lay": _metres(g.lay_m),
-        "lie": run.lie if g.return_kind == "paired" else None,
-        "untwisted_ends": _metres(g.untwisted_end_m), "size": run.size, "note": run.note or None}
+        "run": run.name, "circuits": None if own else "; ".join(run.circuits),
+        "route": places.route(g.route_m), "return": g.return_kind,
+        "return_route": places.route(g.return_route_m) if g.return_route_m is not None else None,
+        "spacing": _spacing(run, small),
+        "lay": None if g.lay_m is None else length_text(g.lay_m, small, bare=False),
+        "lie": run.lie if g.return_kind == "paired" and run.lie != "not known" else None,
+        "untwisted_ends": None if g.untwisted_end_m is None else
+        length_text(g.untwisted_end_m, small, bare=False),
+        "size": run.size,
+        "current_a": number_cell(currents[name_key(run.name)][0]) if own else None,
+        "note": run.note or None}
         for run in plan.runs for g in [run.geometry]])
-    states = [["circuit", *plan.state_names, "switching", "note"]]
-    for circuit in plan.circuits:
-        states.append([circuit.name, *(float(a) for a in circuit.currents_a),
-                       circuit.switching if circuit.independent else None, circuit.note or None])
-    rows["states"] = states
+    if not own:
+        states = [["circuit", *plan.state_names, "switching", "note"]]
+        for circuit in plan.circuits:
+            states.append([circuit.name, *(number_cell(a) for a in circuit.currents_a),
+                           circuit.switching if circuit.independent else None,
+                           circuit.note or None])
+        rows["states"] = states
     rows["sensors"] = _table("sensors", [{
-        "sensor": s.name, "at": _xyz(s.position_m), "kind": s.kind,
-        "budget_deg": float(s.budget_deg), "reference_state": s.reference_state,
+        "sensor": s.name, "at": places.at(s.position_m), "kind": s.kind,
+        "budget_deg": number_cell(s.budget_deg), "reference_state": s.reference_state,
         "used_in": "; ".join(s.used_in) if s.used_in is not None else None,
-        "max_heel_deg": float(s.max_heel_deg), "max_pitch_deg": float(s.max_pitch_deg),
+        "max_heel_deg": number_cell(s.max_heel_deg) if s.max_heel_deg else None,
+        "max_pitch_deg": number_cell(s.max_pitch_deg) if s.max_pitch_deg else None,
         "note": s.note or None} for s in plan.sensors])
     rows["equipment"] = _table("equipment", [{
-        "item": e.name, "at": _xyz(e.position_m), "safe_distance": _metres(e.safe_distance_m),
-        "safe_distance_for": e.safe_distance_for, "moment_am2": e.moment_am2,
-        "axis": ", ".join(repr(float(v)) for v in e.axis) if e.axis is not None else None,
+        "item": e.name, "at": places.at(e.position_m),
+        "safe_distance": None if e.safe_distance_m is None else
+        length_text(e.safe_distance_m, unit, bare=False),
+        "safe_distance_for": e.safe_distance_for, "moment_am2": number_cell(e.moment_am2),
+        "axis": ", ".join(shortest_number(v, "m") for v in e.axis) if e.axis is not None
+        else None,
         "states": "; ".join(e.states) if e.states is not None else None, "note": e.note or None}
         for e in plan.equipment])
-    rows["spots"] = _table("spots", [{"spot": p.name, "at": _xyz(p.position_m)}
-                                     for p in plan.spots])
+    spot_notes = notes.get("spots", {})
+    rows["spots"] = _table("spots", [{
+        "spot": p.name, "at": places.at(p.position_m), "for_sensor": p.for_sensor,
+        "note": spot_notes.get(name_key(p.name))} for p in plan.spots])
+    rows["volumes"] = _table("volumes", [{
+        "volume": v.name, "kind": v.kind, "from": places.at(v.low_m), "to": places.at(v.high_m),
+        "for_sensor": v.for_sensor, "note": v.note or None} for v in plan.volumes])
     return rows
 
 

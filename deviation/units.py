@@ -116,17 +116,30 @@ def _feet_and_inches_m(raw):
 
 
 def format_length(metres: float, unit_system: str) -> str:
-    """A length for display in the plan's unit system (metric: m or mm; imperial: ft or in)."""
-    if metres == 0:
-        return "0 in" if unit_system in IMPERIAL else "0 mm"
+    """A length for display in the plan's unit system (metric: m or mm; imperial: ft or in).
+
+    Metric: under 10 mm with one decimal (``4.3 mm``), under 1 m in whole millimetres
+    (``250 mm``), else metres with two decimals (``2.50 m``). Imperial: under 1 in with two
+    decimals, under 24 in with one, else feet with two. The band is chosen by the value as
+    shown, so a length never reads ``10.0 mm`` beside ``10 mm`` or ``1000 mm`` beside ``1.00 m``;
+    and whatever shows as zero is written one way, ``0 mm`` or ``0 in`` (never ``0.0 mm`` or
+    ``-0.00 in``).
+    """
     if unit_system in IMPERIAL:
-        inches = metres / 0.0254
-        if abs(inches) < 1:
+        inches = metres / LENGTH_UNITS["in"]
+        size = abs(inches)
+        if round(size, 2) == 0:
+            return "0 in"
+        if round(size, 2) < 1:
             return f"{inches:.2f} in"
-        return f"{inches:.1f} in" if abs(inches) < 24 else f"{inches / 12:.2f} ft"
-    if abs(metres) < 0.01:
-        return f"{metres * 1000:.1f} mm"
-    return f"{metres * 1000:.0f} mm" if abs(metres) < 1 else f"{metres:.2f} m"
+        return f"{inches:.1f} in" if round(size, 1) < 24 else f"{inches / 12:.2f} ft"
+    millimetres = metres * 1000
+    size = abs(millimetres)
+    if round(size, 1) == 0:
+        return "0 mm"
+    if round(size, 1) < 10:
+        return f"{millimetres:.1f} mm"
+    return f"{millimetres:.0f} mm" if round(size) < 1000 else f"{metres:.2f} m"
 
 
 def awg_diameter_mm(gauge: int) -> float:

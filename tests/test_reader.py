@@ -74,7 +74,9 @@ def test_misspelt_circuit_gets_a_did_you_mean(plan_dir):
     sheets["runs"][1][1] = "bilge pmp"
     path = plan_dir(sheets)
     assert findings_of(path) == [f'{path}: runs row 2, circuits: circuit "bilge pmp" is not in the '
-                                 'states sheet; did you mean "bilge pump"?']
+                                 'states sheet; did you mean "bilge pump"?',
+                                 f'{path}: states row 2, circuit: circuit "bilge pump" is used by '
+                                 'no run; did you mean "bilge pmp"?']
 
 
 def test_misspelt_point_and_return_kind(plan_dir):

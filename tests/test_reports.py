@@ -123,7 +123,7 @@ def test_html_escapes_plan_text(plan_dir, tmp_path):
 
 def test_report_is_never_written_onto_the_plan(tmp_path):
     plan = tmp_path / "plan.xlsx"
-    assert run("new", plan).exit_code == 0
+    assert run("new", plan, "--from", SAMPLES / "camper_van").exit_code == 0
     before = plan.read_bytes()
     result = run("check", plan, "--report", plan)
     assert result.exit_code == 2

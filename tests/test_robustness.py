@@ -38,8 +38,17 @@ def one_finding(path):
 
 
 def template(tmp_path, name="plan.xlsx"):
+    """The blank template filled in as its worked example: the examples' "e.g. " marks removed
+    and the site's latitude and longitude given, so it reads as a valid plan."""
     path = tmp_path / name
     write_template(path)
+    book = openpyxl.load_workbook(path)
+    for sheet in book.worksheets:
+        for cell in sheet["A"][1:]:
+            if isinstance(cell.value, str) and cell.value.startswith("e.g. "):
+                cell.value = cell.value[len("e.g. "):]
+    book["site"]["B3"], book["site"]["B4"] = 50.8, -1.3
+    book.save(path)
     return path
 
 

@@ -16,6 +16,7 @@ from pathlib import Path
 from .. import __version__
 from ..card import cards
 from ..files import check_output, write_atomically
+from ..budget import OVERWHELMED_DEG
 from ..units import LENGTH_UNITS
 from . import view, words
 from .words import CAUTIONS, degrees
@@ -52,14 +53,23 @@ def _length(plan, metres):
     return float(metres) / LENGTH_UNITS[plan.site.units]
 
 
+def _figure(value_deg):
+    """A deviation as a number, or the word "overwhelmed" in place of the placeholder figure."""
+    if value_deg is not None and value_deg >= OVERWHELMED_DEG:
+        return words.OVERWHELMED
+    return value_deg
+
+
 def _run_rows(plan, sensor, st, all_runs=True):
-    """(name, current A, nearest, horiz µT, vert µT, alone deg, residual deg, share %) per row."""
+    """(name, current A, nearest, horiz µT, vert µT, alone deg, residual deg, share %) per row;
+    "overwhelmed" for a figure the field overwhelms, and "—" for its share."""
     rows, _ = view.budget_rows(sensor, st, all_runs=all_runs)
     return [[r.name + (" (bound)" if r.bound else ""), r.current_a, _length(plan, r.nearest_m),
              r.horizontal_t * 1e6, None if r.vertical_t is None else r.vertical_t * 1e6,
-             r.max_deviation_deg,
-             ("adjusted" if r.compensated else r.change_deg) if sensor.reference_state else None,
-             r.share_of_budget * 100] for r in rows]
+             _figure(r.max_deviation_deg),
+             ("adjusted" if r.compensated else _figure(r.change_deg))
+             if sensor.reference_state else None,
+             "—" if r.counted_deg >= OVERWHELMED_DEG else r.share_of_budget * 100] for r in rows]
 
 
 #: Number formats of the run table's columns after the name, in the html report.
@@ -122,6 +132,9 @@ def _xlsx(analysis):
     put(summary, 1, 1, "Deviation budget", font=title_font)
     put(summary, 2, 1, f"plan: {plan.source}")
     put(summary, 3, 1, f"made {dt.date.today().isoformat()} by deviation {__version__}")
+    examples = words.example_rows(plan.skipped_examples)
+    if examples:
+        put(summary, 4, 1, examples[0].upper() + examples[1:] + ".", font=over_font)
     header(summary, 5, ["sensor", "kind", "budget [°]", "reference state", "max heel [°]",
                         *[f"{s} [°]" for s in plan.state_names], "verdict"])
     for i, result in enumerate(analysis.sensors, start=6):
@@ -130,7 +143,8 @@ def _xlsx(analysis):
         for c, v in enumerate(values, start=1):
             put(summary, i, c, v, "0.00" if isinstance(v, float) else None)
         for c, st in enumerate(result.states, start=len(values) + 1):
-            put(summary, i, c, st.budget_used_deg, "0.00",
+            put(summary, i, c, words.OVERWHELMED if st.overwhelmed else
+                _figure(st.budget_used_deg), "0.00",
                 font=ok_font if st.within_budget else over_font)
         over = [st.state for st in result.states if not st.within_budget]
         put(summary, i, len(values) + len(result.states) + 1,
@@ -207,7 +221,8 @@ def _xlsx(analysis):
             for remedy in st.remedies:
                 for c, v in enumerate([result.sensor.name, st.state, remedy.run or "",
                                        words.remedy_action(remedy, unit, plan.source),
-                                       remedy.before_deg, remedy.after_deg, "computed"], start=1):
+                                       _figure(remedy.before_deg), _figure(remedy.after_deg),
+                                       "computed"], start=1):
                     put(notes, row, c, v, "0.00" if isinstance(v, float) else None)
                 row += 1
     for result in analysis.sensors:
@@ -303,6 +318,9 @@ def html_report(analysis):
              f"<title>Deviation budget: {_e(plan.source)}</title><style>{STYLE}</style></head><body>"]
     parts.append(f"<h1>Deviation budget</h1><p class=meta>plan {_e(plan.source)} · made "
                  f"{dt.date.today().isoformat()} by deviation {__version__}</p>")
+    examples = words.example_rows(plan.skipped_examples)
+    if examples:
+        parts.append(f"<p class=over>{_e(examples[0].upper() + examples[1:])}.</p>")
     side = "" if site.declination_deg is None else (
         f" · declination {abs(site.declination_deg):.2f}° "
         f"{'E' if site.declination_deg >= 0 else 'W'}")

@@ -7,7 +7,7 @@ from rich.console import Console
 from rich.table import Table
 from rich.text import Text
 
-from ..units import format_length
+from ..units import LENGTH_UNITS, format_length
 from . import view, words
 from .words import CAUTIONS, degrees
 
@@ -77,6 +77,9 @@ def render_check(analysis, console, *, all_runs=False, hints=True):
     warning = words.zone_warning(analysis.site)
     if warning:
         console.print(Text(warning, style="bold yellow"))
+    examples = words.example_rows(plan.skipped_examples)
+    if examples:
+        console.print(Text(examples[0].upper() + examples[1:] + ".", style="bold yellow"))
     console.print()
 
     summary = Table(title=Text("Figure held against each budget, degrees"), box=_box(console),
@@ -100,8 +103,8 @@ def render_check(analysis, console, *, all_runs=False, hints=True):
                       "its budget)")
     for row in rows:
         if row.adjustment_absorbs_deg is not None:
-            console.print(f"  {row.sensor}: the adjustment in {row.reference_state!r} takes out "
-                          f"{words.with_degree_sign(row.adjustment_absorbs_deg)}")
+            console.print(Text(f"  {row.sensor}: the adjustment in {row.reference_state!r} takes "
+                               f"out {words.with_degree_sign(row.adjustment_absorbs_deg)}"))
 
     for result in analysis.sensors:
         _render_sensor(result, analysis, console, unit, all_runs, hints)
@@ -165,7 +168,7 @@ def _render_state(st, sensor, analysis, console, unit, all_runs, hints):
                  degrees(row.max_deviation_deg)]
         if reference:
             cells.append("adjusted" if row.compensated else degrees(row.change_deg))
-        cells.append(f"{row.share_of_budget * 100:.0f} %")
+        cells.append(words.share(row.share_of_budget, row.counted_deg))
         table.add_row(*cells)
     console.print(table)
     if hidden:
@@ -227,20 +230,24 @@ class progress_bar:
 def render_spots(search, plan, console, seconds):
     unit = plan.site.units
     sensor = search.sensor
-    table = Table(title=f"Best spots for {sensor.name} (budget {sensor.budget_deg:g}°)",
+    table = Table(title=Text(f"Best spots for {sensor.name} (budget {sensor.budget_deg:g}°)"),
                   box=_box(console), title_justify="left")
     table.add_column("#", justify="right")
     if any(s.name for s in search.spots):
         table.add_column("spot")
+    # One unit for the three coordinates of a spot, as words.position writes a position.
+    axis_unit, axis_digits = ("in", 1) if unit in ("ft", "in") else ("m", 3)
     for axis in "xyz":
-        table.add_column(axis, justify="right", no_wrap=True)
+        table.add_column(f"{axis} {axis_unit}", justify="right", no_wrap=True)
     table.add_column("figure °", justify="right")
     table.add_column("worst state")
     table.add_column("dominated by", overflow="fold")
     for rank, s in enumerate(search.spots, start=1):
         named = [s.name or ""] if any(x.name for x in search.spots) else []
         runs = ", ".join(f"{name} {share * 100:.0f} %" for name, share in s.dominant_runs)
-        table.add_row(str(rank), *named, *(format_length(v, unit) for v in s.position_m),
+        coordinates = (words.number(v / LENGTH_UNITS[axis_unit], axis_digits)
+                       for v in s.position_m)
+        table.add_row(str(rank), *(Text(n) for n in named), *coordinates,
                       Text(degrees(s.budget_used_deg), style=_ok(s.within_budget)),
                       Text(s.worst_state), Text(runs or "—"))
     if search.spots and not search.within_budget:
@@ -276,8 +283,8 @@ def render_spots(search, plan, console, seconds):
         console.print(Text(f"Where it is now {words.position(now.position_m, unit)}{where}: "
                            f"{words.with_degree_sign(now.budget_used_deg)} in {now.worst_state}"))
     if search.step_m:
-        console.print(f"Searched {search.evaluated:,} positions for a {search.grid_points:,}-point "
-                      f"grid at {format_length(search.step_m, unit)} steps in {seconds:.1f} s.")
+        console.print(Text(f"Searched {search.evaluated:,} positions for a {search.grid_points:,}-point "
+                      f"grid at {format_length(search.step_m, unit)} steps in {seconds:.1f} s."))
     console.print("The figure is the one held against the budget: the worst state it is used "
                   "in, at the worst attitude, after adjustment where it has a reference state. "
                   "Check the spot for vibration, heat, access and equipment not in the plan "

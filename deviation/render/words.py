@@ -68,6 +68,31 @@ def held_figure(sensor) -> str:
     return figure + attitude
 
 
+def example_rows(skipped) -> str | None:
+    """The line a check prints while the plan still holds the template's example rows.
+
+    Parameters
+    ----------
+    skipped : sequence of (sheet, row)
+        ``Plan.skipped_examples``.
+    """
+    if not skipped:
+        return None
+    count = len(skipped)
+    rows = ", ".join(f"{sheet} row {row}" for sheet, row in skipped)
+    return (f"the plan still has {count} example row{'s' if count != 1 else ''} from the "
+            f"template ({rows}); {'they were' if count != 1 else 'it was'} not counted — "
+            f"delete {'them' if count != 1 else 'it'}")
+
+
+def share(share_of_budget, deviation_deg) -> str:
+    """A share of the budget in per cent; "—" where the figure is "overwhelmed" (its share would
+    only repeat the placeholder figure)."""
+    if deviation_deg is not None and deviation_deg >= OVERWHELMED_DEG:
+        return "—"
+    return f"{share_of_budget * 100:.0f} %"
+
+
 def position(position_m, unit_system) -> str:
     """A position in one unit for all three coordinates."""
     unit = "in" if unit_system in ("ft", "in") else "m"
