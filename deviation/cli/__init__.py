@@ -86,8 +86,8 @@ def main():
 
 
 # The commands register themselves on main.
-from . import (card, check, clearance, deflection, new, refit, site, spot,  # noqa: E402,F401
-               swing, swing_state, test_results, test_sheet)
+from . import (area, card, check, clearance, deflection, electronic, new,  # noqa: E402,F401
+               per_amp, refit, site, spot, swing, swing_state, test_results, test_sheet)
 
 if __name__ == "__main__":  # pragma: no cover
     main()

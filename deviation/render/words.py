@@ -132,9 +132,25 @@ def finding_message(finding) -> str:
         return (f'"{finding.subject}" is {finding.distance_m:.2f} m from the sensor, inside its '
                 f"labelled {finding.label} compass safe distance of {finding.limit_m:.2f} m")
     if rule == "magnetometer-share":
-        return (f"the wiring's field is {finding.fraction * 100:.0f} % of the Earth's total field "
-                "here; look for a quieter place for the magnetometer")
+        return interference_words(finding.label, finding.fraction, finding.state)
     raise ValueError(f"unknown finding {rule!r}")
+
+
+#: What each interference grade asks of the installer.
+GRADE_ADVICE = {
+    "acceptable": "fine as planned; calibrate in the final installation",
+    "marginal": "usable only with current compensation: give the host a current measurement, "
+                "learn the compensation after installation and check the residual",
+    "move": "too close to the wiring for compensation to be trusted: find the sensor a quieter "
+            "place (deviation spot) or reroute the culprit runs",
+}
+
+
+def interference_words(grade, fraction, state) -> str:
+    """The interference grade of an electronic sensor, in words."""
+    where = f" (worst in {state!r})" if state else ""
+    return (f"at full current the wiring and equipment put {fraction * 100:.0f} % of the Earth's "
+            f"field at the sensor{where}: {grade}, {GRADE_ADVICE[grade]}")
 
 
 def finding_source(finding) -> str:
