@@ -178,10 +178,10 @@ def test_two_circuits_measured_as_one_total_leave_the_half_difference(plan_dir):
 
 
 def test_compensation_without_a_reference_fits_the_offset_too(plan_dir):
-    # With a fitted offset the three samples (0,0), (I,0), (0,I) of b = uA a + uB b against the
-    # total m = a + b: the least-squares line through m = 0, I, I gives k = (uA + uB)/(2 I) * I
-    # per ampere and offset 0 (the mean of b at m = I is I (uA + uB)/2); the residual is again
-    # I (uA - uB)/2 in "a on" (the same hand derivation with the offset free).
+    # By hand, with the offset free: samples m = 0, I, I and b = 0, I uA, I uB. Means
+    # m = 2I/3, b = I (uA + uB)/3; slope k = sum (m - m_mean)(b - b_mean) / sum (m - m_mean)^2
+    # = (I^2 (uA + uB)/3) / (2 I^2/3) = (uA + uB)/2, offset b_mean - k m_mean = 0. So the
+    # residual in "a on" is again I (uA - uB)/2.
     _, report = only(plan_dir, two_wire_plan(measured="total", reference=""))
     state = next(s for s in report.states if s.state == "a on")
     assert state.compensated_horizontal_t == pytest.approx(10 * 2e-7, rel=1e-4)

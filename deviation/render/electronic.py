@@ -290,12 +290,12 @@ def _render_total_field(report, console):
 
 # The operating area -------------------------------------------------------------------------------
 
-def area_json(area):
-    return {"plan": area.plan.source,
+def area_json(area, unit="uT"):
+    return {"plan": area.plan.source, "unit": unit,
             "places": [{"place": p.name, "latitude_deg": p.latitude_deg,
                         "longitude_deg": p.longitude_deg,
-                        "horizontal_ut": _round(p.site.horizontal_t * 1e6, 4),
-                        "total_ut": _round(p.site.total_t * 1e6, 4),
+                        "horizontal": _round(_in(p.site.horizontal_t, unit), 4),
+                        "total": _round(_in(p.site.total_t, unit), 4),
                         "inclination_deg": _round(p.site.inclination_deg, 4),
                         "zone": p.site.zone, "within_budget": p.within_budget}
                        for p in area.places],
@@ -306,14 +306,16 @@ def area_json(area):
                       for w in area.worst]}
 
 
-def render_area(area, console):
+def render_area(area, console, unit="uT"):
+    label = UNIT_LABEL[unit]
     table = Table(box=_box(console), title="Places of the operating area")
-    for column in ("place", "lat", "lon", "H [µT]", "F [µT]", "incl. [°]", "zone", "verdict"):
+    for column in ("place", "lat", "lon", f"H [{label}]", f"F [{label}]", "incl. [°]", "zone",
+                   "verdict"):
         table.add_column(escape(column), justify="left" if column in ("place", "zone", "verdict")
                          else "right")
     for p in area.places:
         table.add_row(escape(p.name), f"{p.latitude_deg:.3f}", f"{p.longitude_deg:.3f}",
-                      f"{p.site.horizontal_t * 1e6:.2f}", f"{p.site.total_t * 1e6:.2f}",
+                      f"{_in(p.site.horizontal_t, unit):.2f}", f"{_in(p.site.total_t, unit):.2f}",
                       f"{p.site.inclination_deg:.1f}", p.site.zone,
                       "within" if p.within_budget else "OVER")
     console.print(table)
