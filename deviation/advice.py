@@ -14,8 +14,9 @@ import numpy as np
 from .budget import RunParts, budget_figures, equipment_fields, parts_of_runs
 from .constants import ISO25862_BIPOLAR_RADIUS_M
 from .electronic import electronic_states, interference_grade
-from .schema import VECTOR_ELECTRONIC_KINDS
 from .routing import hint_lay_m
+from .schema import VECTOR_ELECTRONIC_KINDS
+from .spot import search_box_around
 from .units import conductor_size
 
 #: A run is given remedies where its own figure uses at least this share of the sensor's budget,
@@ -32,6 +33,13 @@ REMEDIES_PER_STATE = 4
 CULPRITS_PER_STATE = 5
 #: Half-size of the box the "move the sensor" remedy proposes to search around it [m].
 SPOT_BOX_HALF_M = 0.5
+#: A clearance is solved to leave this share of the budget, not to land on it (common practice,
+#: no source: routes move by a few centimetres when cables are laid, and a fifth of the budget
+#: kept free covers that at the distances clearances come out at).
+CLEARANCE_MARGIN = 0.8
+#: Runs considered for the set of fixes: those using at least this share of the budget in a
+#: state the sensor is used in.
+FIX_SET_SHARE = 0.01
 
 #: Kinds of remedy (the renderers' words for each live in render/words.py).
 REMEDY_KINDS = ("pair", "twist", "clearance", "no single fix", "move sensor")
@@ -139,17 +147,41 @@ class _Evaluator:
         self.parts = result.parts                                      # P = 1
         self.items = equipment_fields(self.plan, self.sensor, self.sensor.position_m[None, :],
                                       self.horizontal_t)
+        self._cache = {}
 
-    def with_run(self, r, run):
-        """Figures (arrays (1, K)) with run ``r`` replaced by ``run``, and its nearest distance."""
-        new = parts_of_runs([run], self.sensor.position_m[None, :])
+    def with_run(self, r, run, others=None):
+        """Figures (arrays (1, K)) with run ``r`` replaced by ``run`` (and the runs in
+        ``others``, {index: Run}, replaced too), and the new run's nearest distance."""
+        changes = dict(others or {})
+        changes[r] = run
         unit, spread = self.parts.unit_t.copy(), self.parts.spread_t.copy()
         bound = self.parts.bound_t.copy()
-        unit[:, r], spread[:, r], bound[:, r] = new.unit_t[:, 0], new.spread_t[:, 0], \
-            new.bound_t[:, 0]
+        nearest = 0.0
+        for index, changed in changes.items():
+            new = self._parts(changed)
+            unit[:, index], spread[:, index], bound[:, index] = (new.unit_t[:, 0],
+                                                                 new.spread_t[:, 0],
+                                                                 new.bound_t[:, 0])
+            if index == r:
+                nearest = float(new.nearest_m[0, 0])
         parts = RunParts(unit, spread, bound, self.parts.nearest_m)
         figures = budget_figures(self.plan, self.sensor, self.horizontal_t, parts, self.items)
-        return figures, float(new.nearest_m[0, 0])
+        return figures, nearest
+
+    def _parts(self, run):
+        key = id(run)
+        cached = self._cache.get(key)
+        if cached is None or cached[0] is not run:
+            cached = (run, parts_of_runs([run], self.sensor.position_m[None, :]))
+            self._cache[key] = cached
+        return cached[1]
+
+    def held(self, figures):
+        """The held figure over the states the sensor is used in, and whether all are within."""
+        used = [k for k, state in enumerate(self.plan.state_names)
+                if self.sensor.used_in_state(state)]
+        return (max(float(figures.budget_used_deg[0, k]) for k in used),
+                all(bool(figures.within_budget[0, k]) for k in used))
 
 
 def _pair_spacing(run):
@@ -191,8 +223,11 @@ def detour(route, sensor, offset_m):
     return out
 
 
-def _solve_clearance(evaluator, r, run, k, budget):
-    """Smallest detour (bisection) that brings the sensor within budget in state k, if any."""
+def _solve_clearance(evaluator, r, run, figure_of, target, others=None):
+    """Smallest detour (bisection, to 1 mm) of run ``r`` that brings ``figure_of(figures)`` to
+    at most ``target``, with the runs in ``others`` already changed; None if none does.
+
+    Returns (figure, nearest distance, the re-routed run)."""
     route = run.geometry.route_m
     sensor = evaluator.sensor.position_m
 
@@ -204,17 +239,18 @@ def _solve_clearance(evaluator, r, run, k, budget):
         if run.geometry.return_kind == "separate":
             shifted = detour(back, sensor, offset)
             back = shifted if shifted is not None else back
-        geometry = replace(run.geometry, route_m=new_route, return_route_m=back)
-        figures, nearest = evaluator.with_run(r, replace(run, geometry=geometry))
-        return float(figures.budget_used_deg[0, k]), nearest
+        moved = replace(run, geometry=replace(run.geometry, route_m=new_route,
+                                              return_route_m=back))
+        figures, nearest = evaluator.with_run(r, moved, others)
+        return figure_of(figures), nearest, moved
 
     far = attempt(MAX_DETOUR_M)
-    if far is None or far[0] > budget:
+    if far is None or far[0] > target:
         return None
     low, high = 0.0, MAX_DETOUR_M
     for _ in range(40):
         middle = (low + high) / 2
-        if attempt(middle)[0] <= budget:
+        if attempt(middle)[0] <= target:
             high = middle
         else:
             low = middle
@@ -271,9 +307,11 @@ def remedies_for(analysis, result) -> dict[str, tuple[Remedy, ...]]:
                                     bool(figures.within_budget[0, k]), spacing_m=spacing,
                                     size=size, lay_m=lay))
             if over:
-                solved = _solve_clearance(evaluator, r, run, k, sensor.budget_deg)
+                solved = _solve_clearance(evaluator, r, run,
+                                          lambda f, k=k: float(f.budget_used_deg[0, k]),
+                                          sensor.budget_deg * CLEARANCE_MARGIN)
                 if solved is not None:
-                    figure, nearest = solved
+                    figure, nearest, _ = solved
                     found.append(Remedy(sensor.name, st.state, "clearance", run.name,
                                         st.budget_used_deg, figure, figure <= sensor.budget_deg,
                                         clearance_m=nearest))
@@ -286,19 +324,110 @@ def remedies_for(analysis, result) -> dict[str, tuple[Remedy, ...]]:
             if not any(m.within_after for m in found):
                 chosen.append(Remedy(sensor.name, st.state, "no single fix", None,
                                      st.budget_used_deg))
-            low = tuple(float(v) for v in sensor.position_m - SPOT_BOX_HALF_M)
-            high = tuple(float(v) for v in sensor.position_m + SPOT_BOX_HALF_M)
+            # A box around the sensor, cut to the plan's extent and its mount-in volumes.
+            box_low, box_high = search_box_around(plan, sensor, SPOT_BOX_HALF_M)
+            low = tuple(float(v) for v in box_low)
+            high = tuple(float(v) for v in box_high)
             chosen.append(Remedy(sensor.name, st.state, "move sensor", None, st.budget_used_deg,
                                  box_low_m=low, box_high_m=high))
         out[st.state] = tuple(chosen)
     return out
 
 
+@dataclass(frozen=True)
+class FixStep:
+    """One change in a set of fixes, and the sensor's held figure once it and those before it
+    are made (the worst state the sensor is used in)."""
+
+    kind: str                         # "pair", "twist" or "clearance"
+    run: str
+    after_deg: float
+    within_after: bool
+    spacing_m: float | None = None
+    size: str | None = None
+    lay_m: float | None = None
+    clearance_m: float | None = None
+
+
+@dataclass(frozen=True)
+class FixSet:
+    """The ordered changes that bring a sensor within budget in every state it is used in, or
+    ``reaches_budget`` False when no combination of rerouting does (move the sensor)."""
+
+    before_deg: float
+    steps: tuple[FixStep, ...]
+    reaches_budget: bool
+
+
+def fix_set(analysis, result) -> FixSet:
+    """The shortest set of rerouting changes found to bring a sensor within budget.
+
+    Greedy, checking every alternative at each step: each candidate (pairing or twisting a run,
+    or, to finish, the clearance that brings the sensor to CLEARANCE_MARGIN of its budget) is
+    evaluated in the full budget (every state the sensor is used in, heel and pitch, the worst
+    switching of independent circuits, with the changes already chosen) and the one that leaves
+    the smallest held figure is taken. One change per run.
+    """
+    sensor = result.sensor
+    plan = analysis.plan
+    evaluator = _Evaluator(analysis, result)
+    worst = result.worst
+    before = worst.budget_used_deg
+    if result.within_budget:
+        return FixSet(before, (), True)
+    used = [st for st in result.states if st.used]
+    runs = [i for i, run in enumerate(plan.runs) if any(
+        c.name == run.name and c.share_of_budget >= FIX_SET_SHARE
+        for st in used for c in st.runs)]
+    changed, steps, figure = {}, [], before
+    target = sensor.budget_deg * CLEARANCE_MARGIN
+
+    def held_of(figures):
+        return evaluator.held(figures)[0]
+
+    while True:
+        options = []                       # (finishes, held, run index, changed run, step)
+        for r in runs:
+            if r in changed:
+                continue
+            run = plan.runs[r]
+            for kind, rerouted, spacing, size, lay in _reroutings(run):
+                figures, _ = evaluator.with_run(r, rerouted, changed)
+                held, within = evaluator.held(figures)
+                options.append((within, held, r, rerouted,
+                                FixStep(kind, run.name, held, within, spacing, size, lay)))
+        if not any(option[0] for option in options):
+            # No pairing or twist finishes it: a clearance may, with the margin kept free.
+            for r in runs:
+                if r in changed:
+                    continue
+                solved = _solve_clearance(evaluator, r, plan.runs[r], held_of, target, changed)
+                if solved is not None:
+                    held, nearest, moved = solved
+                    within = held <= sensor.budget_deg
+                    options.append((within, held, r, moved, FixStep(
+                        "clearance", plan.runs[r].name, held, within, clearance_m=nearest)))
+        finishing = [o for o in options if o[0]]
+        pool = finishing or options
+        if not pool:
+            return FixSet(before, tuple(steps), False)
+        within, held, r, rerouted, step = min(pool, key=lambda o: (o[1], o[4].run, o[4].kind))
+        if not within and held >= figure - 0.005:
+            return FixSet(before, tuple(steps), False)
+        changed[r] = rerouted
+        steps.append(step)
+        figure = held
+        if within:
+            return FixSet(before, tuple(steps), True)
+
+
 def with_remedies(analysis):
-    """The analysis with every state's remedies attached (a new value)."""
+    """The analysis with every state's remedies and each sensor's set of fixes attached (a new
+    value)."""
     sensors = []
     for result in analysis.sensors:
         remedies = remedies_for(analysis, result)
         states = tuple(replace(st, remedies=remedies[st.state]) for st in result.states)
-        sensors.append(replace(result, states=states))
+        fixes = None if result.within_budget else fix_set(analysis, result)
+        sensors.append(replace(result, states=states, fixes=fixes))
     return replace(analysis, sensors=tuple(sensors))

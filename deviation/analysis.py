@@ -12,13 +12,21 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from . import heading
-from .budget import (RunParts, asin_deg, budget_figures, equipment_fields, item_effect,
-                     parts_of_runs, run_fields_at, total_field_figures)
+from .budget import (
+    RunParts,
+    asin_deg,
+    budget_figures,
+    equipment_fields,
+    item_effect,
+    parts_of_runs,
+    run_fields_at,
+    total_field_figures,
+)
 from .plan import Plan, Sensor, conductors_of, frozen_array
+from .routing import Conductors, route_runs
 from .schema import TOTAL_FIELD_KIND
-from .worst_case import worst_combination
-from .routing import Conductors
 from .sitefield import SiteField, site_field
+from .worst_case import worst_combination
 
 
 @dataclass(frozen=True)
@@ -34,6 +42,7 @@ class RunContribution:
     share_of_budget: float            # the run's counted figure / budget_deg
     return_kind: str
     bound_t: float = 0.0              # the part of unknown direction (lie of a pair, floor)
+    ends_share: float | None = None   # twisted: share of its field from the untwisted ends
 
 
 @dataclass(frozen=True)
@@ -87,6 +96,7 @@ class SensorResult:
     states: tuple[StateResult, ...]
     within_budget: bool               # in every state the sensor is used in
     parts: RunParts = field(repr=False)  # each run's field per ampere at the sensor (P = 1)
+    fixes: object = None              # advice.FixSet once remedies are made, for a sensor over
 
     @property
     def nearest_m(self) -> np.ndarray:
@@ -183,8 +193,13 @@ def equipment_at(plan, sensor, position, state, horizontal_t):
     return tuple(out)
 
 
-def evaluate_sensor(plan: Plan, sensor: Sensor, site: SiteField, parts: RunParts) -> SensorResult:
-    """Budget of one sensor in every state, from each run's field per ampere at it (P = 1)."""
+def evaluate_sensor(plan: Plan, sensor: Sensor, site: SiteField, parts: RunParts,
+                    ends_share=None) -> SensorResult:
+    """Budget of one sensor in every state, from each run's field per ampere at it (P = 1).
+
+    ``ends_share`` (R,), if given, is each twisted run's share of its field that comes from its
+    untwisted ends (None for other runs).
+    """
     position = sensor.position_m
     h = site.horizontal_t
     items = equipment_fields(plan, sensor, position[None, :], h)
@@ -225,7 +240,8 @@ def evaluate_sensor(plan: Plan, sensor: Sensor, site: SiteField, parts: RunParts
                                 float(parts.nearest_m[0, r]), float(own[k, r]),
                                 None if change is None else float(change[k, r]),
                                 float(counted[k, r]) / sensor.budget_deg,
-                                run.geometry.return_kind, float(run_bound[k, r]))
+                                run.geometry.return_kind, float(run_bound[k, r]),
+                                None if ends_share is None else ends_share[r])
                 for r, run in enumerate(plan.runs)]
         order = sorted(range(len(runs)), key=lambda r: (-rank[r], runs[r].name))
         on = tuple((name, int(s)) for name, s in zip(names, figures.combination[0, k]) if s)
@@ -285,6 +301,24 @@ def analyse(plan: Plan) -> Analysis:
     site = site_field(plan.site)
     positions = np.array([s.position_m for s in plan.sensors]).reshape(-1, 3)
     parts = parts_at(plan, positions)
-    sensors = tuple(evaluate_sensor(plan, sensor, site, _one(parts, i))
+    shares = _ends_shares(plan, positions, parts.unit_t)
+    sensors = tuple(evaluate_sensor(plan, sensor, site, _one(parts, i), shares[i])
                     for i, sensor in enumerate(plan.sensors))
     return Analysis(plan, site, sensors)
+
+
+def _ends_shares(plan, points, unit_t):
+    """(P, R) list of lists: each twisted run's share of its field from its untwisted ends,
+    |b - b_helix| / |b| with b_helix the same run twisted right into its terminals."""
+    shares = [[None] * len(plan.runs) for _ in range(len(points))]
+    twisted = [i for i, r in enumerate(plan.runs) if r.geometry.return_kind == "twisted"]
+    if not twisted:
+        return shares
+    helix, _ = run_fields_at(route_runs([replace(plan.runs[i].geometry, untwisted_end_m=0.0)
+                                         for i in twisted]), len(twisted), points)
+    for j, r in enumerate(twisted):
+        size = np.linalg.norm(unit_t[:, r], axis=-1)
+        ends = np.linalg.norm(unit_t[:, r] - helix[:, j], axis=-1)
+        for p in range(len(points)):
+            shares[p][r] = float(min(1.0, ends[p] / size[p])) if size[p] > 0 else 0.0
+    return shares

@@ -13,11 +13,9 @@ worst case are bounds, and the results say so.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
-
-from dataclasses import replace
 
 from . import heading
 from .constants import SAFE_DISTANCE_DEG_UT, TWISTED_FLOOR_FRACTION
@@ -511,8 +509,7 @@ def total_field_figures(plan, sensor, horizontal_t, vertical_t, parts: RunParts,
     R. T. Rockafellar, *Convex Analysis*, Princeton University Press, 1970, section 32.
     """
     from .constants import MAX_SWITCHINGS_ENUMERATED
-    from .total_field import (candidate_switchings, heading_error_peak_to_peak,
-                              total_field_error_range)
+    from .total_field import candidate_switchings, heading_error_peak_to_peak, total_field_error_range
 
     h, z = horizontal_t, vertical_t
     heel, pitch = sensor.max_heel_deg, sensor.max_pitch_deg

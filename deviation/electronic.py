@@ -24,13 +24,23 @@ from dataclasses import dataclass
 import numpy as np
 
 from .budget import asin_deg, equipment_fields, sensor_field_parts
-from .constants import (INTERFERENCE_ACCEPTABLE_FRACTION, INTERFERENCE_MOVE_FRACTION,
-                        MAX_SWITCHINGS_ENUMERATED, MODEL_FIELD_TOLERANCE_T,
-                        MODEL_INCLINATION_TOLERANCE_DEG)
+from .constants import (
+    INTERFERENCE_ACCEPTABLE_FRACTION,
+    INTERFERENCE_MOVE_FRACTION,
+    MAX_SWITCHINGS_ENUMERATED,
+    MODEL_FIELD_TOLERANCE_T,
+    MODEL_INCLINATION_TOLERANCE_DEG,
+)
 from .plan import name_key
 from .schema import TOTAL_FIELD_KIND, VECTOR_ELECTRONIC_KINDS
-from .total_field import (all_switchings, candidate_switchings, count_switchings,
-                          first_order_range, inclination_range_deg, total_field_error_range)
+from .total_field import (
+    all_switchings,
+    candidate_switchings,
+    count_switchings,
+    first_order_range,
+    inclination_range_deg,
+    total_field_error_range,
+)
 from .worst_case import worst_combination
 
 #: Kinds this module reports on.

@@ -14,9 +14,15 @@ from importlib import resources
 
 import numpy as np
 
-from .constants import (BLACKOUT_H_NT, CAUTION_H_NT, WGS84_A_KM, WGS84_F, WMM_REFERENCE_RADIUS_KM,
-                        WMM_VALID_FROM, WMM_VALID_UNTIL)
-
+from .constants import (
+    BLACKOUT_H_NT,
+    CAUTION_H_NT,
+    WGS84_A_KM,
+    WGS84_F,
+    WMM_REFERENCE_RADIUS_KM,
+    WMM_VALID_FROM,
+    WMM_VALID_UNTIL,
+)
 from .errors import DeviationError
 
 MAX_DEGREE = 12

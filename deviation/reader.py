@@ -22,12 +22,37 @@ from . import units
 from .budget import OVERWHELMED_DEG
 from .constants import WMM_VALID_FROM, WMM_VALID_UNTIL
 from .geomag import decimal_year
-from .plan import (DEFAULT_STATE, CandidateSpot, Circuit, Equipment, Finding, Plan, PlanError,
-                   Run, Sensor, Site, conductors_of, frozen_array, name_key)
+from .plan import (
+    DEFAULT_STATE,
+    CandidateSpot,
+    Circuit,
+    Equipment,
+    Finding,
+    Plan,
+    PlanError,
+    Run,
+    Sensor,
+    Site,
+    conductors_of,
+    frozen_array,
+    name_key,
+)
 from .routing import CHORDS_PER_LAY, RunGeometry
-from .schema import (PAIR_LIES, REQUIRED_SHEETS, RETURN_KINDS, SAFE_DISTANCE_FOR, SENSOR_KINDS,
-                     SHEETS, SITE_SETTINGS, STATES_TEXT_COLUMNS, SWITCHING, TOTAL_FIELD_KIND,
-                     VECTOR_ELECTRONIC_KINDS, columns_of)
+from .schema import (
+    PAIR_LIES,
+    REQUIRED_SHEETS,
+    RETURN_KINDS,
+    SAFE_DISTANCE_FOR,
+    SENSOR_KINDS,
+    SHEETS,
+    SITE_SETTINGS,
+    STATES_TEXT_COLUMNS,
+    SWITCHING,
+    TOTAL_FIELD_KIND,
+    VECTOR_ELECTRONIC_KINDS,
+    columns_of,
+)
+
 #: Rows per sheet beyond which a plan is refused (a wiring plan has hundreds, not millions).
 MAX_ROWS = 20_000
 #: Straight segments one run, and a whole plan, may need (a 100 m twisted run of 5 mm lay is
@@ -1038,7 +1063,7 @@ def _read_spots(sheet, site, points, sensors, collector):
 
 def _read_volumes(sheet, site, points, sensors, collector):
     """Boxes to mount a sensor in or keep it out of, each with its corners ordered."""
-    from .plan import Volume            # imported here to keep this sheet's change in one place
+    from .plan import Volume  # imported here to keep this sheet's change in one place
     from .schema import VOLUME_KINDS
 
     volumes = []

@@ -7,7 +7,8 @@ import math
 from dataclasses import dataclass
 
 from .constants import WMM_VALID_FROM, WMM_VALID_UNTIL
-from .geomag import declination_uncertainty_deg, decimal_year, wmm_field, zone_of
+from .errors import DeviationError
+from .geomag import decimal_year, declination_uncertainty_deg, wmm_field, zone_of
 
 #: Tesla per microtesla (plan figures are in µT, physics in T).
 TESLA_PER_UT = 1e-6
@@ -111,6 +112,9 @@ def site_field(site) -> SiteField:
                          math.degrees(math.atan2(vertical, horizontal)), "plan",
                          zone_of(horizontal * 1e9), site.decimal_year, site.date_text, None,
                          **place)
+    if model is None:
+        raise DeviationError("the site needs a latitude and longitude (for WMM2025) or a "
+                             "measured horizontal_field_ut")
     horizontal = float(model.h_nt) * 1e-9
     vertical = (site.vertical_ut * TESLA_PER_UT if site.vertical_ut is not None
                 else float(model.z_nt) * 1e-9)

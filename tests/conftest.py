@@ -1,9 +1,8 @@
 """Shared helpers: small plans written as folders of CSV sheets."""
 
 import csv
-from pathlib import Path
-
 import os
+from pathlib import Path
 
 import pytest
 from hypothesis import settings

@@ -10,11 +10,18 @@ import openpyxl
 import pytest
 from click.testing import CliRunner
 
-from conftest import SAMPLES, ROOT, straight_wire_plan, write_plan
+from conftest import ROOT, SAMPLES, straight_wire_plan, write_plan
 from deviation import aftercare, read_plan
-from deviation.aftercare import (ReadingsError, deflection_item, read_swing,
-                                 read_switch_on_results, reference_choices, refit,
-                                 swing_comparison, switch_on_test)
+from deviation.aftercare import (
+    ReadingsError,
+    deflection_item,
+    read_swing,
+    read_switch_on_results,
+    reference_choices,
+    refit,
+    swing_comparison,
+    switch_on_test,
+)
 from deviation.cli import main
 from deviation.swing import curve_deg
 

@@ -5,9 +5,9 @@ import math
 import numpy as np
 import pytest
 
+import deviation
 from conftest import SAMPLES, straight_wire_plan
 from deviation import heading
-import deviation
 from deviation.advice import rule_findings
 from deviation.analysis import analyse
 from deviation.budget import safe_distance_disturbance_t
@@ -104,14 +104,16 @@ def test_pairing_hint_counts_the_worst_lie_of_the_new_pair(plan_dir):
                                               rel=1e-3)
 
 
-def test_clearance_hint_is_the_distance_that_just_meets_the_budget(plan_dir):
+def test_clearance_hint_keeps_a_fifth_of_the_budget_free(plan_dir):
     sheets = straight_wire_plan(current=2.0, budget=1.0)
     st = deviation.check(read_plan(plan_dir(sheets))).sensors[0].states[0]
     clearance = next(h for h in st.remedies if h.kind == "clearance")
-    assert clearance.after_deg == pytest.approx(1.0, abs=0.01)
-    # A long wire needs mu0 I / (2 pi d) = H sin(1 deg) -> d = 0.2 uT * 2 / 0.349 uT = 1.146 m
-    # for an infinite wire; the detour bends only the nearest stretch, so more is needed.
-    assert clearance.clearance_m > 0.2e-6 * 2 / (20e-6 * math.sin(math.radians(1.0)))
+    # Solved to 80 % of the budget (the margin is common practice, no source), to 1 mm.
+    assert clearance.after_deg == pytest.approx(0.8, abs=0.01)
+    # A long wire needs mu0 I / (2 pi d) = H sin(0.8 deg) -> d = 0.2 uT * 2 / 0.279 uT = 1.43 m
+    # for an infinite wire (Griffiths ch. 5); the detour bends only the nearest stretch, so more
+    # is needed.
+    assert clearance.clearance_m > 0.2e-6 * 2 / (20e-6 * math.sin(math.radians(0.8)))
 
 
 def test_no_single_rerouting_is_said_plainly(plan_dir):

@@ -7,10 +7,19 @@ import math
 import numpy as np
 import pytest
 
-from deviation.clearance import (DEFAULT_CURRENTS_A, ClearanceRow, allowed_field_t,
-                                 clearance_table, pair_clearance_m, pair_field_t,
-                                 single_conductor_clearance_m, single_conductor_field_t,
-                                 twist_attenuation, twisted_clearance_m, twisted_field_t)
+from deviation.clearance import (
+    DEFAULT_CURRENTS_A,
+    ClearanceRow,
+    allowed_field_t,
+    clearance_table,
+    pair_clearance_m,
+    pair_field_t,
+    single_conductor_clearance_m,
+    single_conductor_field_t,
+    twist_attenuation,
+    twisted_clearance_m,
+    twisted_field_t,
+)
 
 MU0 = 4e-7 * math.pi   # pre-2019 exact value; CODATA 2018 differs by 5e-10 relative
 H_T = 20e-6            # a mid-latitude horizontal field (common practice, no source)

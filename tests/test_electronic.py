@@ -12,19 +12,23 @@ import pytest
 from click.testing import CliRunner
 
 import deviation
+from conftest import SAMPLES, straight_wire_plan
 from deviation.advice import rule_findings
 from deviation.analysis import analyse
 from deviation.area import area_check
 from deviation.cli import main
-from deviation.electronic import (AxesError, electronic_report, grade_of, parse_axes)
+from deviation.electronic import AxesError, electronic_report, grade_of, parse_axes
 from deviation.heading import level_disturbance
 from deviation.reader import read_plan
 from deviation.render.electronic import CSV_COLUMNS
-from deviation.total_field import (all_switchings, down_range, heading_error_peak_to_peak,
-                                   inclination_range_deg, sign_split_switchings,
-                                   total_field_error_range)
-
-from conftest import SAMPLES, straight_wire_plan
+from deviation.total_field import (
+    all_switchings,
+    down_range,
+    heading_error_peak_to_peak,
+    inclination_range_deg,
+    sign_split_switchings,
+    total_field_error_range,
+)
 
 MU0 = 4e-7 * math.pi                       # vacuum permeability, pre-2019 exact value
 

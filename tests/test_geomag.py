@@ -75,6 +75,14 @@ def test_zones_flag_blackout_and_caution():
     assert near_pole.zone == "blackout"
 
 
-def test_declination_uncertainty_formula():
-    # WMM2025 report (via secondary source): sqrt(0.26^2 + (5417/H)^2) degrees.
-    assert geomag.declination_uncertainty_deg(20000.0) == pytest.approx(0.37545, abs=1e-5)
+def test_declination_uncertainty_matches_pygeomag_error_model():
+    # pygeomag (an independent WMM implementation, test-only oracle) carries the WMM2025 error
+    # model; its declination uncertainty at real places must equal ours for the H there.
+    pygeomag = pytest.importorskip("pygeomag")
+    model = pygeomag.GeoMag(coefficients_file="wmm/WMM_2025.COF")
+    for lat, lon in ((50.0, 0.0), (-33.9, 18.4), (70.0, -40.0), (5.0, 100.0)):
+        result = model.calculate(glat=lat, glon=lon, alt=0, time=2026.5)
+        expected = result.calculate_uncertainty().d
+        assert geomag.declination_uncertainty_deg(result.h) == pytest.approx(expected, rel=1e-9)
+    # Far from the poles the constant term dominates: 0.26 deg (WMM2025 report, error model).
+    assert geomag.declination_uncertainty_deg(1e9) == pytest.approx(0.26, abs=1e-6)

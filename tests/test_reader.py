@@ -31,7 +31,13 @@ def test_sailboat_reads_units_sizes_and_states():
     assert stern.geometry.lay_m == pytest.approx(0.025)            # "25 mm"
     assert plan.state_names == ("harbour", "night motoring", "anchoring")
     k = plan.state_names.index("anchoring")
-    assert plan.run_currents_a[plan.runs.index(windlass), k] == 85     # the sample's states.csv
+    circuit = next(c for c in plan.circuits if c.name == "windlass")
+    assert circuit.currents_a[k] == 85 and circuit.independent      # the sample's states.csv
+    assert not circuit.reversing
+    # Switching on its own, the windlass is no part of any state's own currents.
+    assert plan.run_currents_a[plan.runs.index(windlass), k] == 0
+    sensor = plan.sensor("autopilot sensor")
+    assert sensor.used_in == ("night motoring",) and sensor.max_pitch_deg == 5
 
 
 def test_imperial_plan_reads_feet_and_inch_spacing():

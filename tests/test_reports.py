@@ -103,7 +103,7 @@ def test_plan_text_is_written_as_text_never_a_formula(plan_dir, tmp_path):
 
 def test_html_report_is_self_contained_and_holds_the_tables(tmp_path):
     path = tmp_path / "report.html"
-    assert run("check", SAMPLES / "camper_van", "--report", path).exit_code == 1
+    assert run("check", SAMPLES / "camper_van", "--report", path).exit_code == 0     # the van is within budget while driving
     page = path.read_text(encoding="utf-8")
     assert page.count("data:image/png;base64,") == 3    # bars, plan view, one sensor's curves
     assert "<link" not in page and 'src="http' not in page and "@import" not in page

@@ -7,10 +7,17 @@ import numpy as np
 import pytest
 
 from deviation import heading
-from deviation.swing import (SwingFitError, change_tolerance_deg, curve_deg,
-                             deflection_from_moment_deg, deviation_on_compass_heading_deg,
-                             field_coefficients_deg, fit_coefficients, moment_from_deflection_am2,
-                             reading_change_deg)
+from deviation.swing import (
+    SwingFitError,
+    change_tolerance_deg,
+    curve_deg,
+    deflection_from_moment_deg,
+    deviation_on_compass_heading_deg,
+    field_coefficients_deg,
+    fit_coefficients,
+    moment_from_deflection_am2,
+    reading_change_deg,
+)
 
 MU0 = 4e-7 * math.pi
 EIGHT = np.arange(0.0, 360.0, 45.0)          # N, NE, E, SE, S, SW, W, NW

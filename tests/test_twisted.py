@@ -8,8 +8,16 @@ import pytest
 
 from deviation import constants
 from deviation.field import segment_field
-from deviation.routing import (RunGeometry, as_paired, hint_lay_m, minimum_lay_m, offset_polyline,
-                               route_run, split_twisted_route, twisted_conductors)
+from deviation.routing import (
+    RunGeometry,
+    as_paired,
+    hint_lay_m,
+    minimum_lay_m,
+    offset_polyline,
+    route_run,
+    split_twisted_route,
+    twisted_conductors,
+)
 
 magpylib = pytest.importorskip("magpylib")
 

@@ -35,6 +35,25 @@ def test_default_spacing_is_one_insulated_diameter(text, outer_mm):
     assert conductor_size(text)[2] * 1000 == pytest.approx(outer_mm)
 
 
+def test_insulated_diameters_are_consistent_with_the_bare_conductor():
+    # Not the table against itself: every insulated diameter must exceed the bare conductor of
+    # ASTM B258 (AWG formula) or of the area pi d^2/4 (metric), grow with the size, and leave an
+    # insulation wall of a plausible thickness (0.3 to 3.6 mm over the solid-equivalent conductor,
+    # which includes the looser lay of fine stranding: from memory, for single-core
+    # cable of these sizes).
+    from deviation.units import AWG_OUTER_DIAMETER_MM, METRIC_OUTER_DIAMETER_MM
+
+    awg = sorted(AWG_OUTER_DIAMETER_MM.items(), reverse=True)        # 16 AWG first: growing
+    metric = sorted(METRIC_OUTER_DIAMETER_MM.items())
+    for rows, bare_of in ((awg, awg_diameter_mm), (metric, lambda a: 2 * (a / 3.141592653589793)
+                                                   ** 0.5)):
+        outers = [outer for _, outer in rows]
+        assert outers == sorted(outers)
+        for size, outer in rows:
+            wall = (outer - bare_of(size)) / 2
+            assert 0.3 <= wall <= 3.6, (size, wall)
+
+
 def test_sizes_between_table_rows_are_interpolated():
     # 11 AWG lies between 12 AWG (3.8 mm) and 10 AWG (4.3 mm).
     assert 3.8 < conductor_size("11 AWG")[2] * 1000 < 4.3

@@ -4,8 +4,14 @@ import math
 
 import pytest
 
-from deviation.units import (UnitError, allowable_current_a, awg_diameter_mm, conductor_size,
-                             is_bare_number, parse_length)
+from deviation.units import (
+    UnitError,
+    allowable_current_a,
+    awg_diameter_mm,
+    conductor_size,
+    is_bare_number,
+    parse_length,
+)
 
 # 1 in = 0.0254 m and 1 ft = 12 in exactly (international yard and pound agreement, 1959):
 # 2 ft 6 in = 30 in = 0.762 m.

@@ -86,8 +86,23 @@ def main():
 
 
 # The commands register themselves on main.
-from . import (area, card, check, clearance, deflection, electronic, new,  # noqa: E402,F401
-               per_amp, refit, site, spot, swing, swing_state, test_results, test_sheet)
+from . import (  # noqa: E402,F401
+    area,
+    card,
+    check,
+    clearance,
+    deflection,
+    electronic,
+    new,
+    per_amp,
+    refit,
+    site,
+    spot,
+    swing,
+    swing_state,
+    test_results,
+    test_sheet,
+)
 
 if __name__ == "__main__":  # pragma: no cover
     main()

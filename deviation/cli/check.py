@@ -6,8 +6,7 @@ import sys
 
 import click
 
-from . import (console_for, echo_json, json_option, library_errors, main, plan_argument,
-               width_option)
+from . import console_for, echo_json, json_option, library_errors, main, plan_argument, width_option
 
 
 @main.command()

@@ -6,8 +6,15 @@ import math
 
 import click
 
-from . import (CommandProblem, console_for, echo_json, json_option, library_errors, main,
-               width_option)
+from . import (
+    CommandProblem,
+    console_for,
+    echo_json,
+    json_option,
+    library_errors,
+    main,
+    width_option,
+)
 
 #: Defaults of the pair's centre spacing and the twist's lay length [m] (common practice, no
 #: source: two small boat cables side by side, about 20 twists per metre).

@@ -4,8 +4,15 @@ from __future__ import annotations
 
 import click
 
-from . import (CommandProblem, console_for, echo_json, json_option, library_errors, main,
-               width_option)
+from . import (
+    CommandProblem,
+    console_for,
+    echo_json,
+    json_option,
+    library_errors,
+    main,
+    width_option,
+)
 
 
 @main.command()

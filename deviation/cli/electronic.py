@@ -5,7 +5,7 @@ from __future__ import annotations
 
 import sys
 
-from . import echo_json, console_for, json_option, library_errors, main, plan_argument, width_option
+from . import console_for, echo_json, json_option, library_errors, main, plan_argument, width_option
 from .per_amp import canonical_unit, electronic_reports, sensor_option, unit_option
 
 

@@ -4,8 +4,16 @@ from __future__ import annotations
 
 import click
 
-from . import (CommandProblem, console_for, echo_json, json_option, library_errors, main,
-               plan_argument, width_option)
+from . import (
+    CommandProblem,
+    console_for,
+    echo_json,
+    json_option,
+    library_errors,
+    main,
+    plan_argument,
+    width_option,
+)
 
 #: The field units the electronic-sensor commands print (constants.FIELD_UNITS_T).
 unit_option = click.option("--unit", "unit", type=click.Choice(["uT", "nT", "mG"],

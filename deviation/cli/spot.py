@@ -7,8 +7,16 @@ import time
 
 import click
 
-from . import (CommandProblem, console_for, echo_json, json_option, library_errors, main,
-               plan_argument, width_option)
+from . import (
+    CommandProblem,
+    console_for,
+    echo_json,
+    json_option,
+    library_errors,
+    main,
+    plan_argument,
+    width_option,
+)
 
 
 def _triple(text, unit, name):

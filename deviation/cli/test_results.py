@@ -7,8 +7,16 @@ import sys
 
 import click
 
-from . import (PlanProblem, console_for, echo_json, json_option, library_errors, main,
-               plan_argument, width_option)
+from . import (
+    PlanProblem,
+    console_for,
+    echo_json,
+    json_option,
+    library_errors,
+    main,
+    plan_argument,
+    width_option,
+)
 
 
 class ReadingsProblem(PlanProblem):

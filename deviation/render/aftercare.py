@@ -16,7 +16,7 @@ from pathlib import Path
 import numpy as np
 
 from .. import __version__
-from ..aftercare import SETTINGS_SHEET, TEST_SHEET, NO_VISIBLE_CHANGE_DEG
+from ..aftercare import NO_VISIBLE_CHANGE_DEG, SETTINGS_SHEET, TEST_SHEET
 from ..swing import COEFFICIENTS
 from .words import CAUTIONS
 

@@ -13,8 +13,12 @@ import math
 from rich.markup import escape
 from rich.table import Table
 
-from ..constants import (FIELD_UNITS_T, MODEL_FIELD_TOLERANCE_T, MODEL_INCLINATION_TOLERANCE_DEG,
-                         SURVEY_FIGURE_OF_MERIT_NT)
+from ..constants import (
+    FIELD_UNITS_T,
+    MODEL_FIELD_TOLERANCE_T,
+    MODEL_INCLINATION_TOLERANCE_DEG,
+    SURVEY_FIGURE_OF_MERIT_NT,
+)
 from ..schema import TOTAL_FIELD_KIND
 from . import words
 from .terminal import _box

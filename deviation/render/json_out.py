@@ -56,12 +56,17 @@ def state_json(sensor, state, unit_system, plan_source):
         "overwhelmed": state.overwhelmed,
         "magnitude_bound_deg": _deg(state.magnitude_bound_deg),
         "percent_of_total_field": round(state.fraction_of_total * 100, 4),
+        "bound_ut": round(state.bound_t * 1e6, 6),
+        "switched_on": [{"circuit": name, "sign": sign} for name, sign in state.switched_on],
         "totals": [{"figure": t.label, "deg": _deg(t.value_deg), "held": t.held}
                    for t in view.total_rows(sensor, state)],
         "runs": [{"run": r.name, "current_a": round(r.current_a, 6),
                   "field_ut": _ut(by_run[r.name].field_t),
                   "max_deviation_deg": _deg(r.max_deviation_deg), "nearest_m": _m(r.nearest_m),
                   "change_from_reference_deg": _deg(r.change_deg),
+                  "bound_ut": round(by_run[r.name].bound_t * 1e6, 6),
+                  "untwisted_ends_share": (None if by_run[r.name].ends_share is None
+                                           else round(by_run[r.name].ends_share, 4)),
                   "share_of_budget": round(r.share_of_budget, 6)} for r in runs],
         "equipment": [{"item": r.name, "distance_m": _m(r.nearest_m), "kind": by_item[r.name].kind,
                        "field_ut": None if r.bound else _ut(by_item[r.name].field_t),
@@ -98,6 +103,17 @@ def remedy_json(remedy, unit_system, plan_source):
             "spacing_m": _m(remedy.spacing_m), "lay_m": _m(remedy.lay_m)}
 
 
+def fix_set_json(fixes, unit_system):
+    if fixes is None:
+        return None
+    return {"before_deg": _deg(fixes.before_deg), "reaches_budget": fixes.reaches_budget,
+            "steps": [{"kind": step.kind, "run": step.run,
+                       "action": words.fix_step_action(step, unit_system),
+                       "after_deg": _deg(step.after_deg), "within_budget_after": step.within_after,
+                       "spacing_m": _m(step.spacing_m), "lay_m": _m(step.lay_m),
+                       "clearance_m": _m(step.clearance_m)} for step in fixes.steps]}
+
+
 def finding_json(finding):
     return {"sensor": finding.sensor, "state": finding.state, "rule": finding.rule,
             "message": words.finding_message(finding), "source": words.finding_source(finding)}
@@ -128,6 +144,7 @@ def analysis_json(analysis):
             "within_budget": s.within_budget,
             "verdict": summary[s.sensor.name].verdict,
             "states": [state_json(s.sensor, st, plan.site.units, plan.source) for st in s.states],
+            "fix_set": fix_set_json(s.fixes, plan.site.units),
         } for s in analysis.sensors],
         "findings": [finding_json(f) for f in analysis.findings],
         "cautions": list(CAUTIONS),

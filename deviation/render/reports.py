@@ -13,8 +13,6 @@ import html
 import re
 from pathlib import Path
 
-import numpy as np
-
 from .. import __version__
 from ..card import cards
 from ..files import check_output, write_atomically
@@ -212,6 +210,12 @@ def _xlsx(analysis):
                                        remedy.before_deg, remedy.after_deg, "computed"], start=1):
                     put(notes, row, c, v, "0.00" if isinstance(v, float) else None)
                 row += 1
+    for result in analysis.sensors:
+        for line in words.fix_set_lines(result.fixes, unit):
+            for c, v in enumerate([result.sensor.name, "", "", "set of fixes: " + line],
+                                  start=1):
+                put(notes, row, c, v)
+            row += 1
     for finding in findings:
         for c, v in enumerate([finding.sensor or "", finding.state or "", finding.subject or "",
                                words.finding_message(finding), None, None,
@@ -340,6 +344,11 @@ def html_report(analysis):
             for remedy in st.remedies:
                 parts.append(f"<p class=hint>→ {_e(words.remedy_text(remedy, unit, plan.source))}"
                              "</p>")
+        lines = words.fix_set_lines(result.fixes, unit)
+        if lines:
+            parts.append("<h3>The set of fixes</h3><ol>" + "".join(
+                f"<li>{_e(line.split('. ', 1)[1] if line[0].isdigit() else line)}</li>"
+                for line in lines) + "</ol>")
         parts.append("<h3>Predicted deviation card</h3>")
         parts.append(_img(plots.card_curves(one), f"deviation curves of {s.name}"))
         parts.append("<table><tr><th>magnetic [°]</th>"

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import numpy as np
 from rich import box
 from rich.console import Console
 from rich.table import Table
@@ -11,7 +10,6 @@ from rich.text import Text
 from ..units import format_length
 from . import view, words
 from .words import CAUTIONS, degrees
-
 
 #: Width of tables written to a file or a pipe, where no terminal says how wide it is.
 PIPED_WIDTH = 120
@@ -136,6 +134,14 @@ def _render_sensor(result, analysis, console, unit, all_runs, hints):
         console.print(Text("  relied on in: " + ", ".join(sensor.used_in)))
     for st in result.states:
         _render_state(st, sensor, analysis, console, unit, all_runs, hints)
+    lines = words.fix_set_lines(result.fixes, unit) if hints else []
+    if lines:
+        console.print()
+        console.print(Text(f"{sensor.name}: the set of fixes, each figure with the changes "
+                           "before it made (every state it is used in, worst attitude and "
+                           "switching)", style="bold"))
+        for line in lines:
+            console.print(Text(f"  {line}"))
 
 
 def _render_state(st, sensor, analysis, console, unit, all_runs, hints):

@@ -92,10 +92,12 @@ def remedy_action(remedy, unit_system, plan_source="PLAN") -> str:
     if remedy.kind == "pair":
         size = remedy.size or "two 10 AWG cables (size not given)"
         return (f'route the return of "{run}" beside its supply (paired, '
-                f"{format_length(remedy.spacing_m, unit_system)} centres, {size})")
+                f"{format_length(remedy.spacing_m, unit_system)} centres, {size}; the worst lie "
+                "of the pair counted)")
     if remedy.kind == "twist":
         return (f'twist "{run}" with its return (lay {format_length(remedy.lay_m, unit_system)} '
-                f"assumed, {format_length(remedy.spacing_m, unit_system)} centres)")
+                "assumed, no tighter than 12 cable diameters; "
+                f"{format_length(remedy.spacing_m, unit_system)} centres; untwisted ends counted)")
     if remedy.kind == "clearance":
         return (f'keep "{run}" at least {format_length(remedy.clearance_m, unit_system)} from the '
                 "sensor (bend its nearest stretch away)")
@@ -103,10 +105,30 @@ def remedy_action(remedy, unit_system, plan_source="PLAN") -> str:
         return ("no rerouting of a single run brings the sensor within budget here; change "
                 "several runs, or move the sensor")
     if remedy.kind == "move sensor":
-        half = (remedy.box_high_m[0] - remedy.box_low_m[0]) / 2
         return (f"or move the sensor: {_spot_command(plan_source, remedy, unit_system)} searches "
-                f"±{format_length(half, unit_system)} around it")
+                "around it, within the plan's extent")
     raise ValueError(f"unknown remedy kind {remedy.kind!r}")
+
+
+def fix_step_action(step, unit_system) -> str:
+    """One change of a set of fixes, in the words of the single-run remedy."""
+    return remedy_action(step, unit_system)
+
+
+def fix_set_lines(fixes, unit_system) -> list[str]:
+    """A sensor's set of fixes as numbered lines, with the held figure after each."""
+    if fixes is None:
+        return []
+    if not fixes.steps and fixes.reaches_budget:
+        return []
+    lines = []
+    for i, step in enumerate(fixes.steps, start=1):
+        lines.append(f"{i}. {fix_step_action(step, unit_system)}: then "
+                     f"{with_degree_sign(step.after_deg)}"
+                     + (" (within budget)" if step.within_after else ""))
+    if not fixes.reaches_budget:
+        lines.append("no combination of rerouting fixes it; move the sensor")
+    return lines
 
 
 def remedy_text(remedy, unit_system, plan_source="PLAN") -> str:
