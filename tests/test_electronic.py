@@ -101,6 +101,14 @@ def test_a_bad_axes_cell_is_a_located_finding(plan_dir):
     assert 'did you mean "x+ y+ z+"?' in finding.message
 
 
+def test_a_bad_axes_cell_stops_check_with_the_located_line(plan_dir):
+    path = plan_dir(two_wire_plan(extra_sensor_columns={"axes": "x+ x-"}))
+    result = run("check", path)
+    assert result.exit_code == 2
+    assert (f'{path}: sensors row 2, axes: "x+ x-" names the vessel axis x twice: each of the '
+            "sensor's axes lies along a different vessel axis") in result.output
+
+
 def test_axes_on_a_magnetic_compass_are_a_finding(plan_dir):
     sheets = two_wire_plan(kind="magnetic compass", measured="",
                            extra_sensor_columns={"axes": "x+ y-"})
@@ -158,6 +166,19 @@ def test_one_circuit_measured_alone_leaves_no_residual(plan_dir):
         assert state.compensated_deg == pytest.approx(0.0, abs=1e-9)
     # The learned vector per ampere of feed a is its own field: -4e-7 y T/A (long wire).
     assert comp.coefficients_t_per_a[0][1] == pytest.approx(-4e-7, rel=1e-4)
+
+
+def test_a_total_over_one_loaded_circuit_leaves_no_residual(plan_dir):
+    # Only feed a carries current (0, 10, 4 A): the total is its current, so the fit learns its
+    # field exactly and nothing is left in any state (a wrong fit, e.g. without the reference
+    # subtracted or with the channels' transpose, would leave some).
+    states = [["circuit", "off", "full", "part"], ["feed a", 1, 10, 4], ["feed b", 0, 0, 0]]
+    _, report = only(plan_dir, two_wire_plan(measured="total", states=states))
+    for state in report.states:
+        assert state.compensated_horizontal_t == pytest.approx(0.0, abs=1e-15)
+        assert state.compensated_fraction == pytest.approx(0.0, abs=1e-12)
+    full = next(s for s in report.states if s.state == "full")
+    assert full.interference_t == pytest.approx(9 * 4e-7, rel=1e-4)    # long wire, 9 A change
 
 
 def test_two_circuits_measured_as_one_total_leave_the_half_difference(plan_dir):
