@@ -18,6 +18,7 @@ Frames as in :mod:`deviation.heading`: vessel x forward, y to port, z up.
 
 from __future__ import annotations
 
+import difflib
 import re
 from dataclasses import dataclass
 
@@ -94,8 +95,6 @@ def parse_axes(text: str) -> np.ndarray:
     if words in NAMED_AXES:
         words = NAMED_AXES[words]
     tokens = words.split()
-    import difflib
-
     close = difflib.get_close_matches(words, list(NAMED_AXES), n=1, cutoff=0.6)
     hint = f'; did you mean "{close[0]}"?' if close else ""
     if len(tokens) not in (2, 3) or (close and not all(_TOKEN.match(t) for t in tokens)):
