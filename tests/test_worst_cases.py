@@ -319,3 +319,25 @@ def test_a_sensor_is_judged_only_in_the_states_it_is_used_in():
     assert anchoring.remedies == ()
     frame = result.to_frame()
     assert list(frame[frame.used].state) == ["under way"]
+
+
+# Bad values in the new columns ------------------------------------------------------------------
+
+def test_new_columns_get_located_findings_with_did_you_mean():
+    runs = [{"run": "feed", "circuits": "pump", "route": "-1, 0, -0.5 > 1, 0, -0.5",
+             "return": "paired", "spacing": "5 mm", "lie": "sid by side",
+             "untwisted_ends": "0.1 m"}]
+    states = [{"circuit": "pump", "under way": 3.0, "switching": "independant"}]
+    sensor = {"used_in": "under wey", "max_pitch_deg": 95}
+    with pytest.raises(deviation.PlanError) as caught:
+        deviation.plan_from_tables(tables(runs, states, sensor))
+    lines = sorted(str(f) for f in caught.value.findings)
+    assert lines == sorted([
+        '<tables>: runs row 2, lie: "sid by side" is not a way a pair lies; expected one of not '
+        'known, side by side, one above the other; did you mean "side by side"?',
+        '<tables>: runs row 2, untwisted_ends: untwisted ends are only used with return '
+        '"twisted", not "paired"',
+        '<tables>: states row 2, switching: "independant" is not a way of switching; expected one '
+        'of with states, independent, independent reversing; did you mean "independent"?',
+        '<tables>: sensors row 2, used_in: "under wey" is not a state; did you mean "under way"?',
+        '<tables>: sensors row 2, max_pitch_deg: the pitch must be 0 to 90 degrees'])
