@@ -12,8 +12,10 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from .budget import RunParts, budget_figures, equipment_fields, parts_of_runs
-from .constants import ISO25862_BIPOLAR_RADIUS_M, MAGNETOMETER_MAX_FRACTION
+from .constants import ISO25862_BIPOLAR_RADIUS_M
+from .electronic import electronic_states, interference_grade
 from .routing import hint_lay_m
+from .schema import VECTOR_ELECTRONIC_KINDS
 from .spot import search_box_around
 from .units import conductor_size
 
@@ -95,7 +97,9 @@ RULE_SOURCES = {
     "unknown-safe-distance": "ISO 25862 Annex E: items of unknown safe distance kept at least "
                              "5 m away",
     "inside-safe-distance": "IEC 60945 compass safe distance",
-    "magnetometer-share": "common practice, no source: above about 30 % of the Earth's field",
+    "magnetometer-share": "common practice in open-source flight-controller documentation, from "
+                          "memory: under 30 % of the Earth's field acceptable, 30-60 % marginal, "
+                          "over 60 % move the sensor",
 }
 
 
@@ -122,11 +126,12 @@ def rule_findings(analysis) -> tuple[RuleFinding, ...]:
                 found.append(RuleFinding(sensor.name, None, "inside-safe-distance", item.name,
                                          distance, item.safe_distance_m,
                                          label=item.safe_distance_for))
-        if sensor.kind == "magnetometer":
-            for st in result.states:
-                if st.used and st.fraction_of_total > MAGNETOMETER_MAX_FRACTION:
-                    found.append(RuleFinding(sensor.name, st.state, "magnetometer-share",
-                                             fraction=st.fraction_of_total))
+        if sensor.kind in VECTOR_ELECTRONIC_KINDS:
+            # The interference at full current graded as a share of F (electronic.grade_of).
+            grade = interference_grade(electronic_states(plan, result, analysis.site, None))
+            if grade is not None and grade.grade != "acceptable":
+                found.append(RuleFinding(sensor.name, grade.state, "magnetometer-share",
+                                         fraction=grade.fraction, label=grade.grade))
     return tuple(found)
 
 
@@ -159,7 +164,7 @@ class _Evaluator:
                                                                  new.bound_t[:, 0])
             if index == r:
                 nearest = float(new.nearest_m[0, 0])
-        parts = RunParts(unit, spread, bound, self.parts.nearest_m)
+        parts = RunParts(unit, spread, bound, self.parts.nearest_m, self.parts.inside)
         figures = budget_figures(self.plan, self.sensor, self.horizontal_t, parts, self.items)
         return figures, nearest
 

@@ -20,9 +20,11 @@ from .budget import (
     item_effect,
     parts_of_runs,
     run_fields_at,
+    total_field_figures,
 )
 from .plan import Plan, Sensor, conductors_of, frozen_array
 from .routing import Conductors, route_runs
+from .schema import TOTAL_FIELD_KIND
 from .sitefield import SiteField, site_field
 from .worst_case import worst_combination
 
@@ -78,6 +80,14 @@ class StateResult:
     remedies: tuple = ()
     bound_t: float = 0.0              # every bound of unknown direction in the held figure
     switched_on: tuple[tuple[str, int], ...] = ()   # independent circuits on in the worst case
+    # Total-field magnetometers only [T]: the error |F + b| - |F| over headings and attitude
+    # (largest, smallest, held), its level peak to peak over headings, the bounds in it
+    # (budget.TotalFieldFigures); None for other kinds.
+    total_field_high_t: float | None = None
+    total_field_low_t: float | None = None
+    total_field_error_t: float | None = None
+    heading_peak_to_peak_t: float | None = None
+    total_field_bound_t: float | None = None
 
 
 @dataclass(frozen=True)
@@ -194,6 +204,11 @@ def evaluate_sensor(plan: Plan, sensor: Sensor, site: SiteField, parts: RunParts
     h = site.horizontal_t
     items = equipment_fields(plan, sensor, position[None, :], h)
     figures = budget_figures(plan, sensor, h, parts, items)
+    scalar = None
+    if sensor.kind == TOTAL_FIELD_KIND:
+        # A scalar sensor is judged by its total-field error in nT, not by a heading.
+        scalar = total_field_figures(plan, sensor, h, site.vertical_t, parts, items)
+        figures = replace(figures, within_budget=scalar.within_budget)
     matrix, currents = plan.circuit_matrix, plan.circuit_currents_a
     independent = plan.independent
     names = [c.name for c in plan.circuits if c.independent]
@@ -249,7 +264,13 @@ def evaluate_sensor(plan: Plan, sensor: Sensor, site: SiteField, parts: RunParts
             fraction_of_total=float(np.linalg.norm(totals[k])) / site.total_t,
             equipment_bound_t=float(items.bound[0, k]), runs=tuple(runs[r] for r in order),
             equipment=equipment_at(plan, sensor, position, state, h),
-            bound_t=float(figures.bound_t[0, k]), switched_on=on))
+            bound_t=float(figures.bound_t[0, k]), switched_on=on,
+            **({} if scalar is None else dict(
+                total_field_high_t=float(scalar.high_t[0, k]),
+                total_field_low_t=float(scalar.low_t[0, k]),
+                total_field_error_t=float(scalar.error_t[0, k]),
+                heading_peak_to_peak_t=float(scalar.peak_to_peak_t[0, k]),
+                total_field_bound_t=float(scalar.bound_t[0, k])))))
     within = all(s.within_budget for s in results if s.used)
     return SensorResult(sensor, tuple(results), within, parts)
 
@@ -265,14 +286,14 @@ def _alone(per_run, spread, bound, scale):
     return size + extra, size + extra - heading.horizontal_disturbance(per_run)
 
 
-def parts_at(plan: Plan, points_m) -> RunParts:
+def parts_at(plan: Plan, points_m, *, nearest: bool = True) -> RunParts:
     """Each run's field per ampere (known and unknown direction) at many points."""
-    return parts_of_runs(plan.runs, points_m, conductors_of(plan))
+    return parts_of_runs(plan.runs, points_m, conductors_of(plan), nearest=nearest)
 
 
 def _one(parts: RunParts, i: int) -> RunParts:
     return RunParts(parts.unit_t[i:i + 1], parts.spread_t[i:i + 1], parts.bound_t[i:i + 1],
-                    parts.nearest_m[i:i + 1])
+                    parts.nearest_m[i:i + 1], parts.inside[i:i + 1])
 
 
 def analyse(plan: Plan) -> Analysis:

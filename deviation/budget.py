@@ -132,18 +132,25 @@ def equipment_fields(plan, sensor, points_m, horizontal_t) -> EquipmentFields:
 LIE_ANGLES_DEG = (0.0, 90.0, 180.0, 270.0)
 
 
-def run_fields_at(conductors, n_runs, points_m):
-    """Field of each run at unit current [T/A], shape (P, R, 3), and nearest distances (P, R) [m]."""
+def run_fields_at(conductors, n_runs, points_m, *, nearest=True, inside=None):
+    """Field of each run at unit current [T/A], shape (P, R, 3), and nearest distances (P, R) [m]
+    (infinite when ``nearest`` is False: the distances cost as much as the fields).
+
+    ``inside``, a (P,) bool array if given, is set where a point lies inside a conductor.
+    """
     points = np.asarray(points_m, dtype=float).reshape(-1, 3)
-    unit, _ = segment_field_by_group(conductors.start_m, conductors.end_m, conductors.sign,
-                                     conductors.run_index, n_runs, points,
-                                     radius_m=conductors.radius_m)
-    nearest = np.full((len(points), n_runs), np.inf)
-    if len(conductors):
+    unit, hit = segment_field_by_group(conductors.start_m, conductors.end_m, conductors.sign,
+                                       conductors.run_index, n_runs, points,
+                                       radius_m=conductors.radius_m)
+    if inside is not None:
+        inside |= hit.any(axis=1)
+    distance_to = np.full((len(points), n_runs), np.inf)
+    if len(conductors) and nearest:
         distance = point_segment_distance(conductors.start_m, conductors.end_m, points)
         firsts = np.flatnonzero(np.r_[True, np.diff(conductors.run_index) != 0])
-        nearest[:, conductors.run_index[firsts]] = np.minimum.reduceat(distance, firsts, axis=1)
-    return unit, nearest
+        distance_to[:, conductors.run_index[firsts]] = np.minimum.reduceat(distance, firsts,
+                                                                           axis=1)
+    return unit, distance_to
 
 
 #: Generators of a pair's spread (see :func:`_lie_spread`).
@@ -168,12 +175,16 @@ class RunParts:
         A part of unknown direction: the second-order spread of a pair of unknown lie, and what
         a twisted run's floor adds.
     nearest_m : (P, R) [m]
+        Infinite where not asked for.
+    inside : (P,) bool
+        The point lies inside a conductor of the plan as routed (its figures are not valid).
     """
 
     unit_t: np.ndarray
     spread_t: np.ndarray
     bound_t: np.ndarray
     nearest_m: np.ndarray
+    inside: np.ndarray | None = None
 
 
 def _lie_spread(b0, b90, b180, b270, lie):
@@ -215,15 +226,17 @@ def _lie_fields(geometries, points):
                                    len(geometries), points)[0] for a in LIE_ANGLES_DEG])
 
 
-def parts_of_runs(runs, points_m, conductors=None) -> RunParts:
+def parts_of_runs(runs, points_m, conductors=None, *, nearest=True) -> RunParts:
     """:class:`RunParts` of some runs (the plan's :class:`~deviation.plan.Run` values).
 
-    ``conductors``, if given, are the runs already routed (``plan.conductors_of``).
+    ``conductors``, if given, are the runs already routed (``plan.conductors_of``); ``nearest``
+    False leaves the nearest distances out (a search over many points does not need them).
     """
     points = np.asarray(points_m, dtype=float).reshape(-1, 3)
     geometries = [r.geometry for r in runs]
     routed = conductors if conductors is not None else route_runs(geometries)
-    unit, nearest = run_fields_at(routed, len(runs), points)
+    inside = np.zeros(len(points), dtype=bool)
+    unit, nearest_m = run_fields_at(routed, len(runs), points, nearest=nearest, inside=inside)
     spread = np.zeros(unit.shape[:2] + (SPREAD_GENERATORS, 3))
     bound = np.zeros(unit.shape[:2])
     paired = [i for i, g in enumerate(geometries) if g.return_kind == "paired"]
@@ -242,7 +255,7 @@ def parts_of_runs(runs, points_m, conductors=None) -> RunParts:
                     + np.linalg.norm(generators, axis=-1).sum(axis=-1))
             bound[:, i] = np.maximum(TWISTED_FLOOR_FRACTION * pair
                                      - np.linalg.norm(unit[:, i], axis=-1), 0.0)
-    return RunParts(unit, spread, bound, nearest)
+    return RunParts(unit, spread, bound, nearest_m, inside)
 
 
 @dataclass(frozen=True)
@@ -330,7 +343,15 @@ def _held(base, switched, switched_reversing, spread, scale, scalar, heel, pitch
     return size, choice[..., :switched.shape[2]], apart
 
 
-def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: EquipmentFields) -> Figures:
+#: The spot search's caps on generators searched exactly (level, attitude): over many points the
+#: smaller spreads are counted as bounds, and every spot it returns is evaluated again with the
+#: full caps.
+SEARCH_EXACT_GENERATORS = (16, 0)
+
+
+def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: EquipmentFields, *,
+                   exact_generators=(MAX_EXACT_GENERATORS_LEVEL, MAX_EXACT_GENERATORS_ATTITUDE)
+                   ) -> Figures:
     """The figures held against a sensor's budget at P points in every state.
 
     Parameters
@@ -345,6 +366,9 @@ def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: Equipment
         Each run's field per ampere at the points.
     items : EquipmentFields
         The equipment at the points.
+    exact_generators : (int, int)
+        Most spread generators (pairs' lies) searched exactly, level and with attitude; the
+        smaller ones beyond are counted as bounds of unknown direction (an upper bound).
 
     Notes
     -----
@@ -382,10 +406,11 @@ def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: Equipment
     def held(field, scale, scalar, heel, pitch, cap):
         return _held(field, switched, reversing, parts.spread_t, scale, scalar, heel, pitch, cap)
 
-    level, _, level_apart = held(base, scale, scalar, 0.0, 0.0, MAX_EXACT_GENERATORS_LEVEL)
+    cap_level, cap_attitude = exact_generators
+    level, _, level_apart = held(base, scale, scalar, 0.0, 0.0, cap_level)
     tilted, choice, tilted_apart = (
-        held(base, scale, scalar, heel, pitch, MAX_EXACT_GENERATORS_ATTITUDE) if heel or pitch
-        else held(base, scale, scalar, 0.0, 0.0, MAX_EXACT_GENERATORS_LEVEL))
+        held(base, scale, scalar, heel, pitch, cap_attitude) if heel or pitch
+        else held(base, scale, scalar, 0.0, 0.0, cap_level))
     vector = asin_deg(heading.horizontal_disturbance(
         base + np.einsum("pkc,pkcj->pkj", choice, switched)) / h)
     absolute = asin_deg((level + level_apart) / h)
@@ -398,12 +423,11 @@ def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: Equipment
         residual = base - base[:, k:k + 1, :]
         moved = np.abs(base_a - base_a[:, k:k + 1]) + on_a
         changing = parts.bound_t @ moved + items.changing
-        level_r, choice, level_r_apart = held(residual, moved, changing, 0.0, 0.0,
-                                              MAX_EXACT_GENERATORS_LEVEL)
+        level_r, choice, level_r_apart = held(residual, moved, changing, 0.0, 0.0, cap_level)
         tilted_r, tilted_r_apart = level_r, level_r_apart
         if heel or pitch:
             tilted_r, choice, tilted_r_apart = held(residual, moved, changing, heel, pitch,
-                                                    MAX_EXACT_GENERATORS_ATTITUDE)
+                                                    cap_attitude)
         change = asin_deg((level_r + level_r_apart) / h)
         attitude_change = asin_deg((tilted_r + tilted_r_apart) / h)
         # Adjusted, the sensor sees only the residual: that is what can overwhelm it.
@@ -413,3 +437,129 @@ def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: Equipment
     total = base + np.einsum("pkc,pkcj->pkj", choice, switched)
     return Figures(vector, absolute, attitude, change, attitude_change, used, overwhelmed, within,
                    choice, total, held_bound)
+
+
+# Total-field (scalar) magnetometers --------------------------------------------------------------
+
+@dataclass(frozen=True)
+class TotalFieldFigures:
+    """Total-field figures of a sensor at P positions in K states; arrays (P, K) [T].
+
+    high_t, low_t : largest and smallest |F + C b| - |F| over headings, attitudes within heel
+        and pitch, switchings of the independent circuits, and every bound of unknown direction
+        (b is the residual b - b_ref for a sensor compensated in a reference state)
+    error_t : max(high_t, -low_t), the figure held against budget_nt
+    peak_to_peak_t : level, over a full turn of heading, the largest over the switchings tried,
+        bounds counted at their worst (2 x bound)
+    bound_t : the bounds of unknown direction counted (pairs of unknown lie, twisted floors,
+        equipment of unknown orientation)
+    within_budget : error_t <= budget_nt
+    exhaustive : every switching was tried (else chosen by sign, to first order)
+    combination : (P, K, Ci) the switching behind high_t or low_t, whichever sets error_t
+    """
+
+    high_t: np.ndarray
+    low_t: np.ndarray
+    error_t: np.ndarray
+    peak_to_peak_t: np.ndarray
+    bound_t: np.ndarray
+    within_budget: np.ndarray
+    exhaustive: bool
+    combination: np.ndarray
+
+
+def sensor_field_parts(plan, sensor, parts: RunParts, items: EquipmentFields):
+    """The field a sensor sees in every state, split as the budget splits it.
+
+    Returns
+    -------
+    base : (P, K, 3) [T]
+        Circuits that switch with the states, and oriented equipment; the residual b - b_ref
+        for a sensor with a reference state.
+    switched : (P, K, Ci, 3) [T]
+        Each independent circuit at its current in each state.
+    reversing : (Ci,) bool
+    bound : (P, K) [T]
+        Every part of unknown direction, as a size: a pair's spread over its lies (each
+        generator's length, by the triangle inequality), twisted floors, equipment bounds (for
+        a reference state, only what changes from it).
+    """
+    matrix = plan.circuit_matrix
+    currents = plan.circuit_currents_a
+    independent = plan.independent
+    base_a = matrix @ (currents * ~independent[:, None])
+    on_a = matrix[:, independent] @ np.abs(currents[independent])
+    base = np.einsum("prj,rk->pkj", parts.unit_t, base_a) + items.oriented
+    circuit_unit = np.einsum("prj,rc->pcj", parts.unit_t, matrix[:, independent])
+    switched = circuit_unit[:, None, :, :] * currents[independent].T[None, :, :, None]
+    reversing = np.array([c.reversing for c in plan.circuits if c.independent], dtype=bool)
+    per_ampere = parts.bound_t + np.linalg.norm(parts.spread_t, axis=-1).sum(axis=-1)  # (P, R)
+    if sensor.reference_state is None:
+        bound = per_ampere @ (np.abs(base_a) + on_a) + items.bound
+    else:
+        k = plan.state_index(sensor.reference_state)
+        base = base - base[:, k:k + 1, :]
+        moved = np.abs(base_a - base_a[:, k:k + 1]) + on_a
+        bound = per_ampere @ moved + items.changing
+    return base, switched, reversing, bound
+
+
+def total_field_figures(plan, sensor, horizontal_t, vertical_t, parts: RunParts,
+                        items: EquipmentFields) -> TotalFieldFigures:
+    """The figures of a total-field magnetometer at P points in every state.
+
+    Parameters
+    ----------
+    plan, sensor, parts, items : as for :func:`budget_figures`
+    horizontal_t, vertical_t : float [T]
+        The Earth's H and Z (positive down).
+
+    Notes
+    -----
+    A scalar magnetometer reads |F + C b|; its error over headings and attitudes is exact
+    (:func:`deviation.total_field.total_field_error_range`). The error grows with F . C b
+    (exactly: |F + Cb|^2 = F^2 + 2 F . Cb + |b|^2), so at any one heading and attitude the worst
+    switching is, to first order in |b|/F, the sign split of F-hat . C v_i. Up to
+    MAX_SWITCHINGS_ENUMERATED switchings every one is tried and scored exactly; beyond, the
+    sign-split candidates (the zonotope's vertices) are scored exactly. The largest error is a
+    convex function of b (a maximum of norms of affine maps), so over the zonotope its maximum
+    is at a vertex and the vertex list gives it exactly (Rockafellar, section 32); the smallest
+    is a first-order choice. A bound beta of unknown direction moves |F + Cb| by at most beta.
+    A sensor compensated in a reference state (the survey's compensation flight) keeps the
+    residual b - b_ref: the permanent term of the compensation takes out a vessel-fixed field.
+
+    References
+    ----------
+    R. T. Rockafellar, *Convex Analysis*, Princeton University Press, 1970, section 32.
+    """
+    from .constants import MAX_SWITCHINGS_ENUMERATED
+    from .total_field import candidate_switchings, heading_error_peak_to_peak, total_field_error_range
+
+    h, z = horizontal_t, vertical_t
+    heel, pitch = sensor.max_heel_deg, sensor.max_pitch_deg
+    base, switched, reversing, bound = sensor_field_parts(plan, sensor, parts, items)
+    n_p, n_k = base.shape[:2]
+    n_c = switched.shape[2]
+    high = np.zeros((n_p, n_k))
+    low = np.zeros((n_p, n_k))
+    p2p = np.zeros((n_p, n_k))
+    combination = np.zeros((n_p, n_k, n_c), dtype=int)
+    exhaustive = True
+    for p in range(n_p):
+        for k in range(n_k):
+            vectors = switched[p, k]
+            choices, complete = candidate_switchings(vectors, reversing,
+                                                     MAX_SWITCHINGS_ENUMERATED)
+            exhaustive &= complete
+            fields = base[p, k][None, :] + choices @ vectors                       # (M, 3)
+            lo, hi = total_field_error_range(fields, h, z, heel, pitch)
+            i_hi, i_lo = int(np.argmax(hi)), int(np.argmin(lo))
+            high[p, k], low[p, k] = hi[i_hi], lo[i_lo]
+            combination[p, k] = choices[i_hi] if hi[i_hi] >= -lo[i_lo] else choices[i_lo]
+            p2p[p, k] = np.max(heading_error_peak_to_peak(fields, h, z))
+    high, low = high + bound, low - bound
+    p2p = p2p + 2.0 * bound
+    error = np.maximum(high, -low)
+    budget_t = (sensor.budget_nt or 0.0) * 1e-9
+    return TotalFieldFigures(high, low, error, p2p, bound, error <= budget_t, bool(exhaustive),
+                             combination)

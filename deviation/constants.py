@@ -62,3 +62,28 @@ MIN_LAY_PER_OUTER_DIAMETER = 12.0
 #: Common practice, no source: the lay a twisting hint proposes where the cable allows it [m],
 #: about 20 twists per metre, easily done by hand or bought as twisted pair.
 HINT_LAY_M = 0.05
+
+#: Interference grading of an electronic compass or magnetometer: the wiring's field at full
+#: current as a share of the Earth's total field F. Common practice in open-source
+#: flight-controller documentation, from memory: below 30 % acceptable, 30-60 % marginal (current
+#: compensation needed, check it after installation), above 60 % move the sensor.
+INTERFERENCE_ACCEPTABLE_FRACTION = 0.30
+INTERFERENCE_MOVE_FRACTION = 0.60
+
+#: Pre-arming checks of the field against the model (common practice in open-source
+#: flight-controller documentation, from memory): the measured total field within 0.2 gauss
+#: (20 µT) of the model's, and its inclination within 20 degrees of the model's.
+MODEL_FIELD_TOLERANCE_T = 20e-6
+MODEL_INCLINATION_TOLERANCE_DEG = 20.0
+
+#: Total-field (scalar) survey magnetometers: a figure of merit of 1-2 nT is the usual aim of a
+#: compensated airborne installation (common practice, no source).
+SURVEY_FIGURE_OF_MERIT_NT = (1.0, 2.0)
+
+#: Independent switchings tried one by one for the total-field worst case and the compensation
+#: fit (2**12): beyond this the switching is chosen by the sign of F-hat . v_i (first order).
+MAX_SWITCHINGS_ENUMERATED = 4096
+
+#: Field units of the electronic-sensor outputs: tesla per unit (1 mG = 0.1 µT = 100 nT, since
+#: 1 G = 1e-4 T by definition of the CGS gauss).
+FIELD_UNITS_T = {"uT": 1e-6, "nT": 1e-9, "mG": 1e-7}

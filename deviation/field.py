@@ -189,7 +189,8 @@ def _numpy_segment_field(start, end, current, radius2, length2, points, field, i
         out[:, :, 2] += gz @ current[s]
 
 
-def segment_field_by_group(start_m, end_m, weight, group, n_groups, points_m, *, radius_m=0.0):
+def segment_field_by_group(start_m, end_m, weight, group, n_groups, points_m, *, radius_m=0.0,
+                           backend="auto"):
     """Field of each group of segments (e.g. each cable run) at each point, in one pass.
 
     Parameters
@@ -202,6 +203,8 @@ def segment_field_by_group(start_m, end_m, weight, group, n_groups, points_m, *,
     n_groups : int
     points_m : (P, 3) array [m]
     radius_m : float or (S,) array [m]
+    backend : {"auto", "numpy", "compiled"}
+        As for :func:`segment_field`.
 
     Returns
     -------
@@ -222,8 +225,17 @@ def segment_field_by_group(start_m, end_m, weight, group, n_groups, points_m, *,
     points = np.ascontiguousarray(points_m, dtype=float).reshape(-1, 3)
     field = np.zeros((len(points), n_groups, 3))
     inside = np.zeros((len(points), n_groups), dtype=bool)
-    if not len(start):
+    if not len(start) or not len(points):
         return field, inside
+    if backend not in ("auto", "numpy", "compiled"):
+        raise ValueError(f"backend must be auto, numpy or compiled, not {backend!r}")
+    if backend == "compiled" or (backend == "auto" and len(start) * len(points)
+                                 >= COMPILED_MIN_PAIRS and _compiled_available()):
+        from . import _kernels
+
+        _kernels.segment_field_by_group(start, end, weight, np.ascontiguousarray(group),
+                                        radius2, length2, points, field, inside)
+        return field * MU0_OVER_4PI, inside
     for p, s in _tiles(len(points), len(start)):
         gx, gy, gz, hit = _block_geometry(start[s], end[s], radius2[s], length2[s], points[p])
         tile_group = group[s]

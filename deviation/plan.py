@@ -81,6 +81,9 @@ class Site:
     horizontal_ut: float | None       # override of the model, e.g. measured on site
     vertical_ut: float | None
     notes: tuple[tuple[str, str], ...] = ()   # (setting, note) as the plan gave them
+    # Further places of the operating area: (name, latitude_deg, longitude_deg), from the site
+    # sheet's "place" rows; the area command evaluates the plan at each of them too.
+    places: tuple[tuple[str, float, float], ...] = ()
 
 
 @dataclass(frozen=True)
@@ -133,9 +136,16 @@ class Sensor:
     row: int | None
     max_pitch_deg: float = 0.0
     used_in: tuple[str, ...] | None = None   # states it is relied on in; None: every state
+    # Electronic sensors: (3, 3) rows are the sensor's own x, y, z axes as unit vectors in the
+    # vessel frame (b_sensor = axes @ b_vessel); None: the vessel's axes. axes_text as given.
+    axes: np.ndarray | None = None
+    axes_text: str | None = None
+    # Currents its host measures for compensation: ("total",) or circuit names; None: none.
+    measured_currents: tuple[str, ...] | None = None
+    budget_nt: float | None = None    # total-field magnetometer: its budget in nT
 
     def __post_init__(self):
-        _freeze(self, "position_m")
+        _freeze(self, "position_m", "axes")
 
     def used_in_state(self, state: str) -> bool:
         return self.used_in is None or state in self.used_in

@@ -19,6 +19,7 @@ from pathlib import Path
 import numpy as np
 
 from . import units
+from .budget import OVERWHELMED_DEG
 from .constants import WMM_VALID_FROM, WMM_VALID_UNTIL
 from .geomag import decimal_year
 from .plan import (
@@ -47,6 +48,8 @@ from .schema import (
     SITE_SETTINGS,
     STATES_TEXT_COLUMNS,
     SWITCHING,
+    TOTAL_FIELD_KIND,
+    VECTOR_ELECTRONIC_KINDS,
     columns_of,
 )
 
@@ -473,7 +476,7 @@ def _check_columns(sheet, collector):
 
 
 def _read_site(sheet, collector):
-    values, rows, notes = {}, {}, []
+    values, rows, notes, place_rows = {}, {}, [], []
     if sheet is not None and _check_columns(sheet, collector):
         for number, row in sheet.rows:
             setting = row.get("setting")
@@ -485,6 +488,9 @@ def _read_site(sheet, collector):
             if name not in SITE_SETTINGS:
                 collector.add("site", number, "setting", f'"{setting}" is not a setting; expected '
                               f'one of {", ".join(SITE_SETTINGS)}{_suggest(name, SITE_SETTINGS)}')
+                continue
+            if name == "place":             # a place of the operating area: one row each
+                place_rows.append((number, row.get("value"), row.get("note")))
                 continue
             values[name], rows[name] = row.get("value"), number
             if row.get("note") is not None:
@@ -532,8 +538,32 @@ def _read_site(sheet, collector):
                       f"{year:.2f} is outside the validity of WMM-2025 ({WMM_VALID_FROM:.1f}-"
                       f"{WMM_VALID_UNTIL:.1f}); give the site's field from a measurement or a "
                       "current model instead")
+    places = tuple(p for p in (_place(number, value, note, collector)
+                               for number, value, note in place_rows) if p is not None)
     return Site(unit, latitude, longitude, year, date_text, altitude, horizontal, vertical,
-                tuple(notes))
+                tuple(notes), places=places)
+
+
+def _place(number, value, note, collector):
+    """A place of the operating area from a site row: value "lat, lon", its name in the note."""
+    parts = [] if value is None or isinstance(value, (int, float)) else str(value).split(",")
+    if len(parts) != 2:
+        collector.add("site", number, "value", f'place "{value if value is not None else ""}" '
+                      "is not latitude, longitude in decimal degrees (e.g. 64.1, -21.9)")
+        return None
+    latitude = _number(parts[0], "a latitude in decimal degrees", collector, "site", number,
+                       "value")
+    longitude = _number(parts[1], "a longitude in decimal degrees", collector, "site", number,
+                        "value")
+    if latitude is None or longitude is None:
+        return None
+    if not -90 <= latitude <= 90 or not -180 <= longitude <= 360:
+        collector.add("site", number, "value", f"place {latitude:g}, {longitude:g} is outside "
+                      "latitude -90 to 90 and longitude -180 to 360")
+        return None
+    name = str(note).strip() if note is not None and str(note).strip() else \
+        f"{latitude:g}, {longitude:g}"
+    return (name, latitude, longitude)
 
 
 def _read_points(sheet, unit, collector):
@@ -858,7 +888,16 @@ def _read_sensors(sheet, site, points, states, collector):
                           f'kind; expected one of {", ".join(SENSOR_KINDS)}'
                           f"{_suggest(kind, SENSOR_KINDS)}")
         budget = None
-        if row.get("budget_deg") is None:
+        scalar = kind == TOTAL_FIELD_KIND
+        budget_nt = _budget_nt(row, scalar, collector, number)
+        if scalar:
+            # A scalar sensor has no heading: its budget is in nT, the heading figure unlimited.
+            budget = OVERWHELMED_DEG
+            if row.get("budget_deg") is not None:
+                collector.add("sensors", number, "budget_deg", "a total-field magnetometer is "
+                              "judged in nT, not degrees: give its budget in budget_nt and leave "
+                              "budget_deg blank")
+        elif row.get("budget_deg") is None:
             collector.add("sensors", number, "budget_deg", "the deviation budget in degrees is "
                           "needed (e.g. 1 for a steering compass)")
         else:
@@ -879,10 +918,82 @@ def _read_sensors(sheet, site, points, states, collector):
                        for column, what in (("max_heel_deg", "heel"), ("max_pitch_deg", "pitch")))
         used_in = _state_list(row.get("used_in"), states, collector, "sensors", number, "used_in")
         used_in = used_in or None                   # a cell of only separators: every state
+        axes, axes_text = _sensor_axes(row.get("axes"), kind, collector, number)
+        measured = _measured_currents(row.get("measured_currents"), kind, collector, number)
         if len(collector.findings) == bad:
             sensors.append(Sensor(str(name), position, kind, budget, reference, heel,
-                                  str(row.get("note") or ""), number, pitch, used_in))
+                                  str(row.get("note") or ""), number, pitch, used_in,
+                                  axes=axes, axes_text=axes_text, measured_currents=measured,
+                                  budget_nt=budget_nt))
     return sensors
+
+
+def _budget_nt(row, scalar, collector, number):
+    """A total-field magnetometer's budget in nT (None for the other kinds)."""
+    value = row.get("budget_nt")
+    if not scalar:
+        if value is not None:
+            collector.add("sensors", number, "budget_nt", "budget_nt is for a total-field "
+                          "magnetometer; this sensor's budget is a heading deviation in "
+                          "budget_deg")
+        return None
+    if value is None:
+        collector.add("sensors", number, "budget_nt", "a total-field magnetometer needs its "
+                      "budget in nT (e.g. 2 for a survey installation)")
+        return None
+    got = _number(value, "a number of nanotesla", collector, "sensors", number, "budget_nt")
+    if got is not None and not 0 < got <= 1e5:
+        collector.add("sensors", number, "budget_nt", "the budget must be more than 0 and at "
+                      "most 100000 nT")
+        return None
+    return got
+
+
+def _sensor_axes(value, kind, collector, number):
+    """The sensor's axes in the vessel frame from its axes cell: (matrix, text) or (None, None)."""
+    from .electronic import AxesError, parse_axes
+
+    if value is None:
+        return None, None
+    if kind not in VECTOR_ELECTRONIC_KINDS:
+        if kind in SENSOR_KINDS:
+            collector.add("sensors", number, "axes", f"axes are for an electronic compass or a "
+                          f"magnetometer, not a {kind}")
+        return None, None
+    try:
+        return parse_axes(str(value)), " ".join(str(value).split())
+    except AxesError as error:
+        collector.add("sensors", number, "axes", str(error))
+        return None, None
+
+
+def _measured_currents(value, kind, collector, number):
+    """The currents a sensor's host measures: ("total",), circuit names, or None."""
+    if value is None:
+        return None
+    if kind not in VECTOR_ELECTRONIC_KINDS:
+        if kind in SENSOR_KINDS:
+            collector.add("sensors", number, "measured_currents", "measured currents are for an "
+                          f"electronic compass or a magnetometer, not a {kind}")
+        return None
+    names = tuple(dict.fromkeys(p.strip() for p in str(value).split(";") if p.strip()))
+    if any(key(n) == "total" for n in names):
+        if len(names) > 1:
+            collector.add("sensors", number, "measured_currents", '"total" is every circuit '
+                          "summed; give it alone, or circuit names separated by ;")
+            return None
+        return ("total",)
+    return names or None
+
+
+def _check_measured_currents(plan, collector):
+    """Circuit names in the sensors' measured_currents must be circuits of the plan."""
+    names = [c.name for c in plan.circuits]
+    for sensor in plan.sensors:
+        for name in sensor.measured_currents or ():
+            if name != "total" and key(name) not in {key(n) for n in names}:
+                collector.add("sensors", sensor.row, "measured_currents", f'"{name}" is not a '
+                              f'circuit of the plan (nor total){_suggest(name, names)}')
 
 
 def _angle(value, what, collector, row, column):
@@ -1167,6 +1278,8 @@ def _plan_from_sheets(sheets, source, collector) -> Plan:
                 skipped_examples=tuple((name, row) for name in SHEETS if name in sheets
                                        for row in sheets[name].examples),
                 item_notes=_item_notes(sheets))
+    if not collector.findings:
+        _check_measured_currents(plan, collector)
     if not collector.findings:
         _check_sensors_outside_conductors(plan, collector)
     if collector.findings:

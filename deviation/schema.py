@@ -11,7 +11,12 @@ from dataclasses import dataclass
 
 #: Return kinds of a run (see routing).
 RETURN_KINDS = ("paired", "twisted", "separate", "none")
-SENSOR_KINDS = ("magnetic compass", "electronic compass", "magnetometer")
+SENSOR_KINDS = ("magnetic compass", "electronic compass", "magnetometer",
+                "total-field magnetometer")
+#: The scalar survey magnetometer: judged by its total-field error in nT (budget_nt).
+TOTAL_FIELD_KIND = "total-field magnetometer"
+#: Kinds that read a field vector electronically: axes, per-ampere vectors, compensation.
+VECTOR_ELECTRONIC_KINDS = ("electronic compass", "magnetometer")
 SAFE_DISTANCE_FOR = ("standard", "steering")
 #: How the two conductors of a paired run lie about its axis; "not known" counts the worst.
 PAIR_LIES = ("not known", "side by side", "one above the other")
@@ -109,7 +114,15 @@ SCHEMA: dict[str, SheetSpec] = {s.name: s for s in (
                        "state). Its verdict comes only from these."),
            ("max_heel_deg", "Largest heel to check, degrees (blank: 0)."),
            ("max_pitch_deg", "Largest pitch or trim to check, degrees (blank: 0)."),
-           NOTE),
+           NOTE,
+           ("budget_nt", "Total-field magnetometer only: the total-field error in nT it may take "
+                         "from the wiring and equipment (leave its budget_deg blank)."),
+           ("axes", "Electronic compass or magnetometer: which way its own x, y, z axes point in "
+                    "the vessel frame, e.g. x+ y- (its x forward, its y to starboard, so its z "
+                    "down), or forward left up / forward right down (blank: the vessel's axes)."),
+           ("measured_currents", "Electronic compass or magnetometer: the currents its host "
+                                 "measures for current compensation: total (every circuit's "
+                                 "current summed) or circuit names separated by ;.")),
     _sheet("equipment",
            ("item", "Name of a magnetised item (speaker, motor, instrument).", True),
            ("at", "Point name or x, y, z.", True),
@@ -139,7 +152,7 @@ SCHEMA: dict[str, SheetSpec] = {s.name: s for s in (
 SHEETS = tuple(SCHEMA)
 REQUIRED_SHEETS = ("runs", "sensors")
 SITE_SETTINGS = ("units", "latitude", "longitude", "date", "altitude_m", "horizontal_field_ut",
-                 "vertical_field_ut")
+                 "vertical_field_ut", "place")
 
 
 def columns_of(sheet: str) -> dict[str, tuple[str, ...]]:

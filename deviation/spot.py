@@ -21,7 +21,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from .analysis import evaluate_sensor, parts_at
-from .budget import budget_figures, equipment_fields
+from .budget import SEARCH_EXACT_GENERATORS, budget_figures, equipment_fields
 
 #: Largest number of points in the coarse stage.
 COARSE_POINTS = 40_000
@@ -195,13 +195,14 @@ def _figures_at(plan, sensor, site, points, progress=None):
     used_states = np.array([sensor.used_in_state(s) for s in plan.state_names])
     for p0 in range(0, len(points), CHUNK_POINTS):
         chunk = points[p0:p0 + CHUNK_POINTS]
-        parts = parts_at(plan, chunk)
+        parts = parts_at(plan, chunk, nearest=False)
         items = equipment_fields(plan, sensor, chunk, site.horizontal_t)
-        figures = budget_figures(plan, sensor, site.horizontal_t, parts, items)
+        figures = budget_figures(plan, sensor, site.horizontal_t, parts, items,
+                                 exact_generators=SEARCH_EXACT_GENERATORS)
         used = np.where(used_states[None, :], figures.budget_used_deg, -np.inf)
         worst[p0:p0 + len(chunk)] = used.max(axis=1)
         which[p0:p0 + len(chunk)] = used.argmax(axis=1)
-        inside[p0:p0 + len(chunk)] = ~np.isfinite(parts.unit_t).all(axis=(1, 2))
+        inside[p0:p0 + len(chunk)] = parts.inside
         if progress is not None:
             progress(len(chunk))
     worst[inside] = np.inf

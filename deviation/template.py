@@ -239,11 +239,15 @@ def _site_rows(site):
               else None,
               "horizontal_field_ut": site.horizontal_ut, "vertical_field_ut": site.vertical_ut}
     for name in SITE_SETTINGS[1:]:
+        if name == "place":
+            continue
         value = values[name]
         if value is None and name not in notes:
             continue
         rows.append([name, value if isinstance(value, str) else number_cell(value),
                      notes.get(name)])
+    for name, latitude, longitude in site.places:        # the operating area, one row each
+        rows.append(["place", f"{latitude!r}, {longitude!r}", name])
     return rows
 
 
@@ -289,7 +293,12 @@ def plan_rows(plan):
         rows["states"] = states
     rows["sensors"] = _table("sensors", [{
         "sensor": s.name, "at": places.at(s.position_m), "kind": s.kind,
-        "budget_deg": number_cell(s.budget_deg), "reference_state": s.reference_state,
+        "budget_deg": None if s.budget_nt is not None else number_cell(s.budget_deg),
+        "budget_nt": None if s.budget_nt is None else number_cell(s.budget_nt),
+        "axes": s.axes_text,
+        "measured_currents": None if s.measured_currents is None
+        else "; ".join(s.measured_currents),
+        "reference_state": s.reference_state,
         "used_in": "; ".join(s.used_in) if s.used_in is not None else None,
         "max_heel_deg": number_cell(s.max_heel_deg) if s.max_heel_deg else None,
         "max_pitch_deg": number_cell(s.max_pitch_deg) if s.max_pitch_deg else None,

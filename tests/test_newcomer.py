@@ -19,7 +19,7 @@ from deviation.reader import is_example_row, plan_from_tables, read_plan
 from deviation.template import EXAMPLE_ROWS, write_template
 from deviation.units import format_length
 
-SAMPLE_NAMES = ("cruising_sailboat", "camper_van", "survey_drone")
+SAMPLE_NAMES = tuple(sorted(p.name for p in SAMPLES.iterdir() if p.is_dir()))
 
 
 def run(*args):
@@ -250,6 +250,7 @@ SPOT_REGIONS = {  # a small box beside each sample's sensor, in the plan's units
     "cruising_sailboat": ("helm compass", "1.5,-0.05,1.9", "1.7,0.05,2.0", "5cm"),
     "camper_van": ("dash compass", "16.8,0.4,4.1", "17.2,0.8,4.3", "2in"),
     "survey_drone": ("mast magnetometer", "-50,-10,110", "-30,10,130", "1cm"),
+    "survey_boom": ("fc compass", "-50,-10,140", "-30,10,160", "1cm"),
 }
 
 
@@ -299,7 +300,7 @@ def test_every_command_on_every_sample_shows_clean_text(name, tmp_path):
         ("site", "--lat", site.latitude_deg, "--lon", site.longitude_deg, "--date",
          site.date_text),
         ("clearance", "--lat", site.latitude_deg, "--lon", site.longitude_deg, "--date",
-         site.date_text, "--budget-deg", plan.sensors[0].budget_deg, "--units",
+         site.date_text, "--budget-deg", plan.sensor(sensor).budget_deg, "--units",
          "ft" if plan.imperial else "m", "--width", 160),
     ]
     for command in commands:

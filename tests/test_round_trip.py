@@ -14,7 +14,7 @@ from deviation.cli import main
 from deviation.reader import plan_from_tables, read_plan
 from deviation.template import length_text, plan_rows, shortest_number, write_plan
 
-SAMPLE_NAMES = ("cruising_sailboat", "camper_van", "survey_drone")
+SAMPLE_NAMES = tuple(sorted(p.name for p in SAMPLES.iterdir() if p.is_dir()))
 
 
 def written(tmp_path, source):
@@ -96,9 +96,14 @@ def test_each_sample_written_by_new_from_reads_back_to_the_same_plan_and_figures
 @pytest.mark.parametrize("name", SAMPLE_NAMES)
 def test_each_sample_is_written_in_its_own_units_with_its_numbers_and_notes(name, tmp_path):
     path = written(tmp_path, SAMPLES / name)
-    site = {r["setting"]: r for r in sheet_rows(path, "site")}
+    written_rows = sheet_rows(path, "site")
+    site = {r["setting"]: r for r in written_rows if r["setting"] != "place"}
     for row in csv_rows(name, "site"):
-        assert (site[row["setting"]]["note"] or "") == row["note"]
+        if row["setting"] != "place":
+            assert (site[row["setting"]]["note"] or "") == row["note"]
+    # Places of the operating area, one row each, their names in the note, in order.
+    assert [(r["note"] or "") for r in written_rows if r["setting"] == "place"] == [
+        r["note"] for r in csv_rows(name, "site") if r["setting"] == "place"]
     assert site["units"]["value"] == csv_rows(name, "site")[0]["value"]
     points = sheet_rows(path, "points")
     for mine, theirs in zip(points, csv_rows(name, "points"), strict=True):
@@ -117,7 +122,8 @@ def test_each_sample_is_written_in_its_own_units_with_its_numbers_and_notes(name
                     assert [float(v) for v in a.split(",")] == [float(v) for v in b.split(",")]
                 else:
                     assert a == b
-        assert mine["spacing"] is None          # the samples leave it to the size
+        # Left to the size where the sample leaves it so, else as typed (with its unit).
+        assert mine["spacing"] == (theirs.get("spacing") or None)
     states = sheet_rows(path, "states")
     for mine, theirs in zip(states, csv_rows(name, "states"), strict=True):
         assert (mine["note"] or "") == theirs["note"]

@@ -87,11 +87,14 @@ def main():
 
 # The commands register themselves on main.
 from . import (  # noqa: E402,F401
+    area,
     card,
     check,
     clearance,
     deflection,
+    electronic,
     new,
+    per_amp,
     refit,
     site,
     spot,

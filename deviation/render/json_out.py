@@ -76,7 +76,23 @@ def state_json(sensor, state, unit_system, plan_source):
                        "inside_safe_distance": by_item[r.name].inside_safe_distance}
                       for r in items],
         "hints": [remedy_json(m, unit_system, plan_source) for m in state.remedies],
+        **_total_field_json(state),
     }
+
+
+def _total_field_json(state):
+    """A total-field magnetometer's figures in nT (nothing for the other kinds)."""
+    if state.total_field_error_t is None:
+        return {}
+
+    def nt(value_t):
+        return round(float(value_t) * 1e9, 4) + 0.0
+
+    return {"total_field_high_nt": nt(state.total_field_high_t),
+            "total_field_low_nt": nt(state.total_field_low_t),
+            "total_field_error_nt": nt(state.total_field_error_t),
+            "heading_peak_to_peak_nt": nt(state.heading_peak_to_peak_t),
+            "total_field_bound_nt": nt(state.total_field_bound_t)}
 
 
 def remedy_json(remedy, unit_system, plan_source):
@@ -120,6 +136,10 @@ def analysis_json(analysis):
             "used_in": None if s.sensor.used_in is None else list(s.sensor.used_in),
             "max_heel_deg": s.sensor.max_heel_deg,
             "max_pitch_deg": s.sensor.max_pitch_deg,
+            "budget_nt": s.sensor.budget_nt,
+            "axes": s.sensor.axes_text,
+            "measured_currents": (None if s.sensor.measured_currents is None
+                                  else list(s.sensor.measured_currents)),
             "adjustment_absorbs_deg": _deg(summary[s.sensor.name].adjustment_absorbs_deg),
             "within_budget": s.within_budget,
             "verdict": summary[s.sensor.name].verdict,

@@ -156,7 +156,7 @@ def _xlsx(analysis):
     for result in analysis.sensors:
         s = result.sensor
         sheet = book.create_sheet(_sheet_name(f"budget {s.name}", taken))
-        put(sheet, 1, 1, f"{s.name}: {s.kind}, budget {s.budget_deg:g}°", font=title_font)
+        put(sheet, 1, 1, f"{s.name}: {s.kind}, budget {words.budget_text(s)}", font=title_font)
         put(sheet, 2, 1, "position [{u}]: ".format(u=unit) + ", ".join(
             f"{_length(plan, v):.3f}" for v in s.position_m))
         header(sheet, 4, [h.format(u=unit) for h in RUN_HEADERS])
@@ -334,7 +334,7 @@ def html_report(analysis):
                  + "<th>verdict</th></tr>")
     for row in view.summary_rows(analysis):
         cells = "".join(f"<td class={c.status}>{_e(c.text)}</td>" for c in row.cells)
-        parts.append(f"<tr><td>{_e(row.sensor)}</td><td>{row.budget_deg:g}</td>"
+        parts.append(f"<tr><td>{_e(row.sensor)}</td><td>{_e(row.budget_text)}</td>"
                      f"{cells}<td class={'ok' if row.within_budget else 'over'}>"
                      f"{_e(row.verdict)}</td></tr>")
     parts.append("</table>")
@@ -345,7 +345,7 @@ def html_report(analysis):
     for result, one in zip(analysis.sensors, card_list):
         s = result.sensor
         parts.append(f"<section class=sensor><h2>{_e(s.name)}</h2><p>{_e(s.kind)} at "
-                     f"{_e(words.position(s.position_m, unit))}; budget {s.budget_deg:g}°; "
+                     f"{_e(words.position(s.position_m, unit))}; budget {_e(words.budget_text(s))}; "
                      f"held figure: {_e(words.held_figure(s))}</p>")
         for st in result.states:
             cls = "unused" if not st.used else "ok" if st.within_budget else "over"

@@ -82,7 +82,8 @@ def render_check(analysis, console, *, all_runs=False, hints=True):
         console.print(Text(examples[0].upper() + examples[1:] + ".", style="bold yellow"))
     console.print()
 
-    summary = Table(title=Text("Figure held against each budget, degrees"), box=_box(console),
+    summary = Table(title=Text("Figure held against each budget (degrees; nT for a total-field "
+                               "magnetometer)"), box=_box(console),
                     title_justify="left")
     summary.add_column("sensor")
     summary.add_column("budget", justify="right")
@@ -91,7 +92,7 @@ def render_check(analysis, console, *, all_runs=False, hints=True):
     summary.add_column("verdict")
     rows = view.summary_rows(analysis)
     for row in rows:
-        cells = [Text(row.sensor), f"{row.budget_deg:g}"]
+        cells = [Text(row.sensor), row.budget_text]
         for cell in row.cells:
             text = cell.text if cell.status != "unused" else f"({cell.text})"
             cells.append(Text(text, style=_style(cell.status)))
@@ -131,7 +132,7 @@ def _render_sensor(result, analysis, console, unit, all_runs, hints):
         attitude.append(f"pitch ±{sensor.max_pitch_deg:g}°")
     console.print(Text(f"{sensor.name}", style="bold underline"))
     console.print(Text(f"  {sensor.kind} at {words.position(sensor.position_m, unit)}; budget "
-                       f"{sensor.budget_deg:g}°; {adjusted}"
+                       f"{words.budget_text(sensor)}; {adjusted}"
                        + ("; " + ", ".join(attitude) if attitude else "")))
     if sensor.used_in is not None:
         console.print(Text("  relied on in: " + ", ".join(sensor.used_in)))
@@ -188,6 +189,8 @@ def _render_state(st, sensor, analysis, console, unit, all_runs, hints):
                                f"{sensor.budget_deg:g}°{share}", style=_style(status)))
         else:
             console.print(Text(line))
+    for line in view.total_field_lines(sensor, st):
+        console.print(Text(f"  {line}", style=_style(status) if "held" in line else ""))
     if sensor.kind == "magnetometer":
         console.print(f"  disturbance {st.fraction_of_total * 100:.1f} % of the Earth's total "
                       f"field ({analysis.site.total_t * 1e6:.1f} µT)")

@@ -29,6 +29,7 @@ class SummaryRow:
     reference_state: str | None
     max_heel_deg: float
     max_pitch_deg: float
+    budget_text: str                  # with its unit: degrees, or nT (total-field)
     cells: tuple[SummaryCell, ...]
     within_budget: bool
     verdict: str
@@ -39,15 +40,18 @@ def summary_rows(analysis) -> tuple[SummaryRow, ...]:
     rows = []
     for result in analysis.sensors:
         s = result.sensor
+        total_field = words.is_total_field(s)
         cells = tuple(SummaryCell(st.state, st.budget_used_deg,
+                                  words.held_text(s, st) if total_field else
                                   words.degrees(st.budget_used_deg, st.overwhelmed),
                                   "unused" if not st.used else "ok" if st.within_budget else "over")
                       for st in result.states)
         over = [c.state for c in cells if c.status == "over"]
         verdict = "within budget" if not over else "over in " + ", ".join(over)
         rows.append(SummaryRow(s.name, s.kind, s.budget_deg, s.reference_state, s.max_heel_deg,
-                               s.max_pitch_deg, cells, result.within_budget, verdict,
-                               result.adjustment_absorbs_deg))
+                               s.max_pitch_deg, words.budget_text(s), cells,
+                               result.within_budget, verdict,
+                               None if total_field else result.adjustment_absorbs_deg))
     return tuple(rows)
 
 
@@ -119,15 +123,29 @@ def total_rows(sensor, st) -> tuple[TotalRow, ...]:
         rows.append(TotalRow("absolute, worst attitude", st.heeled_max_deviation_deg))
     if sensor.reference_state:
         rows.append(TotalRow("residual after adjustment, level", st.change_from_reference_deg))
+    if words.is_total_field(sensor):
+        return tuple(rows)              # the held figure is in nT: see total_field_lines
     rows.append(TotalRow(f"held against the budget ({words.held_figure(sensor)})",
                          st.budget_used_deg, held=True))
     return tuple(rows)
 
 
+def total_field_lines(sensor, st) -> tuple[str, ...]:
+    """A total-field magnetometer's figures, in nT."""
+    if not words.is_total_field(sensor) or st.total_field_error_t is None:
+        return ()
+    nt = 1e9
+    return (f"total-field error over headings and attitude: {st.total_field_low_t * nt:+.2f} to "
+            f"{st.total_field_high_t * nt:+.2f} nT; level heading error peak to peak "
+            f"{st.heading_peak_to_peak_t * nt:.2f} nT",
+            f"held against the budget ({words.held_figure(sensor)}): "
+            f"{st.total_field_error_t * nt:.2f} nT of {words.budget_text(sensor)}")
+
+
 def state_title(sensor, st) -> str:
-    title = (f"{st.state}: {words.with_degree_sign(st.budget_used_deg, st.overwhelmed)} of "
-             f"{sensor.budget_deg:g}° — {words.verdict(st)}")
-    if st.is_reference:
+    title = (f"{st.state}: {words.held_text(sensor, st)} of {words.budget_text(sensor)} — "
+             f"{words.verdict(st)}")
+    if st.is_reference and not words.is_total_field(sensor):
         title += (" (the reference state: the adjustment takes out "
                   f"{words.with_degree_sign(st.heeled_max_deviation_deg)})")
     if not st.used:

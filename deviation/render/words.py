@@ -55,10 +55,35 @@ def verdict(state_result) -> str:
     return "within" if state_result.within_budget else "OVER"
 
 
+def is_total_field(sensor) -> bool:
+    from ..schema import TOTAL_FIELD_KIND
+
+    return sensor.kind == TOTAL_FIELD_KIND
+
+
+def budget_text(sensor) -> str:
+    """A sensor's budget with its unit: degrees, or nT for a total-field magnetometer."""
+    if is_total_field(sensor):
+        return f"{sensor.budget_nt:g} nT"
+    return f"{sensor.budget_deg:g}°"
+
+
+def held_text(sensor, state_result) -> str:
+    """The held figure with its unit."""
+    if is_total_field(sensor):
+        return f"{state_result.total_field_error_t * 1e9:.2f} nT"
+    return with_degree_sign(state_result.budget_used_deg, state_result.overwhelmed)
+
+
 def held_figure(sensor) -> str:
     """What the held figure is, in words."""
-    figure = (f"deviation of the residual after adjustment in {sensor.reference_state!r}"
-              if sensor.reference_state else "absolute deviation")
+    if is_total_field(sensor):
+        figure = ("total-field error |F + b| - |F| of the residual after compensation in "
+                  f"{sensor.reference_state!r}" if sensor.reference_state else
+                  "total-field error |F + b| - |F|")
+    else:
+        figure = (f"deviation of the residual after adjustment in {sensor.reference_state!r}"
+                  if sensor.reference_state else "absolute deviation")
     limits = []
     if sensor.max_heel_deg:
         limits.append(f"heel ±{sensor.max_heel_deg:g}°")
@@ -179,9 +204,25 @@ def finding_message(finding) -> str:
         return (f'"{finding.subject}" is {finding.distance_m:.2f} m from the sensor, inside its '
                 f"labelled {finding.label} compass safe distance of {finding.limit_m:.2f} m")
     if rule == "magnetometer-share":
-        return (f"the wiring's field is {finding.fraction * 100:.0f} % of the Earth's total field "
-                "here; look for a quieter place for the magnetometer")
+        return interference_words(finding.label, finding.fraction, finding.state)
     raise ValueError(f"unknown finding {rule!r}")
+
+
+#: What each interference grade asks of the installer.
+GRADE_ADVICE = {
+    "acceptable": "fine as planned; calibrate in the final installation",
+    "marginal": "usable only with current compensation: give the host a current measurement, "
+                "learn the compensation after installation and check the residual",
+    "move": "too close to the wiring for compensation to be trusted: find the sensor a quieter "
+            "place (deviation spot) or reroute the culprit runs",
+}
+
+
+def interference_words(grade, fraction, state) -> str:
+    """The interference grade of an electronic sensor, in words."""
+    where = f" (worst in {state!r})" if state else ""
+    return (f"at full current the wiring and equipment put {fraction * 100:.0f} % of the Earth's "
+            f"field at the sensor{where}: {grade}, {GRADE_ADVICE[grade]}")
 
 
 def finding_source(finding) -> str:

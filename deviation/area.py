@@ -1,0 +1,130 @@
+"""A plan over its whole operating area: checked at each place, the worst figure and where.
+
+The site sheet names the places (its ``place`` rows, beside the site's own latitude and
+longitude). At each place the plan is rebuilt with that latitude and longitude (the date and
+height stay the plan's) and checked again; the Earth's field there comes from WMM2025, so a
+field measured at the site (``horizontal_field_ut``) is not carried to the other places.
+
+Why it matters: a vessel-fixed disturbance b deviates a heading sensor by asin(|b_h|/H), so
+the same wiring costs more degrees where H is weaker, and its share of F changes with F.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+from .errors import DeviationError
+from .schema import TOTAL_FIELD_KIND
+
+
+@dataclass(frozen=True)
+class PlaceResult:
+    """The plan checked at one place."""
+
+    name: str
+    latitude_deg: float
+    longitude_deg: float
+    site: object                     # SiteField
+    analysis: object                 # Analysis
+    reports: tuple                   # electronic.ElectronicSensor
+    within_budget: bool
+
+
+@dataclass(frozen=True)
+class Worst:
+    """One figure of one sensor at its worst over the area, and the place that sets it."""
+
+    sensor: str
+    figure: str
+    value: float
+    unit: str
+    place: str
+    within: bool                     # the sensor is within its budget at every place
+
+
+@dataclass(frozen=True)
+class AreaResult:
+    plan: object
+    places: tuple[PlaceResult, ...]
+    worst: tuple[Worst, ...]
+    verdict_changes: bool            # within at some places, over at others
+    within_budget: bool              # within at every place
+
+
+def plan_at(plan, latitude_deg: float, longitude_deg: float):
+    """The plan moved to another place: the model's field there, nothing else changed."""
+    site = replace(plan.site, latitude_deg=float(latitude_deg), longitude_deg=float(longitude_deg),
+                   horizontal_ut=None, vertical_ut=None, places=())
+    return replace(plan, site=site)
+
+
+def places_of(plan) -> list[tuple[str, float, float, object]]:
+    """(name, latitude, longitude, plan) of the site and every place of the area."""
+    site = plan.site
+    out = []
+    if site.latitude_deg is not None and site.longitude_deg is not None:
+        out.append((f"site ({site.latitude_deg:g}, {site.longitude_deg:g})", site.latitude_deg,
+                    site.longitude_deg, plan))
+    for name, latitude, longitude in site.places:
+        out.append((name, latitude, longitude, plan_at(plan, latitude, longitude)))
+    return out
+
+
+def _figures(place):
+    """(sensor, figure, value, unit) of one place's result."""
+    out = []
+    for result in place.analysis.sensors:
+        used = [s for s in result.states if s.used] or list(result.states)
+        name = result.sensor.name
+        if result.sensor.kind == TOTAL_FIELD_KIND:
+            out.append((name, "total-field error", max(s.total_field_error_t for s in used) * 1e9,
+                        "nT"))
+        else:
+            out.append((name, "held figure", max(s.budget_used_deg for s in used), "deg"))
+    for report in place.reports:
+        if report.grade is None:
+            continue
+        name = report.sensor.name
+        used = [s for s in report.states if s.used] or list(report.states)
+        out.append((name, "interference share of F", report.grade.fraction * 100, "%"))
+        if report.compensation is not None:
+            out.append((name, "deviation after compensation",
+                        max(s.compensated_deg for s in used), "deg"))
+        out.append((name, "inclination vs model", max(s.inclination_departure_deg for s in used),
+                    "deg"))
+    return out
+
+
+def area_check(plan) -> AreaResult:
+    """Check the plan at the site and at every place of its area.
+
+    Raises
+    ------
+    DeviationError
+        When the plan names no place (neither latitude and longitude nor place rows).
+    """
+    from .api import check
+    from .electronic import electronic_report
+
+    listed = places_of(plan)
+    if not listed:
+        raise DeviationError("the plan names no place: give the site's latitude and longitude, "
+                             "and the other places of the area as place rows (value: latitude, "
+                             "longitude; note: its name) in the site sheet")
+    places = []
+    for name, latitude, longitude, moved in listed:
+        analysis = check(moved, remedies=False)
+        places.append(PlaceResult(name, latitude, longitude, analysis.site, analysis,
+                                  electronic_report(analysis), analysis.within_budget))
+    worst = {}
+    for place in places:
+        for sensor, figure, value, unit in _figures(place):
+            key = (sensor, figure)
+            if key not in worst or value > worst[key][0]:
+                worst[key] = (value, unit, place.name)
+    within_sensor = {s.sensor.name: all(p.analysis.sensor(s.sensor.name).within_budget
+                                        for p in places) for s in places[0].analysis.sensors}
+    rows = tuple(Worst(sensor, figure, value, unit, where, within_sensor[sensor])
+                 for (sensor, figure), (value, unit, where) in worst.items())
+    verdicts = {p.within_budget for p in places}
+    return AreaResult(plan, tuple(places), rows, len(verdicts) > 1, all(verdicts))

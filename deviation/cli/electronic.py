@@ -1,0 +1,41 @@
+"""``deviation electronic``: grading, compensation residual and model checks of electronic
+sensors, and the total-field error of scalar magnetometers."""
+
+from __future__ import annotations
+
+import sys
+
+from . import console_for, echo_json, json_option, library_errors, main, plan_argument, width_option
+from .per_amp import canonical_unit, electronic_reports, sensor_option, unit_option
+
+
+@main.command("electronic")
+@plan_argument
+@sensor_option
+@unit_option
+@json_option
+@width_option
+@library_errors
+def electronic(plan, sensor_name, unit, as_json, width):
+    """How an electronic compass or magnetometer fares: the interference at full current as a
+    share of the Earth's field, graded acceptable (under 30 %), marginal (30-60 %) or move
+    (over 60 %); what current compensation from the measured currents leaves in each state,
+    in degrees and % of F; and whether the field the sensor sees passes the check against the
+    model (total field and inclination) that flight controllers make before arming. For a
+    total-field magnetometer: its total-field error in nT over headings and attitude, and its
+    heading peak to peak, against budget_nt.
+
+    Exit status: 0 no sensor graded "move", every model check passed and every total-field
+    magnetometer within budget in the states it is used in; 1 otherwise; 2 the plan or the
+    command line is wrong.
+    """
+    from ..electronic import is_acceptable
+    from ..render.electronic import electronic_json, render_electronic
+
+    unit = canonical_unit(unit)
+    analysis, reports = electronic_reports(plan, sensor_name)
+    if as_json:
+        echo_json(electronic_json(analysis, reports, unit))
+    else:
+        render_electronic(analysis, reports, console_for(width), unit)
+    sys.exit(0 if all(is_acceptable(r) for r in reports) else 1)

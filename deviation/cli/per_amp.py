@@ -1,0 +1,87 @@
+"""``deviation per-amp``: each circuit's field per ampere at the electronic sensors."""
+
+from __future__ import annotations
+
+import click
+
+from . import (
+    CommandProblem,
+    console_for,
+    echo_json,
+    json_option,
+    library_errors,
+    main,
+    plan_argument,
+    width_option,
+)
+
+#: The field units the electronic-sensor commands print (constants.FIELD_UNITS_T).
+unit_option = click.option("--unit", "unit", type=click.Choice(["uT", "nT", "mG"],
+                                                               case_sensitive=False),
+                           default="uT", show_default=True,
+                           help="Field unit of the printed vectors: uT (microtesla), nT or mG "
+                                "(milligauss, 1 mG = 0.1 uT).")
+sensor_option = click.option("--sensor", "sensor_name", default=None,
+                             help="Only this sensor (default: every electronic sensor).")
+
+
+def canonical_unit(unit):
+    return {"ut": "uT", "nt": "nT", "mg": "mG"}[unit.lower()]
+
+
+def electronic_reports(plan, sensor_name):
+    """Read and check the plan; its electronic sensors' figures (a CommandProblem if none)."""
+    from .. import api
+    from ..electronic import ELECTRONIC_KINDS, electronic_report
+
+    the_plan = api.read_plan(plan)
+    analysis = api.check(the_plan, remedies=False)
+    reports = electronic_report(analysis, sensor_name)
+    if not reports:
+        which = f'"{sensor_name}" is not' if sensor_name else "the plan has no sensor that is"
+        raise CommandProblem(f"{which} an electronic sensor ({', '.join(ELECTRONIC_KINDS)})")
+    return analysis, reports
+
+
+@main.command("per-amp")
+@plan_argument
+@sensor_option
+@unit_option
+@click.option("--csv", "csv_path", type=click.Path(dir_okay=False),
+              help="Also write the table as FILE.csv (columns in docs/electronic-sensors.md).")
+@json_option
+@width_option
+@library_errors
+def per_amp(plan, sensor_name, unit, csv_path, as_json, width):
+    """Each circuit's field per ampere at every electronic compass and magnetometer, in the
+    vessel's axes and the sensor's own (its axes column), and the current compensation its
+    host would learn from the currents it measures (its measured_currents column).
+
+    The vectors are what a linear current-compensation setting takes: per ampere of a circuit,
+    or of a measured current. For a total-field magnetometer the change of its reading per
+    ampere (nT/A) over headings and attitudes is given too.
+
+    Exit status: 0 the table was made (and written), 2 the plan or the command line is wrong.
+    """
+    from ..render.electronic import per_ampere_csv, per_ampere_json, render_per_ampere
+
+    unit = canonical_unit(unit)
+    if csv_path:
+        from ..files import check_output
+
+        check_output(csv_path, plan)
+    analysis, reports = electronic_reports(plan, sensor_name)
+    if csv_path:
+        from pathlib import Path
+
+        from ..files import write_atomically
+
+        text = per_ampere_csv(reports, unit)
+        write_atomically(Path(csv_path), lambda temporary: Path(temporary).write_text(
+            text, encoding="utf-8"))
+    if as_json:
+        echo_json(per_ampere_json(analysis, reports, unit))
+        return
+    render_per_ampere(analysis, reports, console_for(width), unit)
+    if csv_path:
+        click.echo(f"Table written to {csv_path}")

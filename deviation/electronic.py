@@ -1,0 +1,528 @@
+"""Electronic compasses and magnetometers: the figures their integrators work with.
+
+Pure computation over a plan and its checked result (:func:`deviation.check`):
+
+* the sensor's mounting axes (:func:`parse_axes`), so vectors can be given in its own axes;
+* each circuit's field per ampere at the sensor (:func:`per_ampere_rows`), the vector a
+  current-compensation setting takes;
+* the compensation a host that measures some currents would learn (:func:`fit_compensation`)
+  and the residual it leaves in each state, in degrees and in % of F;
+* the grade of the interference at full current as a share of the Earth's field
+  (:func:`interference_grade`);
+* the field and inclination the sensor sees against the model's (the check a flight controller
+  makes before arming);
+* total-field (scalar) magnetometers: the change of the reading per ampere.
+
+Frames as in :mod:`deviation.heading`: vessel x forward, y to port, z up.
+"""
+
+from __future__ import annotations
+
+import difflib
+import re
+from dataclasses import dataclass
+
+import numpy as np
+
+from .budget import asin_deg, equipment_fields, sensor_field_parts
+from .constants import (
+    INTERFERENCE_ACCEPTABLE_FRACTION,
+    INTERFERENCE_MOVE_FRACTION,
+    MAX_SWITCHINGS_ENUMERATED,
+    MODEL_FIELD_TOLERANCE_T,
+    MODEL_INCLINATION_TOLERANCE_DEG,
+)
+from .plan import name_key
+from .schema import TOTAL_FIELD_KIND, VECTOR_ELECTRONIC_KINDS
+from .total_field import (
+    all_switchings,
+    candidate_switchings,
+    count_switchings,
+    first_order_range,
+    inclination_range_deg,
+    total_field_error_range,
+)
+from .worst_case import worst_combination
+
+#: Kinds this module reports on.
+ELECTRONIC_KINDS = VECTOR_ELECTRONIC_KINDS + (TOTAL_FIELD_KIND,)
+
+# Sensor axes -------------------------------------------------------------------------------------
+
+#: Named mounting orientations and the axes they stand for.
+NAMED_AXES = {
+    "forward left up": "x+ y+ z+",      # the vessel's own axes
+    "forward right down": "x+ y- z-",   # the aircraft body convention, mounted level, forward
+}
+_TOKEN = re.compile(r"^([+-]?)([xyz])([+-]?)$")
+_UNIT = {"x": 0, "y": 1, "z": 2}
+
+
+class AxesError(ValueError):
+    """An axes cell that does not describe a right-handed mounting; the message says why."""
+
+
+def _axes_text(rows):
+    return " ".join("xyz"[int(np.argmax(np.abs(r)))] + ("+" if r.max() > 0 else "-")
+                    for r in rows)
+
+
+def parse_axes(text: str) -> np.ndarray:
+    """The sensor's axes in the vessel frame from the notation of the axes column.
+
+    Parameters
+    ----------
+    text : str
+        Two or three signed vessel axes, the i-th naming the vessel axis the sensor's i-th axis
+        (x, y, z) points along, e.g. ``"x+ y-"``: its x forward (vessel +x), its y to starboard
+        (vessel -y), its z then x cross y (down). The sign may come first (``"+x -y"``); a
+        missing sign is +. Or a name of :data:`NAMED_AXES`.
+
+    Returns
+    -------
+    (3, 3) array
+        Rows are the sensor's x, y, z axes as unit vectors in the vessel frame, so a vector in
+        the sensor's axes is ``axes @ b_vessel``. A proper rotation (determinant +1).
+
+    Raises
+    ------
+    AxesError
+        Not two or three axes, an unknown axis, a vessel axis named twice, or three axes that
+        make a mirror image (not right-handed); the message suggests a correction where one is
+        clear.
+    """
+    words = " ".join(str(text).replace(",", " ").split()).lower()
+    if words in NAMED_AXES:
+        words = NAMED_AXES[words]
+    tokens = words.split()
+    close = difflib.get_close_matches(words, list(NAMED_AXES), n=1, cutoff=0.6)
+    hint = f'; did you mean "{close[0]}"?' if close else ""
+    if len(tokens) not in (2, 3) or (close and not all(_TOKEN.match(t) for t in tokens)):
+        raise AxesError(f'"{text}" is not a mounting: give two or three signed vessel axes, the '
+                        "sensor's x first (e.g. x+ y-), or one of "
+                        f'{", ".join(NAMED_AXES)}{hint}')
+    rows = []
+    for token in tokens:
+        match = _TOKEN.match(token)
+        if not match or (match.group(1) and match.group(3)):
+            raise AxesError(f'"{token}" is not a vessel axis: each is x, y or z with its sign, '
+                            "e.g. x+ or y-")
+        sign = -1.0 if "-" in (match.group(1) + match.group(3)) else 1.0
+        row = np.zeros(3)
+        row[_UNIT[match.group(2)]] = sign
+        rows.append(row)
+    letters = [_TOKEN.match(t).group(2) for t in tokens]
+    for letter in "xyz":
+        if letters.count(letter) > 1:
+            raise AxesError(f'"{text}" names the vessel axis {letter} twice: each of the '
+                            "sensor's axes lies along a different vessel axis")
+    third = np.cross(rows[0], rows[1])
+    if len(rows) == 3 and not np.allclose(rows[2], third):
+        fixed = _axes_text([rows[0], rows[1], third])
+        raise AxesError(f'"{text}" is not right-handed (a mirror image: its z is the wrong way '
+                        f'round); did you mean "{fixed}"?')
+    return np.array([rows[0], rows[1], third])
+
+
+def sensor_axes(sensor) -> np.ndarray:
+    """(3, 3) the sensor's axes in the vessel frame (the identity where none are given)."""
+    return np.eye(3) if sensor.axes is None else np.asarray(sensor.axes, dtype=float)
+
+
+# Per-ampere vectors ------------------------------------------------------------------------------
+
+@dataclass(frozen=True)
+class PerAmpere:
+    """One circuit's field per ampere at one sensor.
+
+    ``vessel_t_per_a`` and ``sensor_t_per_a`` (3,) [T/A] are the same vector in the vessel's
+    and the sensor's axes: the part of known direction (a pair whose lie is not fixed counts at
+    the centre of its lies). ``unknown_t_per_a`` [T/A] is the size of the part of unknown
+    direction: a pair's spread over the lies the plan leaves open (for a pair its field per
+    ampere is the centre plus or minus up to this), a twisted run's floor.
+    ``peak_current_a`` is the largest |current| the plan gives it.
+    For a total-field magnetometer ``total_field_per_a`` is (smallest, largest) change of the
+    reading per ampere over headings and attitudes [T/A], else None.
+    """
+
+    circuit: str
+    switching: str
+    vessel_t_per_a: np.ndarray
+    sensor_t_per_a: np.ndarray
+    peak_current_a: float
+    total_field_per_a: tuple[float, float] | None = None
+    unknown_t_per_a: float = 0.0      # size of the part of unknown direction [T/A]
+
+    @property
+    def size_t_per_a(self) -> float:
+        return float(np.linalg.norm(self.vessel_t_per_a))
+
+
+def circuit_fields_t(plan, unit_fields_t) -> np.ndarray:
+    """(C, 3) each circuit's field per ampere [T/A] from each run's, (R, 3) [T/A]."""
+    return plan.circuit_matrix.T @ np.asarray(unit_fields_t, dtype=float).reshape(-1, 3)
+
+
+def per_ampere_rows(plan, result, site) -> tuple[PerAmpere, ...]:
+    """Each circuit's field per ampere at the sensor of ``result`` (a SensorResult).
+
+    Notes
+    -----
+    A run's field is linear in its current (Biot-Savart), and a circuit's is the sum over the
+    runs that carry it; the vector per ampere is what a linear current compensation subtracts
+    per ampere of that circuit. For a scalar magnetometer the change of the reading per ampere
+    is, to first order in |b|/F, F-hat . C v, whose range over headings and attitudes is exact
+    (:func:`deviation.total_field.first_order_range`).
+    """
+    sensor = result.sensor
+    axes = sensor_axes(sensor)
+    fields = circuit_fields_t(plan, result.unit_fields_t)
+    parts = result.parts
+    unknown = plan.circuit_matrix.T @ (parts.bound_t[0] + np.linalg.norm(
+        parts.spread_t[0], axis=-1).sum(axis=-1))                            # (C,)
+    currents = plan.circuit_currents_a
+    rows = []
+    for c, circuit in enumerate(plan.circuits):
+        scalar = None
+        if sensor.kind == TOTAL_FIELD_KIND:
+            low, high = first_order_range(fields[c], site.horizontal_t, site.vertical_t,
+                                          sensor.max_heel_deg, sensor.max_pitch_deg)
+            scalar = (float(low), float(high))
+        rows.append(PerAmpere(circuit.name, circuit.switching, fields[c], axes @ fields[c],
+                              float(np.max(np.abs(currents[c]), initial=0.0)), scalar,
+                              float(unknown[c])))
+    return tuple(rows)
+
+
+# Compensation planning ---------------------------------------------------------------------------
+
+def measured_matrix(plan, measured) -> np.ndarray:
+    """(J, C) the measured currents as combinations of the circuits' currents.
+
+    ``("total",)`` is one channel summing every circuit's current (a battery-current sensor
+    where each circuit is a separate load on the battery); circuit names are one channel each.
+    """
+    names = [name_key(c.name) for c in plan.circuits]
+    if tuple(measured) == ("total",):
+        return np.ones((1, len(names)))
+    matrix = np.zeros((len(measured), len(names)))
+    for j, name in enumerate(measured):
+        matrix[j, names.index(name_key(name))] = 1.0
+    return matrix
+
+
+def _fit_switchings(reversing):
+    """The independent switchings the fit samples: every one up to the enumeration limit, else
+    all off, each alone (either way round where reversing) and all on."""
+    if count_switchings(reversing) <= MAX_SWITCHINGS_ENUMERATED:
+        return all_switchings(reversing), True
+    n = len(reversing)
+    rows = [np.zeros(n, dtype=int), np.ones(n, dtype=int)]
+    for i in range(n):
+        for sign in ((1, -1) if reversing[i] else (1,)):
+            row = np.zeros(n, dtype=int)
+            row[i] = sign
+            rows.append(row)
+    return np.array(rows), False
+
+
+@dataclass(frozen=True)
+class Compensation:
+    """The current compensation a sensor's host would learn from the plan's states.
+
+    measured : the measured channels, ("total",) or circuit names
+    coefficients_t_per_a : (J, 3) [T/A] field subtracted per ampere of each channel, vessel axes
+    sensor_coefficients_t_per_a : (J, 3) [T/A] the same in the sensor's axes
+    offset_t : (3,) [T] the constant it learns with them (zero with a reference state, where the
+        calibration fixes it)
+    residual_per_ampere_t : (C, 3) [T/A] what is left of each circuit's field per ampere
+    samples : number of (state, switching) samples fitted
+    exhaustive : every switching of the independent circuits was sampled
+    """
+
+    measured: tuple[str, ...]
+    coefficients_t_per_a: np.ndarray
+    sensor_coefficients_t_per_a: np.ndarray
+    offset_t: np.ndarray
+    residual_per_ampere_t: np.ndarray
+    samples: int
+    exhaustive: bool
+
+
+def _used_states(plan, sensor):
+    used = [k for k, s in enumerate(plan.state_names) if sensor.used_in_state(s)]
+    return used or list(range(len(plan.state_names)))
+
+
+def fit_compensation(plan, sensor, unit_fields_t, oriented_t=None) -> Compensation:
+    """Fit the linear current compensation the sensor's host would learn.
+
+    Parameters
+    ----------
+    plan : Plan
+    sensor : Sensor
+        With ``measured_currents``; its reference state, if any, is where it is calibrated.
+    unit_fields_t : (R, 3) [T/A]
+        Each run's field per ampere at the sensor (``SensorResult.unit_fields_t``).
+    oriented_t : (K, 3) [T] or None
+        Equipment of known orientation present in each state.
+
+    Returns
+    -------
+    Compensation
+
+    Notes
+    -----
+    The host subtracts :math:`K m` from its reading, m the measured currents. Fitted by least
+    squares over every state the sensor is used in, with the independent circuits in every
+    switching (each sample weighs the same): with a reference state the calibration there
+    fixes the constant, and the fit is :math:`\\min_K \\sum_s |(b_s - b_r) - K(m_s - m_r)|^2`;
+    without, a constant :math:`b_0` is fitted along, :math:`\\min \\sum_s |b_s - b_0 - K m_s|^2`.
+    With one circuit measured alone the fit is exact and the residual zero; several circuits
+    measured as one total leave what their different directions cannot share.
+
+    References
+    ----------
+    G. H. Golub and C. F. Van Loan, *Matrix Computations*, 4th ed., Johns Hopkins, 2013,
+    section 5.3 (the linear least-squares problem).
+    """
+    fields = circuit_fields_t(plan, unit_fields_t)                          # (C, 3)
+    measured = tuple(sensor.measured_currents)
+    channels = measured_matrix(plan, measured)                              # (J, C)
+    currents = plan.circuit_currents_a                                      # (C, K)
+    independent = plan.independent
+    reversing = np.array([c.reversing for c in plan.circuits if c.independent], dtype=bool)
+    oriented = np.zeros((len(plan.state_names), 3)) if oriented_t is None else oriented_t
+    switchings, exhaustive = _fit_switchings(reversing)
+    base = currents * ~independent[:, None]                                 # (C, K)
+    samples_i, samples_b = [], []
+    for k in _used_states(plan, sensor):
+        for choice in switchings:
+            current = base[:, k].copy()
+            current[independent] += choice * currents[independent, k]
+            samples_i.append(current)
+            samples_b.append(fields.T @ current + oriented[k])
+    amps = np.array(samples_i)                                              # (S, C)
+    field_s = np.array(samples_b)                                           # (S, 3)
+    m = amps @ channels.T                                                   # (S, J)
+    if sensor.reference_state is not None:
+        k_ref = plan.state_index(sensor.reference_state)
+        m_ref = channels @ base[:, k_ref]
+        b_ref = fields.T @ base[:, k_ref] + oriented[k_ref]
+        solution = np.linalg.lstsq(m - m_ref, field_s - b_ref, rcond=None)[0]      # (J, 3)
+        offset = np.zeros(3)
+    else:
+        design = np.hstack([m, np.ones((len(m), 1))])
+        both = np.linalg.lstsq(design, field_s, rcond=None)[0]
+        solution, offset = both[:-1], both[-1]
+    residual = fields - channels.T @ solution                               # (C, 3)
+    return Compensation(measured, solution, solution @ sensor_axes(sensor).T, offset, residual,
+                        len(amps), exhaustive)
+
+
+# Per-state figures -------------------------------------------------------------------------------
+
+@dataclass(frozen=True)
+class ElectronicState:
+    """An electronic sensor in one state. Fields [T], angles [deg], shares of F (0..1).
+
+    interference_t : the largest |b| (3-D) the wiring and equipment put at the sensor over the
+        independent switchings, after calibration in the reference state where it has one
+        (b - b_ref), before any current compensation; with every bound of unknown direction
+    compensated_horizontal_t, compensated_deg, compensated_fraction : what current compensation
+        leaves: the largest level horizontal part over switching and attitude and its deviation
+        asin(|b_h|/H), and the largest |b| as a share of F (None without measured currents)
+    field_departure_t : the largest | |F + b| - |F| | over headings, attitudes and switchings of
+        the field the host sees (calibrated, compensated where it measures currents)
+    inclination_departure_deg : the same for the inclination
+    model_ok : both within the pre-arming tolerances
+    unknown_t : the runs' parts of unknown direction in this state (pairs of unknown lie,
+        twisted floors): in interference_t, left out of the compensated figures
+    """
+
+    state: str
+    used: bool
+    interference_t: float
+    interference_fraction: float
+    compensated_horizontal_t: float | None
+    compensated_deg: float | None
+    compensated_fraction: float | None
+    field_departure_t: float
+    inclination_departure_deg: float
+    model_ok: bool
+    unknown_t: float = 0.0            # runs' parts of unknown direction, not in compensated_*
+
+
+@dataclass(frozen=True)
+class Grade:
+    """The interference at full current graded as "acceptable", "marginal" or "move"."""
+
+    grade: str
+    fraction: float
+    state: str
+
+
+def grade_of(fraction: float) -> str:
+    """Grade a share of the Earth's field (constants.INTERFERENCE_*; common practice in
+    open-source flight-controller documentation, from memory)."""
+    if fraction < INTERFERENCE_ACCEPTABLE_FRACTION:
+        return "acceptable"
+    if fraction <= INTERFERENCE_MOVE_FRACTION:
+        return "marginal"
+    return "move"
+
+
+@dataclass(frozen=True)
+class ElectronicSensor:
+    """The electronic-sensor figures of one sensor (see the module docstring)."""
+
+    sensor: object
+    per_ampere: tuple[PerAmpere, ...]
+    compensation: Compensation | None
+    grade: Grade | None                  # vector sensors only
+    states: tuple[ElectronicState, ...]  # vector sensors only
+    state_results: tuple                 # the check's StateResults (total-field figures)
+
+
+def _largest(base, vectors, reversing, heel, pitch):
+    """Largest level horizontal part (with heel and pitch) over the switchings, exactly."""
+    if vectors.shape[-2] == 0:
+        from .worst_case import horizontal_over_attitude
+
+        return horizontal_over_attitude(base, heel, pitch)
+    return worst_combination(base, vectors, reversing, heel, pitch)[0]
+
+
+def _departures(base, vectors, reversing, bound, site, heel, pitch):
+    """Largest departure of |F + b| and of the inclination from the model's, over headings,
+    attitudes and switchings (every switching up to the enumeration limit, else the sign-split
+    candidates), with a bound of unknown direction ``bound`` [T]."""
+    h, z = site.horizontal_t, site.vertical_t
+    total = site.total_t
+    choices, _ = candidate_switchings(vectors, reversing, MAX_SWITCHINGS_ENUMERATED)
+    fields = base[None, :] + choices @ vectors
+    low, high = total_field_error_range(fields, h, z, heel, pitch)
+    field = float(max(np.max(high), -np.min(low))) + bound
+    i_lo, i_hi = inclination_range_deg(fields, h, z, heel, pitch)
+    model = np.degrees(np.arctan2(z, h))
+    inclination = float(max(np.max(i_hi) - model, model - np.min(i_lo)))
+    size = float(np.max(np.linalg.norm(fields, axis=-1)))
+    # A field of unknown direction of size beta turns the sensor's field, at least F - |b|
+    # long, by at most asin(beta / (F - |b|)).
+    if bound > 0:
+        reach = total - size
+        inclination += 180.0 if reach <= 0 else float(np.degrees(np.arcsin(min(1.0,
+                                                                               bound / reach))))
+    return field, min(inclination, 180.0)
+
+
+def electronic_states(plan, result, site, compensation) -> tuple[ElectronicState, ...]:
+    """Interference, compensation residual and model departures of a vector sensor, per state.
+
+    Notes
+    -----
+    The field at the sensor is linear in the circuits' currents. After calibration in the
+    reference state it is b - b_ref; after compensation the host also subtracts K m (m the
+    measured currents, K from :func:`fit_compensation`), which leaves each circuit's residual
+    per ampere. The independent circuits' worst switching is exact
+    (:func:`deviation.worst_case.worst_combination`); the 3-D size uses it at pitch 90 degrees,
+    where the worst attitude makes the whole vector horizontal. Bounds of unknown direction
+    (pairs of unknown lie, twisted floors, equipment of unknown orientation) add to the
+    uncompensated sizes; the compensated figures add only the equipment's, since the host learns
+    the real field of a run whatever its lie.
+    """
+    sensor = result.sensor
+    heel, pitch = sensor.max_heel_deg, sensor.max_pitch_deg
+    h, total = site.horizontal_t, site.total_t
+    items = equipment_fields(plan, sensor, sensor.position_m[None, :], h)
+    base, switched, reversing, bound = sensor_field_parts(plan, sensor, result.parts, items)
+    base, switched, bound = base[0], switched[0], bound[0]
+    item_bound = (items.bound if sensor.reference_state is None else items.changing)[0]
+    residual_base = residual_switched = None
+    if compensation is not None:
+        currents = plan.circuit_currents_a
+        independent = plan.independent
+        residual = compensation.residual_per_ampere_t                      # (C, 3)
+        channels = measured_matrix(plan, compensation.measured)
+        fields = circuit_fields_t(plan, result.unit_fields_t)
+        on_base = currents * ~independent[:, None]                          # (C, K)
+        oriented = items.oriented[0]                                        # (K, 3)
+        if sensor.reference_state is not None:
+            k_ref = plan.state_index(sensor.reference_state)
+            anchor = (fields.T @ on_base[:, k_ref] + oriented[k_ref]
+                      - compensation.coefficients_t_per_a.T @ (channels @ on_base[:, k_ref]))
+        else:
+            anchor = compensation.offset_t
+        residual_base = (residual.T @ on_base).T + oriented - anchor[None, :]   # (K, 3)
+        residual_switched = (residual[independent][None, :, :]
+                             * currents[independent].T[:, :, None])          # (K, Ci, 3)
+    out = []
+    for k, state in enumerate(plan.state_names):
+        size = float(_largest(base[k], switched[k], reversing, 0.0, 90.0)) + bound[k]
+        c_h = c_deg = c_fraction = None
+        seen_base, seen_switched, seen_bound = base[k], switched[k], bound[k]
+        if compensation is not None:
+            c_h = float(_largest(residual_base[k], residual_switched[k], reversing, heel,
+                                 pitch)) + item_bound[k]
+            c_deg = float(asin_deg(c_h / h))
+            c_3d = float(_largest(residual_base[k], residual_switched[k], reversing, 0.0,
+                                  90.0)) + item_bound[k]
+            c_fraction = c_3d / total
+            seen_base, seen_switched, seen_bound = (residual_base[k], residual_switched[k],
+                                                    item_bound[k])
+        field, inclination = _departures(seen_base, seen_switched, reversing,
+                                         float(seen_bound), site, heel, pitch)
+        ok = field <= MODEL_FIELD_TOLERANCE_T and inclination <= MODEL_INCLINATION_TOLERANCE_DEG
+        size = float(size)
+        out.append(ElectronicState(state, sensor.used_in_state(state), size, size / total, c_h,
+                                   c_deg, c_fraction, field, inclination, ok,
+                                   float(bound[k] - item_bound[k])))
+    return tuple(out)
+
+
+def interference_grade(states) -> Grade | None:
+    """The grade of the largest interference over the states the sensor is used in."""
+    used = [s for s in states if s.used] or list(states)
+    if not used:
+        return None
+    worst = max(used, key=lambda s: s.interference_fraction)
+    fraction = float(worst.interference_fraction)
+    return Grade(grade_of(fraction), fraction, worst.state)
+
+
+def electronic_sensor(analysis, result) -> ElectronicSensor:
+    """Every electronic-sensor figure of one SensorResult of a checked plan."""
+    plan, site = analysis.plan, analysis.site
+    sensor = result.sensor
+    rows = per_ampere_rows(plan, result, site)
+    if sensor.kind == TOTAL_FIELD_KIND:
+        return ElectronicSensor(sensor, rows, None, None, (), result.states)
+    compensation = None
+    if sensor.measured_currents:
+        items = equipment_fields(plan, sensor, sensor.position_m[None, :], site.horizontal_t)
+        compensation = fit_compensation(plan, sensor, result.unit_fields_t, items.oriented[0])
+    states = electronic_states(plan, result, site, compensation)
+    return ElectronicSensor(sensor, rows, compensation, interference_grade(states), states,
+                            result.states)
+
+
+def electronic_report(analysis, sensor_name: str | None = None) -> tuple[ElectronicSensor, ...]:
+    """The electronic-sensor figures of every electronic sensor of a checked plan (or one)."""
+    wanted = None if sensor_name is None else analysis.plan.sensor(sensor_name)
+    return tuple(electronic_sensor(analysis, r) for r in analysis.sensors
+                 if r.sensor.kind in ELECTRONIC_KINDS and (wanted is None or r.sensor is wanted))
+
+
+def is_acceptable(report: ElectronicSensor) -> bool:
+    """No "move" grade, every used state within the model tolerances, and for a total-field
+    magnetometer every used state within budget_nt."""
+    if report.sensor.kind == TOTAL_FIELD_KIND:
+        return all(s.within_budget for s in report.state_results if s.used)
+    return (report.grade is None or report.grade.grade != "move") and all(
+        s.model_ok for s in report.states if s.used)
+
+
+__all__ = ["AxesError", "Compensation", "ElectronicSensor", "ElectronicState", "Grade",
+           "PerAmpere", "circuit_fields_t", "electronic_report", "electronic_sensor",
+           "electronic_states", "fit_compensation", "grade_of", "interference_grade",
+           "is_acceptable", "measured_matrix", "parse_axes", "per_ampere_rows", "sensor_axes"]
