@@ -12,6 +12,35 @@ from numba import njit, prange
 _TILE = 512
 
 
+@njit(inline="always", fastmath=False)
+def _pair(sx, sy, sz, ex, ey, ez, r2, r2l2, px, py, pz):  # pragma: no cover
+    """One segment at one observer: the unit-current field without mu0/4pi, and whether the
+    observer lies inside the conductor (then the field is 0)."""
+    ax = sx - px
+    ay = sy - py
+    az = sz - pz
+    bx = ex - px
+    by = ey - py
+    bz = ez - pz
+    cx = ay * bz - az * by
+    cy = az * bx - ax * bz
+    cz = ax * by - ay * bx
+    a2 = ax * ax + ay * ay + az * az
+    b2 = bx * bx + by * by + bz * bz
+    dot = ax * bx + ay * by + az * bz
+    c2 = cx * cx + cy * cy + cz * cz
+    na = np.sqrt(a2)
+    nb = np.sqrt(b2)
+    nanb = na * nb
+    positive = dot >= 0.0
+    num = (na + nb) * (1.0 if positive else nanb - dot)
+    den = nanb * (nanb + dot if positive else c2)
+    near2 = min(a2, b2)
+    bad = (near2 <= r2) or ((dot < near2) and (c2 <= r2l2))
+    f = 0.0 if bad else num / den
+    return cx * f, cy * f, cz * f, bad
+
+
 @njit(parallel=True, cache=True, fastmath=False, boundscheck=False)
 def _kernel(start, end, current, radius2, length2, points, field, inside):  # pragma: no cover
     n_points = points.shape[0]
@@ -43,32 +72,9 @@ def _kernel(start, end, current, radius2, length2, points, field, inside):  # pr
             r2 = radius2[s]
             r2l2 = r2 * length2[s]
             for j in range(n):
-                ax = sx - px[j]
-                ay = sy - py[j]
-                az = sz - pz[j]
-                bx = ex - px[j]
-                by = ey - py[j]
-                bz = ez - pz[j]
-                cx = ay * bz - az * by
-                cy = az * bx - ax * bz
-                cz = ax * by - ay * bx
-                a2 = ax * ax + ay * ay + az * az
-                b2 = bx * bx + by * by + bz * bz
-                dot = ax * bx + ay * by + az * bz
-                c2 = cx * cx + cy * cy + cz * cz
-                na = np.sqrt(a2)
-                nb = np.sqrt(b2)
-                nanb = na * nb
-                positive = dot >= 0.0
-                num = (na + nb) * (1.0 if positive else nanb - dot)
-                den = nanb * (nanb + dot if positive else c2)
-                near2 = min(a2, b2)
-                bad = (near2 <= r2) or ((dot < near2) and (c2 <= r2l2))
-                f = 0.0 if bad else num / den
+                gx[j], gy[j], gz[j], bad = _pair(sx, sy, sz, ex, ey, ez, r2, r2l2,
+                                                 px[j], py[j], pz[j])
                 hit[j] = max(hit[j], 1.0 if bad else 0.0)
-                gx[j] = cx * f
-                gy[j] = cy * f
-                gz[j] = cz * f
             for k in range(n_states):
                 ik = current[s, k]
                 for j in range(n):
@@ -136,32 +142,11 @@ def _group_kernel(start, end, weight, group, radius2, length2, points, field,
             r2l2 = r2 * length2[s]
             w = weight[s]
             for j in range(n):
-                ax = sx - px[j]
-                ay = sy - py[j]
-                az = sz - pz[j]
-                bx = ex - px[j]
-                by = ey - py[j]
-                bz = ez - pz[j]
-                cx = ay * bz - az * by
-                cy = az * bx - ax * bz
-                cz = ax * by - ay * bx
-                a2 = ax * ax + ay * ay + az * az
-                b2 = bx * bx + by * by + bz * bz
-                dot = ax * bx + ay * by + az * bz
-                c2 = cx * cx + cy * cy + cz * cz
-                na = np.sqrt(a2)
-                nb = np.sqrt(b2)
-                nanb = na * nb
-                positive = dot >= 0.0
-                num = (na + nb) * (1.0 if positive else nanb - dot)
-                den = nanb * (nanb + dot if positive else c2)
-                near2 = min(a2, b2)
-                bad = (near2 <= r2) or ((dot < near2) and (c2 <= r2l2))
-                f = 0.0 if bad else num / den * w
+                gx, gy, gz, bad = _pair(sx, sy, sz, ex, ey, ez, r2, r2l2, px[j], py[j], pz[j])
                 hit[j] = max(hit[j], 1.0 if bad else 0.0)
-                acc[0, j] += cx * f
-                acc[1, j] += cy * f
-                acc[2, j] += cz * f
+                acc[0, j] += gx * w
+                acc[1, j] += gy * w
+                acc[2, j] += gz * w
 
 
 def segment_field_by_group(start, end, weight, group, radius2, length2, points, field, inside):

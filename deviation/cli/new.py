@@ -16,7 +16,7 @@ from . import CommandProblem, library_errors, main
 @click.option("--force", is_flag=True, help="Overwrite PLAN if it exists.")
 @click.option("--from", "source", type=click.Path(), default=None,
               help="Instead of a blank plan, write this plan (e.g. a folder of .csv sheets) as a "
-                   "workbook, lengths in metres.")
+                   "workbook, in its own units, names and notes.")
 @library_errors
 def new(plan, units, force, source):
     """Write a blank plan workbook with every sheet, worked examples and drop-down lists."""
