@@ -14,9 +14,9 @@ import re
 from pathlib import Path
 
 from .. import __version__
+from ..budget import OVERWHELMED_DEG
 from ..card import cards
 from ..files import check_output, write_atomically
-from ..budget import OVERWHELMED_DEG
 from ..units import LENGTH_UNITS
 from . import view, words
 from .words import CAUTIONS, degrees
