@@ -570,13 +570,10 @@ def _read_points(sheet, unit, collector):
     points = _Points()
     if sheet is None or not _check_columns(sheet, collector):
         return points
+    seen = set()
     for number, row in sheet.rows:
-        name = row.get("point")
+        name = _unique_name(row, "point", "point", seen, collector, "points", number)
         if name is None:
-            collector.add("points", number, "point", "the point has no name")
-            continue
-        if key(name) in points or key(name) in points.bad:
-            collector.add("points", number, "point", f'"{name}" is named twice')
             continue
         coords = []
         for axis in ("x", "y", "z"):
@@ -611,13 +608,10 @@ def _read_states(sheet, collector):
         collector.add("states", None, None, "no operating states: add a column per state "
                       "(e.g. harbour, night motoring) holding each circuit's current in A")
     currents, names, details = {}, {}, {}
+    seen = set()
     for number, row in sheet.rows:
-        circuit = row.get("circuit")
+        circuit = _unique_name(row, "circuit", "circuit", seen, collector, "states", number)
         if circuit is None:
-            collector.add("states", number, "circuit", "the circuit has no name")
-            continue
-        if key(circuit) in currents:
-            collector.add("states", number, "circuit", f'"{circuit}" is listed twice')
             continue
         values = []
         for col, label in sheet.state_columns:
@@ -631,6 +625,22 @@ def _read_states(sheet, collector):
                             number, "switching", "a way of switching")
         details[key(circuit)] = (switching, str(row.get("note") or ""), number)
     return currents, states, names, details
+
+
+def _unique_name(row, column, what, seen, collector, sheet, number):
+    """The row's name in ``column``, or None with a finding when it is blank or taken already.
+
+    ``seen`` holds the keys of the names met so far in the sheet; the name is added to it.
+    """
+    name = row.get(column)
+    if name is None:
+        collector.add(sheet, number, column, f"the {what} has no name")
+        return None
+    if key(name) in seen:
+        collector.add(sheet, number, column, f'"{name}" is named twice')
+        return None
+    seen.add(key(name))
+    return str(name)
 
 
 def _choice(value, choices, default, collector, sheet, row, column, what):
@@ -660,14 +670,8 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
     total_segments = 0
     for number, row in sheet.rows:
         bad = len(collector.findings)
-        name = row.get("run")
-        if name is None:
-            collector.add("runs", number, "run", "the run has no name")
-            name = f"row {number}"
-        elif key(name) in seen:
-            collector.add("runs", number, "run", f'"{name}" is named twice')
-        seen.add(key(name))
-        name = str(name)
+        name = (_unique_name(row, "run", "run", seen, collector, "runs", number)
+                or str(row.get("run") or f"row {number}"))
 
         route = _route(row.get("route"), points, site.units, collector, number, "route")
         kind = row.get("return")
@@ -871,12 +875,7 @@ def _read_sensors(sheet, site, points, states, collector):
     seen = set()
     for number, row in sheet.rows:
         bad = len(collector.findings)
-        name = row.get("sensor")
-        if name is None:
-            collector.add("sensors", number, "sensor", "the sensor has no name")
-        elif key(name) in seen:
-            collector.add("sensors", number, "sensor", f'"{name}" is named twice')
-        seen.add(key(name) if name else None)
+        name = _unique_name(row, "sensor", "sensor", seen, collector, "sensors", number)
         position = None
         if row.get("at") is None:
             collector.add("sensors", number, "at", "where is it? give a point name or x, y, z")
@@ -1111,12 +1110,7 @@ def _read_volumes(sheet, site, points, sensors, collector):
     seen = set()
     for number, row in sheet.rows:
         bad = len(collector.findings)
-        name = row.get("volume")
-        if name is None:
-            collector.add("volumes", number, "volume", "the volume has no name")
-        elif key(name) in seen:
-            collector.add("volumes", number, "volume", f'"{name}" is named twice')
-        seen.add(key(name) if name else None)
+        name = _unique_name(row, "volume", "volume", seen, collector, "volumes", number)
         kind = None
         if row.get("kind") is None:
             collector.add("volumes", number, "kind", "say mount in (spots only inside it) or keep "
