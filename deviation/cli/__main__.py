@@ -1,0 +1,5 @@
+"""``python -m deviation.cli``: the command line."""
+
+from . import main
+
+main()
