@@ -505,3 +505,21 @@ def test_per_amp_on_a_plan_without_electronic_sensors_says_so(plan_dir):
     result = run("per-amp", plan_dir(straight_wire_plan()))
     assert result.exit_code == 2
     assert "no sensor that is an electronic sensor" in result.output
+
+
+def test_the_xlsx_report_carries_the_per_ampere_table(tmp_path):
+    # The same rows as `per-amp --csv`, in a sheet of the report.
+    import openpyxl
+    from click.testing import CliRunner
+
+    from deviation.cli import main
+
+    path = tmp_path / "r.xlsx"
+    CliRunner().invoke(main, ["check", str(SAMPLES / "survey_drone"), "--report", str(path)])
+    sheet = openpyxl.load_workbook(path)["per ampere"]
+    table = tmp_path / "per-amp.csv"
+    CliRunner().invoke(main, ["per-amp", str(SAMPLES / "survey_drone"), "--csv", str(table)])
+    csv_text = table.read_text()
+    header = csv_text.splitlines()[0].split(",")
+    assert [c.value for c in sheet[1]] == header
+    assert sheet.max_row == len(csv_text.strip().splitlines())

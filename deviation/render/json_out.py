@@ -147,6 +147,8 @@ def analysis_json(analysis):
             "fix_set": fix_set_json(s.fixes, plan.site.units),
         } for s in analysis.sensors],
         "findings": [finding_json(f) for f in analysis.findings],
+        "skipped_examples": [{"sheet": sheet, "row": row}
+                             for sheet, row in plan.skipped_examples],
         "cautions": list(CAUTIONS),
     }
 

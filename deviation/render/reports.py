@@ -255,6 +255,19 @@ def _xlsx(analysis):
             put(site_sheet, r, c, v, "0.000" if isinstance(v, float) else None)
     widths(site_sheet, {"A": 28, "B": 14, "C": 8})
 
+    from ..electronic import electronic_report
+    from .electronic import CSV_COLUMNS, per_ampere_records
+
+    reports = electronic_report(analysis)
+    if reports:                      # the per-ampere table, to key into a compensation setting
+        amps = book.create_sheet(_sheet_name("per ampere", taken))
+        header(amps, 1, list(CSV_COLUMNS))
+        for r, record in enumerate(per_ampere_records(reports, "uT"), start=2):
+            for c, column in enumerate(CSV_COLUMNS, start=1):
+                put(amps, r, c, record.get(column),
+                    "0.000000" if isinstance(record.get(column), float) else None)
+        amps.freeze_panes = "A2"
+
     caution_sheet = book.create_sheet(_sheet_name("cautions", taken))
     put(caution_sheet, 1, 1, "Cautions", font=title_font)
     for r, caution in enumerate(CAUTIONS, start=2):
