@@ -38,8 +38,12 @@ SPOT_BOX_HALF_M = 0.5
 #: kept free covers that at the distances clearances come out at).
 CLEARANCE_MARGIN = 0.8
 #: Runs considered for the set of fixes: those using at least this share of the budget in a
-#: state the sensor is used in.
+#: state the sensor is used in, the FIX_SET_RUNS largest of them; clearances are tried for the
+#: FIX_SET_CLEARANCE_RUNS largest; a set stops after MAX_FIX_STEPS changes.
 FIX_SET_SHARE = 0.01
+FIX_SET_RUNS = 12
+FIX_SET_CLEARANCE_RUNS = 4
+MAX_FIX_STEPS = 8
 
 #: Kinds of remedy (the renderers' words for each live in render/words.py).
 REMEDY_KINDS = ("pair", "twist", "clearance", "no single fix", "move sensor")
@@ -362,11 +366,12 @@ class FixSet:
 def fix_set(analysis, result) -> FixSet:
     """The shortest set of rerouting changes found to bring a sensor within budget.
 
-    Greedy, checking every alternative at each step: each candidate (pairing or twisting a run,
-    or, to finish, the clearance that brings the sensor to CLEARANCE_MARGIN of its budget) is
-    evaluated in the full budget (every state the sensor is used in, heel and pitch, the worst
-    switching of independent circuits, with the changes already chosen) and the one that leaves
-    the smallest held figure is taken. One change per run.
+    Greedy over the FIX_SET_RUNS largest culprits, checking every alternative at each step:
+    each candidate (pairing or twisting a run, or, to finish, the clearance that brings the
+    sensor to CLEARANCE_MARGIN of its budget) is evaluated in the full budget (every state the
+    sensor is used in, heel and pitch, the worst switching of independent circuits, with the
+    changes already chosen), and the one that leaves the smallest held figure is taken. One
+    change per run.
     """
     sensor = result.sensor
     plan = analysis.plan
@@ -376,9 +381,14 @@ def fix_set(analysis, result) -> FixSet:
     if result.within_budget:
         return FixSet(before, (), True)
     used = [st for st in result.states if st.used]
-    runs = [i for i, run in enumerate(plan.runs) if any(
-        c.name == run.name and c.share_of_budget >= FIX_SET_SHARE
-        for st in used for c in st.runs)]
+    largest = {}
+    for st in used:
+        for c in st.runs:
+            largest[c.name] = max(largest.get(c.name, 0.0), c.share_of_budget)
+    by_name = {run.name: i for i, run in enumerate(plan.runs)}
+    ranked = sorted((name for name, share in largest.items() if share >= FIX_SET_SHARE),
+                    key=lambda name: (-largest[name], name))[:FIX_SET_RUNS]
+    runs = [by_name[name] for name in ranked]
     changed, steps, figure = {}, [], before
     target = sensor.budget_deg * CLEARANCE_MARGIN
 
@@ -398,9 +408,7 @@ def fix_set(analysis, result) -> FixSet:
                                 FixStep(kind, run.name, held, within, spacing, size, lay)))
         if not any(option[0] for option in options):
             # No pairing or twist finishes it: a clearance may, with the margin kept free.
-            for r in runs:
-                if r in changed:
-                    continue
+            for r in [r for r in runs if r not in changed][:FIX_SET_CLEARANCE_RUNS]:
                 solved = _solve_clearance(evaluator, r, plan.runs[r], held_of, target, changed)
                 if solved is not None:
                     held, nearest, moved = solved
@@ -419,6 +427,8 @@ def fix_set(analysis, result) -> FixSet:
         figure = held
         if within:
             return FixSet(before, tuple(steps), True)
+        if len(steps) == MAX_FIX_STEPS:
+            return FixSet(before, tuple(steps), False)
 
 
 def with_remedies(analysis):

@@ -177,7 +177,7 @@ def fix_set_lines(fixes, unit_system) -> list[str]:
                      f"{with_degree_sign(step.after_deg)}"
                      + (" (within budget)" if step.within_after else ""))
     if not fixes.reaches_budget:
-        lines.append("no combination of rerouting fixes it; move the sensor")
+        lines.append("no combination of rerouting the largest culprits fixes it; move the sensor")
     return lines
 
 
