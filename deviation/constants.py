@@ -28,10 +28,6 @@ SAFE_DISTANCE_DEG_UT = {"standard": 5.4, "steering": 18.0}
 #: items of unknown safe distance kept at least this far away [m].
 ISO25862_BIPOLAR_RADIUS_M = 5.0
 
-#: Magnetometer practice (common practice, no source): a disturbance above this fraction of the
-#: Earth's total field means the sensor should move.
-MAGNETOMETER_MAX_FRACTION = 0.30
-
 #: Common practice, no source: keep high-current DC cables about this far from a heading sensor [m].
 PRACTICE_CLEARANCE_M = 1.0
 

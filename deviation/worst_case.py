@@ -366,7 +366,7 @@ def worst_combination(base, vectors, reversing=None, max_heel_deg=0.0, max_pitch
     ----------
     R. T. Rockafellar, *Convex Analysis*, Princeton University Press, 1970, section 32 (the
     maximum of a convex function over a polytope is at an extreme point).
-    G. M. Ziegler, *Lectures on Polytopes*, Springer, 1995, lecture 7 (zonotopes, their vertices
+    G. M. Ziegler, *Lectures on Polytopes*, Springer, 1995, chapter 7 (zonotopes, their vertices
     and the dual hyperplane arrangement).
     """
     vectors = np.asarray(vectors, dtype=float)
