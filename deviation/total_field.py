@@ -235,12 +235,12 @@ def sign_split_switchings(vectors, reversing):
     their sign and leaves i, j free (four patterns), and the all-parallel case gives two more.
     Both w and -w are listed, so the list serves the largest and the smallest figure alike.
     Circuits lying in a vertex's plane (more than two coplanar) are left off there: a degenerate
-    case where the list may miss a pattern (Ziegler 1995, chapter 7).
+    case where the list may miss a pattern (Edelsbrunner 1987).
 
     References
     ----------
-    G. M. Ziegler, *Lectures on Polytopes*, Springer, 1995, chapter 7 (zonotopes, their vertices
-    and the dual hyperplane arrangement).
+    H. Edelsbrunner, *Algorithms in Combinatorial Geometry*, Springer, 1987 (zonotopes, their
+    vertices and the dual arrangement of hyperplanes; from memory, no chapter given).
     """
     v = np.asarray(vectors, dtype=float)
     rev = np.asarray(reversing, dtype=bool)

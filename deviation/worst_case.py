@@ -366,8 +366,8 @@ def worst_combination(base, vectors, reversing=None, max_heel_deg=0.0, max_pitch
     ----------
     R. T. Rockafellar, *Convex Analysis*, Princeton University Press, 1970, section 32 (the
     maximum of a convex function over a polytope is at an extreme point).
-    G. M. Ziegler, *Lectures on Polytopes*, Springer, 1995, chapter 7 (zonotopes, their vertices
-    and the dual hyperplane arrangement).
+    H. Edelsbrunner, *Algorithms in Combinatorial Geometry*, Springer, 1987 (zonotopes, their
+    vertices and the dual arrangement of hyperplanes; from memory, no chapter given).
     """
     vectors = np.asarray(vectors, dtype=float)
     base = np.asarray(base, dtype=float)
