@@ -17,7 +17,7 @@ import time
 
 import numpy as np
 
-from deviation.worst_case import horizontal_over_attitude, worst_combination
+from deviation.physics.worst_case import horizontal_over_attitude, worst_combination
 
 
 def timed(function, repeat):

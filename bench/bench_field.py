@@ -46,7 +46,7 @@ def main():
                         help="observers given to magpylib (default: all)")
     args = parser.parse_args()
 
-    from deviation.field import segment_field
+    from deviation.physics.field import segment_field
 
     per_run = 100
     n_runs = max(1, args.segments // per_run)

@@ -30,7 +30,7 @@ def main():
 
     from deviation import spot
     from deviation.analysis import analyse
-    from deviation.field import segment_field
+    from deviation.physics.field import segment_field
     from deviation.reader import read_plan
 
     with tempfile.TemporaryDirectory() as tmp:

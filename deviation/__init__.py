@@ -28,7 +28,7 @@ _EXPORTS = {
     "Plan": "plan", "Sensor": "plan", "Run": "plan", "Circuit": "plan", "Equipment": "plan",
     "Site": "plan", "Finding": "plan", "PlanError": "plan",
     "DeviationError": "errors", "UnknownSensorError": "errors",
-    "OutsideModelError": "geomag", "OutputError": "files",
+    "OutsideModelError": "physics.geomag", "OutputError": "files",
     "SiteField": "sitefield", "SpotSearch": "spot", "Card": "card",
     "Remedy": "advice", "RuleFinding": "advice",
 }

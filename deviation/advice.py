@@ -14,7 +14,7 @@ import numpy as np
 from .budget import RunParts, budget_figures, equipment_fields, parts_of_runs
 from .constants import ISO25862_BIPOLAR_RADIUS_M
 from .electronic import electronic_states, interference_grade
-from .routing import hint_lay_m
+from .physics.routing import hint_lay_m
 from .schema import VECTOR_ELECTRONIC_KINDS
 from .spot import search_box_around
 from .units import conductor_size
@@ -201,7 +201,7 @@ def detour(route, sensor, offset_m):
     The nearest point of the route becomes a waypoint moved straight away from the sensor, so the
     run keeps its source and load. Returns None when the nearest point is the source or the load.
     """
-    from .field import point_segment_distance
+    from .physics.field import point_segment_distance
 
     distance = point_segment_distance(route[:-1], route[1:], sensor[None, :])[0]
     i = int(np.argmin(distance))

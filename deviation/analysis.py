@@ -11,7 +11,6 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from . import heading
 from .budget import (
     RunParts,
     asin_deg,
@@ -22,11 +21,12 @@ from .budget import (
     run_fields_at,
     total_field_figures,
 )
+from .physics import heading
+from .physics.routing import Conductors, route_runs
+from .physics.worst_case import worst_combination
 from .plan import Plan, Sensor, conductors_of, frozen_array
-from .routing import Conductors, route_runs
 from .schema import TOTAL_FIELD_KIND
 from .sitefield import SiteField, site_field
-from .worst_case import worst_combination
 
 
 @dataclass(frozen=True)

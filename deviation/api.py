@@ -69,14 +69,9 @@ def check(plan: Plan, *, remedies: bool = True) -> CheckResult:
         Frozen; ``within_budget``, ``sensors[i].states[k]`` and the tables ``to_frame()``,
         ``runs_frame()``, ``remedies_frame()``, ``findings_frame()``.
     """
-    from dataclasses import replace
+    from .checking import check_plan
 
-    from .advice import rule_findings, with_remedies
-
-    analysis = analyse(plan)
-    if remedies:
-        analysis = with_remedies(analysis)
-    return replace(analysis, findings=rule_findings(analysis))
+    return check_plan(plan, remedies=remedies)
 
 
 def _sensor(plan: Plan, sensor: str | Sensor) -> Sensor:

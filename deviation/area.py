@@ -103,7 +103,7 @@ def area_check(plan) -> AreaResult:
     DeviationError
         When the plan names no place (neither latitude and longitude nor place rows).
     """
-    from .api import check
+    from .checking import check_plan as check
     from .electronic import electronic_report
 
     listed = places_of(plan)

@@ -6,7 +6,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import heading
+from .physics import heading
 from .plan import frozen_array
 
 #: Heading step of the curves drawn in plots [deg].

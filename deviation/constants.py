@@ -83,3 +83,7 @@ MAX_SWITCHINGS_ENUMERATED = 4096
 #: Field units of the electronic-sensor outputs: tesla per unit (1 mG = 0.1 µT = 100 nT, since
 #: 1 G = 1e-4 T by definition of the CGS gauss).
 FIELD_UNITS_T = {"uT": 1e-6, "nT": 1e-9, "mG": 1e-7}
+
+#: Deviation reported where the disturbance's horizontal part reaches H: the sensor can point
+#: anywhere (renderers say "overwhelmed", never this number).
+OVERWHELMED_DEG = 180.0

@@ -13,17 +13,16 @@ Pure computation over a plan and its checked result (:func:`deviation.check`):
   makes before arming);
 * total-field (scalar) magnetometers: the change of the reading per ampere.
 
-Frames as in :mod:`deviation.heading`: vessel x forward, y to port, z up.
+Frames as in :mod:`deviation.physics.heading`: vessel x forward, y to port, z up.
 """
 
 from __future__ import annotations
 
-import difflib
-import re
 from dataclasses import dataclass
 
 import numpy as np
 
+from .axes import NAMED_AXES, AxesError, parse_axes  # noqa: F401  (re-exported)
 from .budget import asin_deg, equipment_fields, sensor_field_parts
 from .constants import (
     INTERFERENCE_ACCEPTABLE_FRACTION,
@@ -32,9 +31,7 @@ from .constants import (
     MODEL_FIELD_TOLERANCE_T,
     MODEL_INCLINATION_TOLERANCE_DEG,
 )
-from .plan import name_key
-from .schema import TOTAL_FIELD_KIND, VECTOR_ELECTRONIC_KINDS
-from .total_field import (
+from .physics.total_field import (
     all_switchings,
     candidate_switchings,
     count_switchings,
@@ -42,87 +39,14 @@ from .total_field import (
     inclination_range_deg,
     total_field_error_range,
 )
-from .worst_case import worst_combination
+from .physics.worst_case import worst_combination
+from .plan import name_key
+from .schema import TOTAL_FIELD_KIND, VECTOR_ELECTRONIC_KINDS
 
 #: Kinds this module reports on.
 ELECTRONIC_KINDS = VECTOR_ELECTRONIC_KINDS + (TOTAL_FIELD_KIND,)
 
 # Sensor axes -------------------------------------------------------------------------------------
-
-#: Named mounting orientations and the axes they stand for.
-NAMED_AXES = {
-    "forward left up": "x+ y+ z+",      # the vessel's own axes
-    "forward right down": "x+ y- z-",   # the aircraft body convention, mounted level, forward
-}
-_TOKEN = re.compile(r"^([+-]?)([xyz])([+-]?)$")
-_UNIT = {"x": 0, "y": 1, "z": 2}
-
-
-class AxesError(ValueError):
-    """An axes cell that does not describe a right-handed mounting; the message says why."""
-
-
-def _axes_text(rows):
-    return " ".join("xyz"[int(np.argmax(np.abs(r)))] + ("+" if r.max() > 0 else "-")
-                    for r in rows)
-
-
-def parse_axes(text: str) -> np.ndarray:
-    """The sensor's axes in the vessel frame from the notation of the axes column.
-
-    Parameters
-    ----------
-    text : str
-        Two or three signed vessel axes, the i-th naming the vessel axis the sensor's i-th axis
-        (x, y, z) points along, e.g. ``"x+ y-"``: its x forward (vessel +x), its y to starboard
-        (vessel -y), its z then x cross y (down). The sign may come first (``"+x -y"``); a
-        missing sign is +. Or a name of :data:`NAMED_AXES`.
-
-    Returns
-    -------
-    (3, 3) array
-        Rows are the sensor's x, y, z axes as unit vectors in the vessel frame, so a vector in
-        the sensor's axes is ``axes @ b_vessel``. A proper rotation (determinant +1).
-
-    Raises
-    ------
-    AxesError
-        Not two or three axes, an unknown axis, a vessel axis named twice, or three axes that
-        make a mirror image (not right-handed); the message suggests a correction where one is
-        clear.
-    """
-    words = " ".join(str(text).replace(",", " ").split()).lower()
-    if words in NAMED_AXES:
-        words = NAMED_AXES[words]
-    tokens = words.split()
-    close = difflib.get_close_matches(words, list(NAMED_AXES), n=1, cutoff=0.6)
-    hint = f'; did you mean "{close[0]}"?' if close else ""
-    if len(tokens) not in (2, 3) or (close and not all(_TOKEN.match(t) for t in tokens)):
-        raise AxesError(f'"{text}" is not a mounting: give two or three signed vessel axes, the '
-                        "sensor's x first (e.g. x+ y-), or one of "
-                        f'{", ".join(NAMED_AXES)}{hint}')
-    rows = []
-    for token in tokens:
-        match = _TOKEN.match(token)
-        if not match or (match.group(1) and match.group(3)):
-            raise AxesError(f'"{token}" is not a vessel axis: each is x, y or z with its sign, '
-                            "e.g. x+ or y-")
-        sign = -1.0 if "-" in (match.group(1) + match.group(3)) else 1.0
-        row = np.zeros(3)
-        row[_UNIT[match.group(2)]] = sign
-        rows.append(row)
-    letters = [_TOKEN.match(t).group(2) for t in tokens]
-    for letter in "xyz":
-        if letters.count(letter) > 1:
-            raise AxesError(f'"{text}" names the vessel axis {letter} twice: each of the '
-                            "sensor's axes lies along a different vessel axis")
-    third = np.cross(rows[0], rows[1])
-    if len(rows) == 3 and not np.allclose(rows[2], third):
-        fixed = _axes_text([rows[0], rows[1], third])
-        raise AxesError(f'"{text}" is not right-handed (a mirror image: its z is the wrong way '
-                        f'round); did you mean "{fixed}"?')
-    return np.array([rows[0], rows[1], third])
-
 
 def sensor_axes(sensor) -> np.ndarray:
     """(3, 3) the sensor's axes in the vessel frame (the identity where none are given)."""
@@ -172,7 +96,7 @@ def per_ampere_rows(plan, result, site) -> tuple[PerAmpere, ...]:
     runs that carry it; the vector per ampere is what a linear current compensation subtracts
     per ampere of that circuit. For a scalar magnetometer the change of the reading per ampere
     is, to first order in |b|/F, F-hat . C v, whose range over headings and attitudes is exact
-    (:func:`deviation.total_field.first_order_range`).
+    (:func:`deviation.physics.total_field.first_order_range`).
     """
     sensor = result.sensor
     axes = sensor_axes(sensor)
@@ -387,7 +311,7 @@ class ElectronicSensor:
 def _largest(base, vectors, reversing, heel, pitch):
     """Largest level horizontal part (with heel and pitch) over the switchings, exactly."""
     if vectors.shape[-2] == 0:
-        from .worst_case import horizontal_over_attitude
+        from .physics.worst_case import horizontal_over_attitude
 
         return horizontal_over_attitude(base, heel, pitch)
     return worst_combination(base, vectors, reversing, heel, pitch)[0]
@@ -425,7 +349,7 @@ def electronic_states(plan, result, site, compensation) -> tuple[ElectronicState
     reference state it is b - b_ref; after compensation the host also subtracts K m (m the
     measured currents, K from :func:`fit_compensation`), which leaves each circuit's residual
     per ampere. The independent circuits' worst switching is exact
-    (:func:`deviation.worst_case.worst_combination`); the 3-D size uses it at pitch 90 degrees,
+    (:func:`deviation.physics.worst_case.worst_combination`); the 3-D size uses it at pitch 90 degrees,
     where the worst attitude makes the whole vector horizontal. Bounds of unknown direction
     (pairs of unknown lie, twisted floors, equipment of unknown orientation) add to the
     uncompensated sizes; the compensated figures add only the equipment's, since the host learns

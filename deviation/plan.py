@@ -14,11 +14,11 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from .errors import DeviationError, UnknownSensorError
-from .routing import RunGeometry
+from .physics.routing import RunGeometry
 from .schema import SAFE_DISTANCE_FOR, SENSOR_KINDS  # noqa: F401  (re-exported)
 
 if TYPE_CHECKING:
-    from .routing import Conductors
+    from .physics.routing import Conductors
 
 DEFAULT_STATE = "as planned"
 
@@ -301,7 +301,7 @@ def conductors_of(plan: Plan) -> Conductors:
     (plans are frozen and compared by identity), so a plan made with ``dataclasses.replace``
     is always routed afresh.
     """
-    from .routing import route_runs
+    from .physics.routing import route_runs
 
     routed = _ROUTED.get(plan)
     if routed is None:

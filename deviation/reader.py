@@ -19,9 +19,9 @@ from pathlib import Path
 import numpy as np
 
 from . import units
-from .budget import OVERWHELMED_DEG
-from .constants import WMM_VALID_FROM, WMM_VALID_UNTIL
-from .geomag import decimal_year
+from .constants import OVERWHELMED_DEG, WMM_VALID_FROM, WMM_VALID_UNTIL
+from .physics.geomag import decimal_year
+from .physics.routing import CHORDS_PER_LAY, RunGeometry
 from .plan import (
     DEFAULT_STATE,
     CandidateSpot,
@@ -37,7 +37,6 @@ from .plan import (
     frozen_array,
     name_key,
 )
-from .routing import CHORDS_PER_LAY, RunGeometry
 from .schema import (
     PAIR_LIES,
     REQUIRED_SHEETS,
@@ -950,7 +949,7 @@ def _budget_nt(row, scalar, collector, number):
 
 def _sensor_axes(value, kind, collector, number):
     """The sensor's axes in the vessel frame from its axes cell: (matrix, text) or (None, None)."""
-    from .electronic import AxesError, parse_axes
+    from .axes import AxesError, parse_axes
 
     if value is None:
         return None, None
@@ -1148,7 +1147,7 @@ def _read_volumes(sheet, site, points, sensors, collector):
 
 
 def _check_sensors_outside_conductors(plan, collector):
-    from .field import point_segment_distance
+    from .physics.field import point_segment_distance
 
     conductors = conductors_of(plan)
     if not len(conductors) or not plan.sensors:

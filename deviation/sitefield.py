@@ -8,7 +8,7 @@ from dataclasses import dataclass
 
 from .constants import WMM_VALID_FROM, WMM_VALID_UNTIL
 from .errors import DeviationError
-from .geomag import decimal_year, declination_uncertainty_deg, wmm_field, zone_of
+from .physics.geomag import decimal_year, declination_uncertainty_deg, wmm_field, zone_of
 
 #: Tesla per microtesla (plan figures are in µT, physics in T).
 TESLA_PER_UT = 1e-6

@@ -47,3 +47,18 @@ def plan_dir(tmp_path):
     def make(sheets, name="plan"):
         return write_plan(tmp_path / name, sheets)
     return make
+
+
+def run_cli(*args, **kwargs):
+    """Run the command line in-process (click's CliRunner); every argument is made a string."""
+    from click.testing import CliRunner
+
+    from deviation.cli import main
+
+    return CliRunner().invoke(main, [str(a) for a in args], **kwargs)
+
+
+@pytest.fixture
+def cli():
+    """The command line as a function of its arguments: ``cli("check", plan).exit_code``."""
+    return run_cli

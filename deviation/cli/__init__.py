@@ -6,87 +6,8 @@ numba) are imported inside the commands, so that ``deviation --help`` answers at
 
 from __future__ import annotations
 
-import functools
-import json
-import sys
-
-import click
-
-from .. import __version__
-
-
-class CommandProblem(click.ClickException):
-    """A wrong command line or an impossible request: the message says what to do; exit 2."""
-
-    exit_code = 2
-
-
-class PlanProblem(click.ClickException):
-    """Plan findings: one line each on stderr, exit status 2, nothing written."""
-
-    exit_code = 2
-
-    def __init__(self, findings, note="nothing was computed or written"):
-        self.findings = findings
-        count = len(findings)
-        super().__init__(f"{count} problem{'s' if count != 1 else ''} in the plan; {note}.")
-
-    def show(self, file=None):
-        file = file or sys.stderr
-        for finding in self.findings:
-            click.echo(str(finding), file=file)
-        click.echo(f"Error: {self.format_message()}", file=file)
-
-
-def library_errors(command):
-    """Turn the library's own errors into clear messages with exit status 2."""
-
-    @functools.wraps(command)
-    def wrapper(*args, **kwargs):
-        from ..errors import DeviationError
-        from ..plan import PlanError
-
-        try:
-            return command(*args, **kwargs)
-        except PlanError as error:
-            raise PlanProblem(error.findings) from None
-        except DeviationError as error:
-            raise CommandProblem(str(error)) from None
-
-    return wrapper
-
-
-def console_for(width):
-    from ..render.terminal import make_console
-
-    return make_console(width=width)
-
-
-def echo_json(document):
-    click.echo(json.dumps(document, indent=2, ensure_ascii=False))
-
-
-width_option = click.option("--width", type=click.IntRange(60, 400), default=None,
-                            help="Width of the printed tables in characters (default: the "
-                                 "terminal's).")
-json_option = click.option("--json", "as_json", is_flag=True,
-                           help="Print the result as JSON on stdout, and nothing else.")
-plan_argument = click.argument("plan", type=click.Path(exists=False, dir_okay=True))
-
-
-@click.group(context_settings={"help_option_names": ["-h", "--help"]})
-@click.version_option(__version__, prog_name="deviation")
-def main():
-    """Check a DC wiring plan for the heading deviation it causes at compasses and magnetometers.
-
-    A plan is an .xlsx workbook or a folder of .csv sheets; `deviation new PLAN.xlsx` writes a
-    blank one to fill in. The figures plan an installation; they do not replace adjusting and
-    swinging the compass after it.
-    """
-
-
 # The commands register themselves on main.
-from . import (  # noqa: E402,F401
+from . import (  # noqa: F401
     area,
     card,
     check,
@@ -103,6 +24,7 @@ from . import (  # noqa: E402,F401
     test_results,
     test_sheet,
 )
+from .common import main  # noqa: F401  (the entry point)
 
 if __name__ == "__main__":  # pragma: no cover
     main()

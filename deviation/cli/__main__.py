@@ -1,5 +1,5 @@
 """``python -m deviation.cli``: the command line."""
 
-from . import main
+from .common import main
 
 main()

@@ -4,8 +4,17 @@ from __future__ import annotations
 
 import sys
 
-from . import console_for, echo_json, json_option, library_errors, main, plan_argument, width_option
-from .per_amp import canonical_unit, unit_option
+from .common import (
+    canonical_unit,
+    console_for,
+    echo_json,
+    json_option,
+    library_errors,
+    main,
+    plan_argument,
+    unit_option,
+    width_option,
+)
 
 
 @main.command("area")

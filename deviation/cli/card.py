@@ -7,7 +7,15 @@ from pathlib import Path
 
 import click
 
-from . import console_for, echo_json, json_option, library_errors, main, plan_argument, width_option
+from .common import (
+    console_for,
+    echo_json,
+    json_option,
+    library_errors,
+    main,
+    plan_argument,
+    width_option,
+)
 
 
 def _slug(name):

@@ -6,7 +6,15 @@ import sys
 
 import click
 
-from . import console_for, echo_json, json_option, library_errors, main, plan_argument, width_option
+from .common import (
+    console_for,
+    echo_json,
+    json_option,
+    library_errors,
+    main,
+    plan_argument,
+    width_option,
+)
 
 
 @main.command()

@@ -6,7 +6,7 @@ import math
 
 import click
 
-from . import (
+from .common import (
     CommandProblem,
     console_for,
     echo_json,
@@ -25,7 +25,7 @@ TABLE_UNITS = {"m": "mm", "ft": "in"}
 
 
 def _currents(text):
-    from ..clearance import DEFAULT_CURRENTS_A
+    from ..physics.clearance import DEFAULT_CURRENTS_A
 
     if text is None:
         return list(DEFAULT_CURRENTS_A)
@@ -58,7 +58,7 @@ def _length(text, bare_unit, name):
 def _field(latitude, longitude, date, altitude_m, horizontal_ut):
     """(H [T], the model's SiteField or None, zone)."""
     from .. import api
-    from ..geomag import zone_of
+    from ..physics.geomag import zone_of
 
     by_place = latitude is not None or longitude is not None
     if by_place and horizontal_ut is not None:
@@ -76,7 +76,7 @@ def _field(latitude, longitude, date, altitude_m, horizontal_ut):
     try:
         site = api.site_field(latitude, longitude, when, altitude_m or 0.0)
     except ValueError as error:
-        from ..geomag import OutsideModelError
+        from ..physics.geomag import OutsideModelError
 
         if isinstance(error, OutsideModelError):
             raise
@@ -87,7 +87,7 @@ def _field(latitude, longitude, date, altitude_m, horizontal_ut):
 
 def assumptions(table, unit):
     """What each column assumes, in words, one sentence each."""
-    from ..clearance import TWIST_ATTENUATION_DB, TWIST_VERIFIED_LAYS
+    from ..physics.clearance import TWIST_ATTENUATION_DB, TWIST_VERIFIED_LAYS
     from ..units import format_length
 
     spacing = format_length(table.spacing_m, unit)
@@ -150,7 +150,7 @@ def clearance(latitude, longitude, date, altitude_m, horizontal_ut, budget_deg, 
 
     Exit status: 0, or 2 for a wrong command line.
     """
-    from ..clearance import allowed_field_t, clearance_table
+    from ..physics.clearance import allowed_field_t, clearance_table
 
     horizontal_t, site, zone = _field(latitude, longitude, date, altitude_m, horizontal_ut)
     try:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from . import (
+from .common import (
     CommandProblem,
     console_for,
     echo_json,
@@ -63,7 +63,7 @@ def deflection(deflection_deg, distance, position, field_ut, plan_path, item, at
     else:
         horizontal_t = field_ut * 1e-6                 # µT to T, at the edge
     from ..aftercare import deflection_item
-    from ..swing import moment_from_deflection_am2
+    from ..physics.swing import moment_from_deflection_am2
 
     moment = moment_from_deflection_am2(deflection_deg, distance_m, horizontal_t, position)
     row = deflection_item(item, at, deflection_deg, distance_m, horizontal_t, position)

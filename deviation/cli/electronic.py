@@ -5,8 +5,19 @@ from __future__ import annotations
 
 import sys
 
-from . import console_for, echo_json, json_option, library_errors, main, plan_argument, width_option
-from .per_amp import canonical_unit, electronic_reports, sensor_option, unit_option
+from .common import (
+    canonical_unit,
+    console_for,
+    echo_json,
+    electronic_reports,
+    json_option,
+    library_errors,
+    main,
+    plan_argument,
+    sensor_option,
+    unit_option,
+    width_option,
+)
 
 
 @main.command("electronic")

@@ -6,7 +6,7 @@ from pathlib import Path
 
 import click
 
-from . import CommandProblem, library_errors, main
+from .common import CommandProblem, library_errors, main
 
 
 @main.command()

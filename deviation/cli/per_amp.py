@@ -4,43 +4,19 @@ from __future__ import annotations
 
 import click
 
-from . import (
-    CommandProblem,
+from .common import (
+    canonical_unit,
     console_for,
     echo_json,
+    electronic_reports,
     json_option,
     library_errors,
     main,
     plan_argument,
+    sensor_option,
+    unit_option,
     width_option,
 )
-
-#: The field units the electronic-sensor commands print (constants.FIELD_UNITS_T).
-unit_option = click.option("--unit", "unit", type=click.Choice(["uT", "nT", "mG"],
-                                                               case_sensitive=False),
-                           default="uT", show_default=True,
-                           help="Field unit of the printed vectors: uT (microtesla), nT or mG "
-                                "(milligauss, 1 mG = 0.1 uT).")
-sensor_option = click.option("--sensor", "sensor_name", default=None,
-                             help="Only this sensor (default: every electronic sensor).")
-
-
-def canonical_unit(unit):
-    return {"ut": "uT", "nt": "nT", "mg": "mG"}[unit.lower()]
-
-
-def electronic_reports(plan, sensor_name):
-    """Read and check the plan; its electronic sensors' figures (a CommandProblem if none)."""
-    from .. import api
-    from ..electronic import ELECTRONIC_KINDS, electronic_report
-
-    the_plan = api.read_plan(plan)
-    analysis = api.check(the_plan, remedies=False)
-    reports = electronic_report(analysis, sensor_name)
-    if not reports:
-        which = f'"{sensor_name}" is not' if sensor_name else "the plan has no sensor that is"
-        raise CommandProblem(f"{which} an electronic sensor ({', '.join(ELECTRONIC_KINDS)})")
-    return analysis, reports
 
 
 @main.command("per-amp")

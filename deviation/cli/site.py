@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from . import console_for, echo_json, json_option, library_errors, main
+from .common import console_for, echo_json, json_option, library_errors, main
 
 
 @main.command()
@@ -21,7 +21,7 @@ from . import console_for, echo_json, json_option, library_errors, main
 def site(latitude, longitude, date, altitude_m, as_json):
     """The local geomagnetic field from WMM2025: H, Z, F, declination, inclination, zone."""
     from .. import api
-    from ..geomag import OutsideModelError
+    from ..physics.geomag import OutsideModelError
 
     when = float(date) if date and date.replace(".", "", 1).isdigit() else date
     try:

@@ -7,7 +7,7 @@ import time
 
 import click
 
-from . import (
+from .common import (
     CommandProblem,
     console_for,
     echo_json,

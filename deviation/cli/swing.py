@@ -4,8 +4,16 @@ from __future__ import annotations
 
 import click
 
-from . import console_for, echo_json, json_option, library_errors, main, plan_argument, width_option
-from .test_results import readings_errors
+from .common import (
+    console_for,
+    echo_json,
+    json_option,
+    library_errors,
+    main,
+    plan_argument,
+    readings_errors,
+    width_option,
+)
 
 
 @main.command()
@@ -48,7 +56,7 @@ def swing(plan, readings, sensor_name, state, on, adjusted_in, not_adjusted, plo
     from .. import api
     from ..aftercare import read_swing, swing_comparison
     from ..files import check_output
-    from . import CommandProblem
+    from .common import CommandProblem
 
     if not_adjusted and adjusted_in:
         raise CommandProblem("give --adjusted-in or --not-adjusted, not both")

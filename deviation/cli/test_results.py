@@ -2,46 +2,20 @@
 
 from __future__ import annotations
 
-import functools
 import sys
 
 import click
 
-from . import (
-    PlanProblem,
+from .common import (
     console_for,
     echo_json,
     json_option,
     library_errors,
     main,
     plan_argument,
+    readings_errors,
     width_option,
 )
-
-
-class ReadingsProblem(PlanProblem):
-    """Findings in a readings sheet: one line each on stderr, exit status 2, nothing written."""
-
-    def __init__(self, findings):
-        self.findings = findings
-        count = len(findings)
-        click.ClickException.__init__(self, f"{count} problem{'s' if count != 1 else ''} in the "
-                                            "readings; nothing was computed or written.")
-
-
-def readings_errors(command):
-    """Turn a readings sheet's findings into one located line each, exit status 2."""
-
-    @functools.wraps(command)
-    def wrapper(*args, **kwargs):
-        from ..aftercare import ReadingsError
-
-        try:
-            return command(*args, **kwargs)
-        except ReadingsError as error:
-            raise ReadingsProblem(error.findings) from None
-
-    return wrapper
 
 
 @main.command("test-results")

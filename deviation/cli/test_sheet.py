@@ -4,7 +4,15 @@ from __future__ import annotations
 
 import click
 
-from . import console_for, echo_json, json_option, library_errors, main, plan_argument, width_option
+from .common import (
+    console_for,
+    echo_json,
+    json_option,
+    library_errors,
+    main,
+    plan_argument,
+    width_option,
+)
 
 
 @main.command("test-sheet")

@@ -17,7 +17,7 @@ import numpy as np
 
 from .. import __version__
 from ..aftercare import NO_VISIBLE_CHANGE_DEG, SETTINGS_SHEET, TEST_SHEET
-from ..swing import COEFFICIENTS
+from ..physics.swing import COEFFICIENTS
 from .words import CAUTIONS
 
 #: What the read-back thresholds rest on, said on every sheet that uses them.
@@ -499,7 +499,7 @@ def swing_meta(comparison):
 
 def swing_plot(comparison, path=None):
     """Readings, the fitted curve and the plan's curve per state, against heading. PNG bytes."""
-    from ..swing import curve_deg
+    from ..physics.swing import curve_deg
     from .plots import _pyplot, _save
 
     plt = _pyplot()

@@ -299,7 +299,7 @@ def render_clearance(table, console, unit, source, notes, warning=None):
 
     Parameters
     ----------
-    table : deviation.clearance.ClearanceTable
+    table : deviation.physics.clearance.ClearanceTable
     console : rich Console
     unit : str
         Units of the distances printed ("m" or "ft").

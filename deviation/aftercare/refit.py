@@ -1,0 +1,206 @@
+"""Refits: a plan against its earlier version, and whether a new swing is due."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .. import checking
+from ..budget import asin_deg, item_effect
+from ..physics import heading
+from ..plan import Plan, frozen_array, name_key
+from .common import SWING_THRESHOLD_DEG
+
+
+@dataclass(frozen=True)
+class Difference:
+    """A run or item that differs between two versions of a plan, at one sensor in one state."""
+
+    kind: str                          # "run" or "item"
+    name: str
+    how: tuple[str, ...]               # "added", "removed", "moved", "current changed", ...
+    field_change_t: np.ndarray | None  # (3,) change of its field at the sensor (None: a bound)
+    size_deg: float                    # asin(|change of the horizontal field| / H)
+
+
+@dataclass(frozen=True)
+class StateRefit:
+    sensor: str
+    state: str
+    used: bool
+    held_before_deg: float
+    held_after_deg: float
+    level_before_deg: float            # level deviation the compass shows, largest over headings
+    level_after_deg: float
+    card_change_deg: float             # largest change of the deviation card over headings
+    swing_advised: bool
+    differences: tuple[Difference, ...]
+
+
+@dataclass(frozen=True)
+class Refit:
+    old_source: str
+    new_source: str
+    threshold_deg: float
+    states: tuple[StateRefit, ...]
+    notes: tuple[str, ...]             # sensors or states only in one version, moved sensors
+
+    @property
+    def swing_advised(self) -> bool:
+        return any(s.swing_advised for s in self.states) or any(
+            n.startswith("sensor") and "moved" in n for n in self.notes)
+
+
+def _same_array(a, b):
+    if a is None or b is None:
+        return a is None and b is None
+    a, b = np.asarray(a), np.asarray(b)
+    return a.shape == b.shape and np.allclose(a, b, rtol=0, atol=1e-9)
+
+
+def _run_differences(old_run, new_run):
+    how = []
+    g0, g1 = old_run.geometry, new_run.geometry
+    if not _same_array(g0.route_m, g1.route_m):
+        how.append("moved")
+    if (g0.return_kind != g1.return_kind or not _same_array(g0.return_route_m, g1.return_route_m)
+            or g0.spacing_m != g1.spacing_m or g0.lay_m != g1.lay_m
+            or getattr(old_run, "lie", None) != getattr(new_run, "lie", None)):
+        how.append("return changed")
+    if g0.radius_m != g1.radius_m or old_run.size != new_run.size:
+        how.append("size changed")
+    return how
+
+
+def _item_differences(old, new):
+    how = []
+    if not _same_array(old.position_m, new.position_m):
+        how.append("moved")
+    if (old.moment_am2 != new.moment_am2 or not _same_array(old.axis, new.axis)
+            or old.safe_distance_m != new.safe_distance_m
+            or old.safe_distance_for != new.safe_distance_for):
+        how.append("moment or label changed")
+    if old.states != new.states:
+        how.append("states changed")
+    return how
+
+
+def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> Refit:
+    """Compare a plan with its earlier version: per sensor and state, how the figures and the
+    deviation card change, which runs and items cause it, and whether a new swing is due.
+
+    Parameters
+    ----------
+    old, new : Plan
+        The earlier and the current version; sensors, states, runs and items match by name.
+    threshold_deg : float [deg]
+        A new swing is advised where the deviation card changes by more than this at some
+        heading, in a state the sensor is used in (default 1°, common practice, no source).
+
+    Returns
+    -------
+    Refit
+
+    Notes
+    -----
+    The compass keeps the correctors set for the old installation: it still cancels the old
+    reference state's field b_ref, so after the refit it shows the deviation of
+    b_new - b_ref,old where it showed that of b_old - b_ref,old. The card change is the largest
+    over headings of the difference of those two level deviations, found by
+    :func:`deviation.physics.heading.max_change_deg`; both use the new plan's site field. The held
+    figures are each plan's own (the new one as if adjusted afresh). Each run's or item's part
+    is the size of the change of its own field at the sensor, asin(|Delta b_h|/H): the
+    changes add as vectors, so the largest is the main cause, not a share of the total.
+    """
+    before = checking.check_plan(old, remedies=False)
+    after = checking.check_plan(new, remedies=False)
+    h = after.site.horizontal_t
+    notes = []
+    old_sensors = {name_key(s.sensor.name): s for s in before.sensors}
+    new_sensors = {name_key(s.sensor.name): s for s in after.sensors}
+    for key in old_sensors.keys() - new_sensors.keys():
+        notes.append(f'sensor "{old_sensors[key].sensor.name}" is only in the earlier plan')
+    for key in new_sensors.keys() - old_sensors.keys():
+        notes.append(f'sensor "{new_sensors[key].sensor.name}" is new: adjust and swing it')
+    old_states = {name_key(s): s for s in old.state_names}
+    new_states = {name_key(s): s for s in new.state_names}
+    for key in old_states.keys() - new_states.keys():
+        notes.append(f'state "{old_states[key]}" is only in the earlier plan')
+    for key in new_states.keys() - old_states.keys():
+        notes.append(f'state "{new_states[key]}" is new: no earlier figures to compare')
+    old_runs = {name_key(r.name): i for i, r in enumerate(old.runs)}
+    new_runs = {name_key(r.name): i for i, r in enumerate(new.runs)}
+    old_items = {name_key(e.name): e for e in old.equipment}
+    new_items = {name_key(e.name): e for e in new.equipment}
+    old_currents, new_currents = old.run_currents_a, new.run_currents_a
+    states = []
+    for key, new_result in new_sensors.items():
+        old_result = old_sensors.get(key)
+        if old_result is None:
+            continue
+        sensor = new_result.sensor
+        if not _same_array(old_result.sensor.position_m, sensor.position_m):
+            notes.append(f'sensor "{sensor.name}" moved: adjust and swing it again')
+        reference = old_result.sensor.reference_state
+        b_ref = (np.asarray(old_result.state(reference).field_t) if reference
+                 and reference in old.state_names else np.zeros(3))
+        for state_key, state in new_states.items():
+            if state_key not in old_states:
+                continue
+            old_state = old_states[state_key]
+            st_old, st_new = old_result.state(old_state), new_result.state(state)
+            k_old, k_new = old.state_index(old_state), new.state_index(state)
+            seen_old = np.asarray(st_old.field_t) - b_ref
+            seen_new = np.asarray(st_new.field_t) - b_ref
+            card = float(heading.max_change_deg(seen_new, seen_old, h))
+            differences = []
+            for run_key in sorted(old_runs.keys() | new_runs.keys()):
+                r0, r1 = old_runs.get(run_key), new_runs.get(run_key)
+                f0 = (np.zeros(3) if r0 is None else
+                      old_result.unit_fields_t[r0] * old_currents[r0, k_old])
+                f1 = (np.zeros(3) if r1 is None else
+                      new_result.unit_fields_t[r1] * new_currents[r1, k_new])
+                if r0 is None:
+                    how = ["added"]
+                elif r1 is None:
+                    how = ["removed"]
+                else:
+                    how = _run_differences(old.runs[r0], new.runs[r1])
+                    if old_currents[r0, k_old] != new_currents[r1, k_new]:
+                        how.append("current changed")
+                if not how:
+                    continue
+                change = f1 - f0
+                name = (new.runs[r1] if r1 is not None else old.runs[r0]).name
+                differences.append(Difference("run", name, tuple(how), frozen_array(change), float(
+                    asin_deg(heading.horizontal_disturbance(change) / h))))
+            for item_key in sorted(old_items.keys() | new_items.keys()):
+                e0, e1 = old_items.get(item_key), new_items.get(item_key)
+                how = (["added"] if e0 is None else ["removed"] if e1 is None
+                       else _item_differences(e0, e1))
+                if not how:
+                    continue
+                fields, bounds = [], []
+                for item, plan_state in ((e0, old_state), (e1, state)):
+                    if item is None or not item.present_in(plan_state):
+                        fields.append(np.zeros(3))
+                        bounds.append(0.0)
+                        continue
+                    field, bound, _ = item_effect(item, sensor.position_m[None, :], h)
+                    fields.append(np.zeros(3) if field is None else field[0])
+                    bounds.append(float(bound[0]))
+                change = fields[1] - fields[0]
+                size = heading.horizontal_disturbance(change) + abs(bounds[1] - bounds[0])
+                bound_only = not np.any(change) and bounds[1] != bounds[0]
+                differences.append(Difference(
+                    "item", (e1 or e0).name, tuple(how),
+                    None if bound_only else frozen_array(change), float(asin_deg(size / h))))
+            differences.sort(key=lambda d: (-d.size_deg, d.name))
+            level = [st.change_from_reference_deg if st.change_from_reference_deg is not None
+                     else st.vector_deviation_deg for st in (st_old, st_new)]
+            states.append(StateRefit(
+                sensor.name, state, st_new.used, st_old.budget_used_deg, st_new.budget_used_deg,
+                float(level[0]), float(level[1]), card,
+                bool(st_new.used and card > threshold_deg), tuple(differences)))
+    return Refit(old.source, new.source, float(threshold_deg), tuple(states), tuple(notes))

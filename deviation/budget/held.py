@@ -1,0 +1,194 @@
+"""The figure held against a heading sensor's budget: the worst over headings, attitude, switching
+and every part of unknown direction."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..physics import heading
+from ..physics.worst_case import horizontal_over_attitude, worst_combination
+from .equipment import EquipmentFields, asin_deg
+from .runs import MAX_EXACT_GENERATORS_ATTITUDE, MAX_EXACT_GENERATORS_LEVEL, RunParts
+
+
+@dataclass(frozen=True)
+class Figures:
+    """Budget figures of one sensor at P positions in K states; arrays (P, K) [deg] unless noted.
+
+    vector_deviation_deg : level, largest over headings, from the vector sum alone
+    max_deviation_deg : level, with every bound of unknown direction: the absolute worst
+    attitude_deviation_deg : the same at the worst attitude within heel and pitch
+    change_from_reference_deg : level, the deviation of the residual field b - b_ref with the
+        bounds that change from the reference state (None without a reference state)
+    attitude_change_deg : the same at the worst attitude (None without a reference state)
+    budget_used_deg : the figure held against the budget
+    overwhelmed : what the sensor sees (the residual, if adjusted) can reach H
+    within_budget : budget_used_deg <= budget and not overwhelmed
+    combination : (P, K, Ci) int, the switching of the independent circuits behind the held
+        figure (1 on, 0 off, -1 on reversed)
+    total_t : (P, K, 3) [T] the vector field in that worst combination
+    bound_t : (P, K) [T] the bounds of unknown direction counted in the held figure
+    """
+
+    vector_deviation_deg: np.ndarray
+    max_deviation_deg: np.ndarray
+    attitude_deviation_deg: np.ndarray
+    change_from_reference_deg: np.ndarray | None
+    attitude_change_deg: np.ndarray | None
+    budget_used_deg: np.ndarray
+    overwhelmed: np.ndarray
+    within_budget: np.ndarray
+    combination: np.ndarray
+    total_t: np.ndarray
+    bound_t: np.ndarray
+
+
+def _worst(base, generators, reversing, heel, pitch):
+    """Largest horizontal size over attitude and switching: (size, choice)."""
+    if generators.shape[-2] == 0:
+        size = horizontal_over_attitude(base, heel, pitch) if heel or pitch else \
+            heading.horizontal_disturbance(base)
+        return size, np.zeros(base.shape[:-1] + (0,), dtype=int)
+    return worst_combination(base, generators, reversing, heel, pitch)
+
+
+def _attitude_size(b, heel, pitch):
+    return horizontal_over_attitude(b, heel, pitch) if heel or pitch else \
+        heading.horizontal_disturbance(b)
+
+
+def _held(base, switched, switched_reversing, spread, scale, scalar, heel, pitch, exact_cap):
+    """The largest horizontal size of base + switching + spread, over attitude.
+
+    Parameters
+    ----------
+    base : (P, K, 3)
+    switched : (P, K, Ci, 3) independent circuits' fields in each state
+    switched_reversing : (Ci,) bool
+    spread : (P, R, G, 3) per ampere; scale : (R, K) amperes
+    scalar : (P, K) bounds of unknown direction
+    exact_cap : int, most generators searched exactly
+
+    Returns
+    -------
+    size (P, K), choice of the switched circuits (P, K, Ci), bound counted apart (P, K)
+    """
+    n_p, n_k = base.shape[:2]
+    n_r, n_g = spread.shape[1:3]
+    weight = (np.linalg.norm(spread, axis=-1).max(axis=0)[:, :, None]
+              * np.abs(scale)[:, None, :]).max(axis=-1).reshape(-1)       # (R*G,)
+    room = max(0, exact_cap - switched.shape[2])
+    order = np.argsort(-weight, kind="stable")
+    keep = order[:room][weight[order[:room]] > 0]
+    rest = np.setdiff1d(np.flatnonzero(weight > 0), keep)
+    flat = spread.reshape(n_p, n_r * n_g, 3)
+    run_of = np.repeat(np.arange(n_r), n_g)
+    kept = flat[:, keep][:, None] * np.abs(scale[run_of[keep]]).T[None, :, :, None]
+    generators = np.concatenate([switched, kept], axis=2)
+    reversing = np.concatenate([switched_reversing, np.ones(len(keep), dtype=bool)])
+    size, choice = _worst(base, generators, reversing, heel, pitch)
+    # The smaller spread generators are counted apart, by the triangle inequality at the worst
+    # attitude: never less than the exact figure.
+    apart = scalar.copy()
+    if len(rest):
+        sizes = _attitude_size(flat[:, rest], heel, pitch)                    # (P, n_rest)
+        apart += sizes @ np.abs(scale[run_of[rest]])
+    return size, choice[..., :switched.shape[2]], apart
+
+
+#: The spot search's caps on generators searched exactly (level, attitude): over many points the
+#: smaller spreads are counted as bounds, and every spot it returns is evaluated again with the
+#: full caps.
+SEARCH_EXACT_GENERATORS = (16, 0)
+
+
+def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: EquipmentFields, *,
+                   exact_generators=(MAX_EXACT_GENERATORS_LEVEL, MAX_EXACT_GENERATORS_ATTITUDE)
+                   ) -> Figures:
+    """The figures held against a sensor's budget at P points in every state.
+
+    Parameters
+    ----------
+    plan : Plan
+        Its circuits (currents per state, which switch independently) and runs.
+    sensor : Sensor
+        Its budget, reference state, heel and pitch limits.
+    horizontal_t : float [T]
+        The Earth's horizontal field H.
+    parts : RunParts
+        Each run's field per ampere at the points.
+    items : EquipmentFields
+        The equipment at the points.
+    exact_generators : (int, int)
+        Most spread generators (pairs' lies) searched exactly, level and with attitude; the
+        smaller ones beyond are counted as bounds of unknown direction (an upper bound).
+
+    Notes
+    -----
+    Over all headings the largest deviation of a vessel-fixed disturbance b is asin(|b_h|/H)
+    (the needle lies along H + b_h; NGA Pub. 226, semicircular deviation). A field of unknown
+    direction and size at most beta can line up with b_h at the worst attitude, so the worst case
+    is asin((|b_h| + beta)/H), exact for the worst direction.
+
+    Circuits that switch independently may be on or off (or on either way round) on top of any
+    state; the worst switching is found exactly (:func:`deviation.physics.worst_case.worst_combination`).
+    A bound's current is taken with every independent circuit of its run on.
+
+    A sensor adjusted in a reference state keeps the residual field: compass correctors and an
+    electronic compass's hard-iron calibration cancel the vessel-fixed field present when they are
+    set (the reference state, independent circuits off), so in another state the sensor sees
+    b - b_ref and its deviation is delta(b - b_ref), not delta(b) - delta(b_ref) (the latter is what
+    a deviation card alone leaves, with no correction). A bound's share of the residual goes with
+    the change of its current, because the cable does not move between states; an item present in
+    both states is adjusted out with the reference.
+    """
+    h = horizontal_t
+    heel, pitch = sensor.max_heel_deg, sensor.max_pitch_deg
+    matrix = plan.circuit_matrix                                 # (R, C)
+    currents = plan.circuit_currents_a                           # (C, K)
+    independent = plan.independent
+    base_a = matrix @ (currents * ~independent[:, None])         # (R, K)
+    on_a = matrix[:, independent] @ np.abs(currents[independent])  # (R, K) all independents on
+    base = np.einsum("prj,rk->pkj", parts.unit_t, base_a) + items.oriented      # (P, K, 3)
+    circuit_unit = np.einsum("prj,rc->pcj", parts.unit_t, matrix[:, independent])  # (P, Ci, 3)
+    switched = circuit_unit[:, None, :, :] * currents[independent].T[None, :, :, None]
+    reversing = np.array([c.reversing for c in plan.circuits if c.independent], dtype=bool)
+    scale = np.abs(base_a) + on_a
+    scalar = parts.bound_t @ scale + items.bound                                 # (P, K)
+
+    def held(field, scale, scalar, heel, pitch, cap):
+        return _held(field, switched, reversing, parts.spread_t, scale, scalar, heel, pitch, cap)
+
+    cap_level, cap_attitude = exact_generators
+    level, _, level_apart = held(base, scale, scalar, 0.0, 0.0, cap_level)
+    tilted, choice, tilted_apart = (
+        held(base, scale, scalar, heel, pitch, cap_attitude) if heel or pitch
+        else held(base, scale, scalar, 0.0, 0.0, cap_level))
+    vector = asin_deg(heading.horizontal_disturbance(
+        base + np.einsum("pkc,pkcj->pkj", choice, switched)) / h)
+    absolute = asin_deg((level + level_apart) / h)
+    attitude = asin_deg((tilted + tilted_apart) / h)
+    change = attitude_change = None
+    overwhelmed = tilted + tilted_apart >= h
+    used, held_bound = attitude, tilted_apart
+    if sensor.reference_state is not None:
+        k = plan.state_index(sensor.reference_state)
+        residual = base - base[:, k:k + 1, :]
+        moved = np.abs(base_a - base_a[:, k:k + 1]) + on_a
+        changing = parts.bound_t @ moved + items.changing
+        level_r, choice, level_r_apart = held(residual, moved, changing, 0.0, 0.0, cap_level)
+        tilted_r, tilted_r_apart = level_r, level_r_apart
+        if heel or pitch:
+            tilted_r, choice, tilted_r_apart = held(residual, moved, changing, heel, pitch,
+                                                    cap_attitude)
+        change = asin_deg((level_r + level_r_apart) / h)
+        attitude_change = asin_deg((tilted_r + tilted_r_apart) / h)
+        # Adjusted, the sensor sees only the residual: that is what can overwhelm it.
+        overwhelmed = tilted_r + tilted_r_apart >= h
+        used, held_bound = attitude_change, tilted_r_apart
+    within = (used <= sensor.budget_deg) & ~overwhelmed
+    total = base + np.einsum("pkc,pkcj->pkj", choice, switched)
+    return Figures(vector, absolute, attitude, change, attitude_change, used, overwhelmed, within,
+                   choice, total, held_bound)

@@ -1,0 +1,139 @@
+"""Total-field (scalar) magnetometers: the error |F + b| - |F| over headings, attitude and
+switching, held against a budget in nT."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .equipment import EquipmentFields
+from .runs import RunParts
+
+
+@dataclass(frozen=True)
+class TotalFieldFigures:
+    """Total-field figures of a sensor at P positions in K states; arrays (P, K) [T].
+
+    high_t, low_t : largest and smallest |F + C b| - |F| over headings, attitudes within heel
+        and pitch, switchings of the independent circuits, and every bound of unknown direction
+        (b is the residual b - b_ref for a sensor compensated in a reference state)
+    error_t : max(high_t, -low_t), the figure held against budget_nt
+    peak_to_peak_t : level, over a full turn of heading, the largest over the switchings tried,
+        bounds counted at their worst (2 x bound)
+    bound_t : the bounds of unknown direction counted (pairs of unknown lie, twisted floors,
+        equipment of unknown orientation)
+    within_budget : error_t <= budget_nt
+    exhaustive : every switching was tried (else chosen by sign, to first order)
+    combination : (P, K, Ci) the switching behind high_t or low_t, whichever sets error_t
+    """
+
+    high_t: np.ndarray
+    low_t: np.ndarray
+    error_t: np.ndarray
+    peak_to_peak_t: np.ndarray
+    bound_t: np.ndarray
+    within_budget: np.ndarray
+    exhaustive: bool
+    combination: np.ndarray
+
+
+def sensor_field_parts(plan, sensor, parts: RunParts, items: EquipmentFields):
+    """The field a sensor sees in every state, split as the budget splits it.
+
+    Returns
+    -------
+    base : (P, K, 3) [T]
+        Circuits that switch with the states, and oriented equipment; the residual b - b_ref
+        for a sensor with a reference state.
+    switched : (P, K, Ci, 3) [T]
+        Each independent circuit at its current in each state.
+    reversing : (Ci,) bool
+    bound : (P, K) [T]
+        Every part of unknown direction, as a size: a pair's spread over its lies (each
+        generator's length, by the triangle inequality), twisted floors, equipment bounds (for
+        a reference state, only what changes from it).
+    """
+    matrix = plan.circuit_matrix
+    currents = plan.circuit_currents_a
+    independent = plan.independent
+    base_a = matrix @ (currents * ~independent[:, None])
+    on_a = matrix[:, independent] @ np.abs(currents[independent])
+    base = np.einsum("prj,rk->pkj", parts.unit_t, base_a) + items.oriented
+    circuit_unit = np.einsum("prj,rc->pcj", parts.unit_t, matrix[:, independent])
+    switched = circuit_unit[:, None, :, :] * currents[independent].T[None, :, :, None]
+    reversing = np.array([c.reversing for c in plan.circuits if c.independent], dtype=bool)
+    per_ampere = parts.bound_t + np.linalg.norm(parts.spread_t, axis=-1).sum(axis=-1)  # (P, R)
+    if sensor.reference_state is None:
+        bound = per_ampere @ (np.abs(base_a) + on_a) + items.bound
+    else:
+        k = plan.state_index(sensor.reference_state)
+        base = base - base[:, k:k + 1, :]
+        moved = np.abs(base_a - base_a[:, k:k + 1]) + on_a
+        bound = per_ampere @ moved + items.changing
+    return base, switched, reversing, bound
+
+
+def total_field_figures(plan, sensor, horizontal_t, vertical_t, parts: RunParts,
+                        items: EquipmentFields) -> TotalFieldFigures:
+    """The figures of a total-field magnetometer at P points in every state.
+
+    Parameters
+    ----------
+    plan, sensor, parts, items : as for :func:`budget_figures`
+    horizontal_t, vertical_t : float [T]
+        The Earth's H and Z (positive down).
+
+    Notes
+    -----
+    A scalar magnetometer reads |F + C b|; its error over headings and attitudes is exact
+    (:func:`deviation.physics.total_field.total_field_error_range`). The error grows with F . C b
+    (exactly: |F + Cb|^2 = F^2 + 2 F . Cb + |b|^2), so at any one heading and attitude the worst
+    switching is, to first order in |b|/F, the sign split of F-hat . C v_i. Up to
+    MAX_SWITCHINGS_ENUMERATED switchings every one is tried and scored exactly; beyond, the
+    sign-split candidates (the zonotope's vertices) are scored exactly. The largest error is a
+    convex function of b (a maximum of norms of affine maps), so over the zonotope its maximum
+    is at a vertex and the vertex list gives it exactly (Rockafellar, section 32); the smallest
+    is a first-order choice. A bound beta of unknown direction moves |F + Cb| by at most beta.
+    A sensor compensated in a reference state (the survey's compensation flight) keeps the
+    residual b - b_ref: the permanent term of the compensation takes out a vessel-fixed field.
+
+    References
+    ----------
+    R. T. Rockafellar, *Convex Analysis*, Princeton University Press, 1970, section 32.
+    """
+    from ..constants import MAX_SWITCHINGS_ENUMERATED
+    from ..physics.total_field import (
+        candidate_switchings,
+        heading_error_peak_to_peak,
+        total_field_error_range,
+    )
+
+    h, z = horizontal_t, vertical_t
+    heel, pitch = sensor.max_heel_deg, sensor.max_pitch_deg
+    base, switched, reversing, bound = sensor_field_parts(plan, sensor, parts, items)
+    n_p, n_k = base.shape[:2]
+    n_c = switched.shape[2]
+    high = np.zeros((n_p, n_k))
+    low = np.zeros((n_p, n_k))
+    p2p = np.zeros((n_p, n_k))
+    combination = np.zeros((n_p, n_k, n_c), dtype=int)
+    exhaustive = True
+    for p in range(n_p):
+        for k in range(n_k):
+            vectors = switched[p, k]
+            choices, complete = candidate_switchings(vectors, reversing,
+                                                     MAX_SWITCHINGS_ENUMERATED)
+            exhaustive &= complete
+            fields = base[p, k][None, :] + choices @ vectors                       # (M, 3)
+            lo, hi = total_field_error_range(fields, h, z, heel, pitch)
+            i_hi, i_lo = int(np.argmax(hi)), int(np.argmin(lo))
+            high[p, k], low[p, k] = hi[i_hi], lo[i_lo]
+            combination[p, k] = choices[i_hi] if hi[i_hi] >= -lo[i_lo] else choices[i_lo]
+            p2p[p, k] = np.max(heading_error_peak_to_peak(fields, h, z))
+    high, low = high + bound, low - bound
+    p2p = p2p + 2.0 * bound
+    error = np.maximum(high, -low)
+    budget_t = (sensor.budget_nt or 0.0) * 1e-9
+    return TotalFieldFigures(high, low, error, p2p, bound, error <= budget_t, bool(exhaustive),
+                             combination)
