@@ -9,7 +9,7 @@ from click.testing import CliRunner
 from conftest import SAMPLES, straight_wire_plan
 from deviation import spot as spot_module
 from deviation.analysis import analyse, parts_at
-from deviation.budget import budget_figures, equipment_fields
+from deviation.budget import equipment_fields, sensor_figures
 from deviation.cli import main
 from deviation.physics.field import segment_field
 from deviation.reader import read_plan
@@ -60,8 +60,8 @@ def test_coarse_to_fine_matches_brute_force_on_a_sample(monkeypatch):
                               conductors.segment_currents(plan.run_currents_a), points,
                               radius_m=conductors.radius_m, return_inside=True)
     items = equipment_fields(plan, sensor, points, analysis.site.horizontal_t)
-    figures = budget_figures(plan, sensor, analysis.site.horizontal_t, parts_at(plan, points),
-                             items)
+    figures = sensor_figures(plan, sensor, analysis.site, parts_at(plan, points), points,
+                             items=items)
     brute = np.where(inside, np.inf, figures.held.max(axis=1))
     assert result.spots[0].held == pytest.approx(brute.min(), abs=1e-9)
 
