@@ -367,7 +367,7 @@ def test_an_overwhelmed_compass_shows_the_word_never_the_placeholder_figure(plan
                 degree_columns = {c.column for c in row if str(c.value).endswith("°")}
                 continue
             if titles[0] == "sensor":                         # the summary: the state columns
-                first, last = titles.index("max heel [°]") + 1, titles.index("verdict")
+                first, last = titles.index("budget") + 1, titles.index("verdict")
                 degree_columns = {c.column for c in row[first:last]}
                 continue
             for cell in row:
