@@ -418,7 +418,8 @@ class SwitchedError:
     """Total-field error over headings, attitudes and the switchings of independent circuits.
 
     low, high : the smallest and largest |F + C b| - |F| [unit of H]
-    low_choice, high_choice : (n,) int, a switching behind each
+    low_choice, high_choice : (n,) int, a switching behind each (for a ``low`` that is a bound,
+        the vertex where the bound is reached; its own smallest error is at least ``low``)
     peak_to_peak : level, over a full turn of heading, the largest over the switchings
     exhaustive : every switching was scored; else ``high`` is still exact, while ``low`` and
         ``peak_to_peak`` are bounds on the safe side (see :func:`error_over_switchings`)
