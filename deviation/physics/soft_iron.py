@@ -635,14 +635,14 @@ def total_field_error_over_attitude(matrix_vessel, fixed_vessel, horizontal, ver
     -------
     low, high : float
         Every error lies in [low, high] (proven; each within ``tolerance`` of the extreme,
-        default 1e-6 of H).
+        default 1e-4 of H, about 2 nT at H = 20 uT).
 
     Notes
     -----
     Exact over the heading at each (heel, pitch); over heel and pitch a Lipschitz branch and
     bound, :math:`|F + b|` moving by at most :math:`|P| + 2\|M\|_2|F|` per radian of either.
     """
-    tol = 1e-6 * float(horizontal) if tolerance is None else float(tolerance)
+    tol = 1e-4 * float(horizontal) if tolerance is None else float(tolerance)
     heel_max = np.radians(abs(float(max_heel_deg)))
     pitch_max = np.radians(abs(float(max_pitch_deg)))
     _, slope = _sizes(matrix_vessel, fixed_vessel, horizontal, vertical)
