@@ -134,7 +134,7 @@ def cuboid_tensor(points_m, sides_m):
 
     References
     ----------
-    J. P. Selvaggi et al. and the standard charge model: G. Akoun and J.-P. Yonnet, "3D
+    The standard surface-charge model: G. Akoun and J.-P. Yonnet, "3D
     analytical calculation of the forces exerted between two cuboidal magnets", IEEE Trans.
     Magn. 20(5), 1962-1964 (1984); R. Engel-Herbert and T. Hesjedal, "Calculation of the
     magnetic stray field of a uniaxial magnetic domain", J. Appl. Phys. 97, 074504 (2005).

@@ -65,8 +65,7 @@ class Coefficients:
     :math:`\mathfrak B = (cZ + P)/\lambda H`; ``c`` :math:`\mathfrak C = (fZ + Q)/\lambda H`;
     ``d`` :math:`\mathfrak D = (a-e)/2\lambda`; ``e`` :math:`\mathfrak E = (b+d)/2\lambda`.
     ``b_induced`` and ``c_induced`` are the soft-iron parts cZ/(lambda H), fZ/(lambda H), which
-    grow with Z/H. ``heeling`` is J, the deviation per radian of heel on north, to first order
-    :math:`((e-k)Z/H - g - R/H)/\lambda`... (exactly :func:`heeling_coefficient`).
+    grow with Z/H. The heeling coefficient is :func:`heeling_coefficient`.
     """
 
     lam: np.ndarray

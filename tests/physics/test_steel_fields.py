@@ -128,3 +128,40 @@ def test_points_inside_or_on_a_body_are_refused():
         magnetised.cylinder_tensor([0.0500000001, 0.0, 0.1], 1.0, 0.1)
     with pytest.raises(ValueError):
         magnetised.dipole_tensor([0.0, 0.0, 0.0])
+
+
+def test_ellipsoid_tensor_of_a_sphere_is_the_dipole():
+    # Outside a uniformly magnetised sphere the field is exactly the dipole m = M V (Jackson
+    # §5.10).
+    rng = np.random.default_rng(9)
+    points = rng.normal(size=(300, 3))
+    points = points[np.linalg.norm(points, axis=1) > 0.51]
+    volume = 4 / 3 * np.pi * 0.5 ** 3
+    np.testing.assert_allclose(magnetised.ellipsoid_tensor(points, [0.5, 0.5, 0.5]),
+                               volume * magnetised.dipole_tensor(points), atol=1e-14)
+
+
+def test_ellipsoid_tensor_meets_the_jump_condition_at_its_surface():
+    # Just outside the surface, H_out = H_in + (M . n) n with H_in = -N M (the normal component
+    # of B continuous, the tangential H continuous; Jackson §5.9): T = -N + n n^T.
+    axes = np.array([1.0, 0.4, 0.2])
+    rng = np.random.default_rng(10)
+    for _ in range(20):
+        direction = rng.normal(size=3)
+        surface = direction / np.sqrt(np.sum(direction ** 2 / axes ** 2))
+        normal = surface / axes ** 2
+        normal /= np.linalg.norm(normal)
+        tensor = magnetised.ellipsoid_tensor(surface * (1 + 1e-10), axes)
+        want = -np.diag(demag.ellipsoid_factors(axes)) + np.outer(normal, normal)
+        np.testing.assert_allclose(tensor, want, atol=1e-7)
+
+
+def test_ellipsoid_tensor_tends_to_the_dipole_far_away():
+    axes = np.array([0.6, 0.2, 0.1])
+    volume = 4 / 3 * np.pi * np.prod(axes)
+    point = np.array([3.0, -4.0, 12.0])
+    tensor = magnetised.ellipsoid_tensor(point, axes)
+    dipole = volume * magnetised.dipole_tensor(point)
+    assert np.max(np.abs(tensor - dipole)) / np.max(np.abs(dipole)) < 2e-3
+    with pytest.raises(ValueError, match="inside or on"):
+        magnetised.ellipsoid_tensor([0.1, 0.0, 0.0], axes)
