@@ -14,6 +14,7 @@ import numpy as np
 from .budget import (
     TESLA_PER_NT,
     RunParts,
+    adjusting_vertical_t,
     asin_deg,
     circuit_currents,
     equipment_fields,
@@ -68,6 +69,29 @@ class EquipmentContribution:
 
 
 @dataclass(frozen=True)
+class SteelContribution:
+    """One steel item at one sensor in one state: its induced field, alone.
+
+    ``held`` is what it alone makes of the held figure in the budget's unit (its own worst
+    over headings, attitude and its permeability band; for an adjusted sensor what the
+    adjustment leaves of it); ``bound`` where its band's ends are proven bounds (boxes,
+    cylinders, hollow items) rather than exact (spheres, ellipsoids); ``horizontal_t`` and
+    ``vertical_t`` bound the sizes of its field over headings, level.
+    """
+
+    name: str
+    shape: str
+    distance_m: float                 # from the sensor to the item's surface
+    max_deviation_deg: float | None   # alone, level, absolute (heading sensors)
+    held: float
+    share_of_budget: float
+    bound: bool
+    horizontal_t: float
+    vertical_t: float
+    adjusted: bool = False            # present in the reference state too
+
+
+@dataclass(frozen=True)
 class StateResult:
     """One sensor in one state. ``held`` is the figure held against the budget, in the budget's
     unit (degrees, or nT for a total-field magnetometer); ``status`` where it stands. The degree
@@ -102,6 +126,16 @@ class StateResult:
     total_field_error_t: float | None = None
     heading_peak_to_peak_t: float | None = None
     total_field_bound_t: float | None = None
+    # Steel items (empty without a steel sheet): each alone, lambda's range over the bands, and
+    # what the sensor sees of the steel in the worst choice (b = steel_fixed_t + steel_matrix
+    # F_v, vessel frame), for the card.
+    steel: tuple[SteelContribution, ...] = ()
+    lam_low: float | None = None
+    lam_high: float | None = None
+    steel_fixed_t: np.ndarray | None = None
+    steel_matrix: np.ndarray | None = None
+    steel_absolute_matrix: np.ndarray | None = None   # the same steel, not adjusted
+    steel_spread_t: float = 0.0       # total field: what the bands may add to |b| (the card's band)
 
     @property
     def status(self) -> Status:
@@ -146,6 +180,12 @@ class SensorResult:
     def status(self) -> Status:
         """Within (every state it is used in) or over: the sensor's verdict."""
         return Status.WITHIN if self.within_budget else Status.OVER
+
+    @property
+    def lam_low(self) -> float | None:
+        """The least lambda over the states (steel items only; None without them)."""
+        values = [s.lam_low for s in self.states if s.lam_low is not None]
+        return min(values) if values else None
 
     @property
     def adjustment_absorbs_deg(self) -> float | None:
@@ -235,6 +275,81 @@ def equipment_at(plan, sensor, position, state, site):
     return tuple(out)
 
 
+def steel_at(plan, sensor, position, site, figures_steel, *, vertical_adjust_t):
+    """Each steel item alone at one position, per state: (K,) tuples of SteelContribution."""
+    from .budget import steel as steel_budget
+    from .budget.with_steel import item_alone
+    from .physics import induced
+
+    parts = steel_budget.steel_parts_at(plan, position[None, :])
+    if parts is None:
+        return [()] * len(plan.state_names)
+    h, z = site.horizontal_t, site.vertical_t
+    total = site.total_t
+    if sensor.budget.degrees:
+        held, level, bound = item_alone(plan, sensor, h, z, parts,
+                                        adjusting_vertical_t=vertical_adjust_t)
+    else:
+        held = level = None
+        bound = ~parts.exact
+    out = []
+    for k, state in enumerate(plan.state_names):
+        rows = []
+        for i, item in enumerate(plan.steel):
+            if not item.present_in(state):
+                continue
+            mats = parts.centre[0, i][None] + np.einsum(
+                "cj,jab->cab", _CORNERS, parts.generators[0, i])           # (8, 3, 3)
+            horizontal = float(np.max(_block_norm(mats[:, :2, :2]) * h
+                                      + np.linalg.norm(mats[:, :2, 2], axis=-1) * abs(z)))
+            vertical = float(np.max(np.linalg.norm(mats[:, 2, :2], axis=-1) * h
+                                    + np.abs(mats[:, 2, 2]) * abs(z)))
+            adjusted = (sensor.reference_state is not None
+                        and item.present_in(sensor.reference_state))
+            if held is not None:
+                figure, alone = float(held[k, i]), float(level[k, i])
+            else:
+                # A total-field magnetometer: its field moves |F + b| by at most its size.
+                size = float(np.max(np.sqrt(np.sum(mats ** 2, axis=(-2, -1))))) * total
+                figure, alone = size / TESLA_PER_NT, None
+                if adjusted:
+                    figure = 0.0
+            distance = float(induced.distance_outside_m(item.shape, item.sizes_m,
+                                                        induced.body_points(
+                                                            item.position_m, item.rotation,
+                                                            position)))
+            rows.append(SteelContribution(item.name, item.shape, distance, alone, figure,
+                                          sensor.budget.share(figure), bool(bound[i]),
+                                          horizontal, vertical, adjusted))
+        out.append(tuple(sorted(rows, key=lambda r: (-r.held, r.name))))
+    return out
+
+
+def _total_field_steel(plan, sensor, position, k, field_t, ref_k, totals):
+    """A total-field magnetometer's steel in state k, for the card: the fixed field of the held
+    switching (less the reference's), the steel's matrix at the middle of its bands, and what
+    the bands may add to |b| at most (||G|| |F| each, by the triangle inequality)."""
+    from .budget.steel import lambda_range, seen_steel, steel_parts_at
+
+    parts = steel_parts_at(plan, position[None, :])
+    low, high = lambda_range(plan, parts, k)
+    seen = seen_steel(plan, sensor, parts, k, 0.0)
+    fixed = field_t - (totals[ref_k] if ref_k is not None else 0.0)
+    spread = float(np.sqrt(np.sum(seen.matrix_generators[0] ** 2, axis=(-2, -1))).sum())
+    return dict(lam_low=float(low[0]), lam_high=float(high[0]),
+                steel_fixed_t=frozen_array(fixed), steel_matrix=frozen_array(seen.matrix[0]),
+                steel_spread_t=spread)
+
+
+#: The eight corners of a band's box as signs of its three generators.
+_CORNERS = np.array([[1.0 if (k >> j) & 1 else -1.0 for j in range(3)] for k in range(8)])
+
+
+def _block_norm(m):
+    """||m||_2 of (..., 2, 2) matrices."""
+    return np.linalg.norm(m, ord=2, axis=(-2, -1))
+
+
 def evaluate_sensor(plan: Plan, sensor: Sensor, site: SiteField, parts: RunParts,
                     ends_share=None) -> SensorResult:
     """Budget of one sensor in every state, from each run's field per ampere at it (P = 1).
@@ -252,6 +367,10 @@ def evaluate_sensor(plan: Plan, sensor: Sensor, site: SiteField, parts: RunParts
     ref_k = plan.state_index(sensor.reference_state) if sensor.reference_state else None
     rank_own = alone.alone_deg if alone.alone_deg is not None else alone.held
     totals = figures.total_t[0]                                             # (K, 3)
+    steel_info = degrees.steel if degrees is not None else None
+    steel_rows = (steel_at(plan, sensor, position, site, steel_info,
+                           vertical_adjust_t=adjusting_vertical_t(plan, site))
+                  if plan.steel else [()] * len(plan.state_names))
     results = []
     for k, state in enumerate(plan.state_names):
         is_reference = k == ref_k
@@ -277,11 +396,20 @@ def evaluate_sensor(plan: Plan, sensor: Sensor, site: SiteField, parts: RunParts
             fraction_of_total=float(np.linalg.norm(totals[k])) / site.total_t,
             equipment_bound_t=float(items.bound[0, k]), runs=tuple(runs[r] for r in order),
             equipment=equipment_at(plan, sensor, position, state, site),
-            bound_t=float(figures.bound_t[0, k]), switched_on=on)
+            bound_t=float(figures.bound_t[0, k]), switched_on=on, steel=steel_rows[k])
+        if steel_info is not None:
+            values.update(lam_low=float(steel_info.lam_low[0, k]),
+                          lam_high=float(steel_info.lam_high[0, k]),
+                          steel_fixed_t=frozen_array(steel_info.fixed_t[0, k]),
+                          steel_matrix=frozen_array(steel_info.matrix[0, k]),
+                          steel_absolute_matrix=frozen_array(steel_info.absolute_matrix[0, k]))
+        elif plan.steel:
+            values.update(_total_field_steel(plan, sensor, position, k, totals[k], ref_k, totals))
         if degrees is not None:
             # "if every field lined up": each run's own worst size, added as magnitudes
             sizes = (heading.horizontal_disturbance(alone.field_t[k]).sum()
-                     + alone.bound_t[k].sum() + items.bound[0, k])
+                     + alone.bound_t[k].sum() + items.bound[0, k]
+                     + sum(row.horizontal_t for row in steel_rows[k]))
             values.update(
                 vector_deviation_deg=float(degrees.vector_deviation_deg[0, k]),
                 max_deviation_deg=float(degrees.max_deviation_deg[0, k]),

@@ -115,6 +115,29 @@ def _total_field_nt(b_t, horizontal_t, vertical_t, headings_deg):
     return (seen - total) / TESLA_PER_NT
 
 
+def _steel_curve(st, h, z, headings, beta, scalar, unadjusted_matrix):
+    """A state's card with steel items: the figure of the worst choice (its fixed field and the
+    steel's matrix as the sensor sees them, :class:`~deviation.analysis.StateResult`) at each
+    heading, level, and the band the parts of unknown direction may add there."""
+    from .physics import soft_iron
+
+    fixed, matrix = np.asarray(st.steel_fixed_t), np.asarray(st.steel_matrix)
+    b = soft_iron.level_disturbance(matrix, fixed, h, z, headings)
+    if scalar:
+        total = np.hypot(h, z)
+        seen = np.sqrt((h + b[..., 0]) ** 2 + b[..., 1] ** 2 + (z + b[..., 2]) ** 2)
+        return (seen - total) / TESLA_PER_NT, np.full(len(headings), beta / TESLA_PER_NT), None
+    figure = np.degrees(np.arctan2(b[..., 1], h + b[..., 0]))
+    length = np.hypot(h + b[..., 0], b[..., 1])
+    ratio = np.divide(beta, length, out=np.full_like(length, np.inf), where=length > 0)
+    band = np.where(ratio < 1.0, np.degrees(np.arcsin(np.clip(ratio, 0.0, 1.0))), 180.0)
+    unadjusted = None
+    if unadjusted_matrix is not None:
+        unadjusted = soft_iron.deviation_curve_deg(unadjusted_matrix, np.asarray(st.field_t), h,
+                                                   z, headings)
+    return figure, band, unadjusted
+
+
 def deviation_card(analysis, sensor_result, step_deg=15.0) -> Card:
     """The card of one sensor: for each state, the figure at every ``step_deg`` of heading.
 
@@ -169,8 +192,17 @@ def deviation_card(analysis, sensor_result, step_deg=15.0) -> Card:
         # What rounding leaves of a field equal to the reference is no field at all.
         scale = max(float(np.linalg.norm(st.field_t)), float(np.linalg.norm(b_ref)))
         seen = np.where(np.abs(seen) <= 1e-12 * scale, 0.0, seen)
-        beta = float(unknown[k])
-        if scalar:
+        beta = float(unknown[k]) + st.steel_spread_t * float(np.hypot(h, z))
+        if st.steel_matrix is not None:
+            # Steel items: the disturbance turns with the Earth's field (deviation.physics.
+            # soft_iron.level_disturbance), drawn for the worst choice of switching and band.
+            absolute = st.steel_absolute_matrix if reference else None
+            figure, band, unadjusted = _steel_curve(st, h, z, headings, beta, scalar, absolute)
+            curve_figure, curve_band, _ = _steel_curve(st, h, z, curve, beta, scalar, None)
+            compass = (np.round(heading.compass_from_magnetic(headings, figure), 9) % 360.0
+                       if sensor.kind not in NOT_STEERED and not scalar else None)
+            seen = np.asarray(st.steel_fixed_t)
+        elif scalar:
             figure = _total_field_nt(seen, h, z, headings)
             curve_figure = _total_field_nt(seen, h, z, curve)
             band = np.full(len(headings), beta / TESLA_PER_NT)

@@ -171,6 +171,37 @@ class Equipment:
 
 
 @dataclass(frozen=True)
+class SteelItem:
+    """A steel item the wiring plan does not carry (an engine block, a tank, a chassis rail),
+    magnetised by the Earth's field: its shape, size, place and permeability band.
+
+    ``sizes_m`` as :func:`deviation.physics.induced.solid_dimensions` takes them; ``rotation``
+    (3, 3) has the item's own axes as columns in the vessel frame (identity: its first size
+    along x, the second along y, the third along z; a cylinder's axis is its third column).
+    """
+
+    name: str
+    position_m: np.ndarray            # (3,) centre, vessel frame
+    shape: str                        # one of schema.STEEL_SHAPES
+    sizes_m: np.ndarray               # sphere (diameter,); cylinder (length, diameter); ...
+    rotation: np.ndarray              # (3, 3)
+    wall_m: float | None              # hollow shapes only
+    mu_low: float                     # relative permeability band
+    mu_high: float                    # (inf allowed)
+    states: tuple[str, ...] | None    # None: present in every state
+    note: str
+    row: int | None
+    axis_text: str | None = None      # the axis cell as given
+    size_text: str | None = None      # the size cell as given
+
+    def __post_init__(self):
+        _freeze(self, "position_m", "sizes_m", "rotation")
+
+    def present_in(self, state: str) -> bool:
+        return self.states is None or state in self.states
+
+
+@dataclass(frozen=True)
 class CandidateSpot:
     name: str
     position_m: np.ndarray
@@ -242,10 +273,16 @@ class Plan:
     skipped_examples: tuple[tuple[str, int], ...] = ()
     #: Notes of items that carry none themselves: {"points"/"spots": {name key: note}}.
     item_notes: dict = field(default_factory=dict, compare=False)
+    #: Steel items (the steel sheet): their induced magnetism turns with the Earth's field.
+    steel: tuple[SteelItem, ...] = ()
+    #: Where the sensors are adjusted or calibrated (None: the plan's own site). A plan moved to
+    #: another place of its area keeps the site it was adjusted at: what the correctors took out
+    #: of the induced field there does not follow the vessel.
+    adjusting_site: Site | None = None
 
     def __post_init__(self):
         for name in ("runs", "state_names", "circuits", "sensors", "equipment", "spots",
-                     "points"):
+                     "points", "steel"):
             object.__setattr__(self, name, tuple(getattr(self, name)))
 
     @property

@@ -1060,6 +1060,180 @@ def _read_equipment(sheet, site, points, states, collector):
     return items
 
 
+#: Permeability band of a steel item where the sheet leaves it blank: from 100 (a rule of thumb
+#: for structural steel, no published source) to no limit (the induced moment grows with the
+#: permeability, so an open top end is the worst case).
+STEEL_MU_LOW = 100.0
+STEEL_MU_HIGH = math.inf
+_VESSEL_AXES = {"x": (1.0, 0.0, 0.0), "y": (0.0, 1.0, 0.0), "z": (0.0, 0.0, 1.0)}
+_UNLIMITED = ("inf", "infinity", "\u221e", "no limit", "unlimited")
+
+
+def _steel_direction(value, collector, row):
+    """A direction from an axis cell: x, y or z (a sign allowed), or x, y, z numbers."""
+    text = " ".join(str(value).split()).lower()
+    letter = re.fullmatch(r"([+-]?)\s*([xyz])\s*([+-]?)", text)
+    if letter:
+        sign = -1.0 if "-" in (letter.group(1) + letter.group(3)) else 1.0
+        return sign * np.array(_VESSEL_AXES[letter.group(2)])
+    parts = text.split(",")
+    try:
+        vector = np.array([float(p) for p in parts])
+    except ValueError:
+        vector = None
+    if vector is None or vector.shape != (3,) or not np.all(np.isfinite(vector)) \
+            or not np.linalg.norm(vector) > 0:
+        collector.add("steel", row, "axis", f'"{value}" is not a direction: give x, y or z (the '
+                      "vessel's axes: forward, port, up) or x, y, z numbers, e.g. 1, 1, 0")
+        return None
+    return vector / np.linalg.norm(vector)
+
+
+def _steel_rotation(shape, direction):
+    """The item's own axes (columns) in the vessel frame: a cylinder's third axis along its
+    direction; a box's or ellipsoid's first side along it, its second level and across it."""
+    from .physics.induced import rotation_from_axis
+
+    if direction is None:
+        return np.eye(3)
+    if shape in ("cylinder", "rod", "hollow cylinder"):
+        return rotation_from_axis(direction)
+    across = np.cross([0.0, 0.0, 1.0], direction)
+    if np.linalg.norm(across) < 1e-9:                 # first side vertical: second along y
+        across = np.array([0.0, 1.0, 0.0])
+    across = across / np.linalg.norm(across)
+    return np.stack([direction, across, np.cross(direction, across)], axis=-1)
+
+
+def _permeability(value, default, collector, row, column):
+    if value is None:
+        return default
+    if isinstance(value, str) and " ".join(value.split()).lower() in _UNLIMITED:
+        return math.inf
+    got = _number(value, "a relative permeability (a number of at least 1, or inf)", collector,
+                  "steel", row, column)
+    if got is not None and got < 1:
+        collector.add("steel", row, column, f"a relative permeability is at least 1, got {got:g} "
+                      "(steel is far above 1; a non-magnetic item does not belong in this sheet)")
+        return None
+    return got
+
+
+def _read_steel(sheet, site, points, states, collector):
+    """Steel items: shape, size, place, permeability band, the states they are present in."""
+    from .plan import SteelItem
+    from .schema import STEEL_SHAPES
+
+    items = []
+    if sheet is None or not _check_columns(sheet, collector):
+        return items
+    expected = {"sphere": (1, "its diameter"), "ellipsoid": (3, "three diameters"),
+                "box": (3, "three sides"), "plate": (3, "three sides"),
+                "hollow box": (3, "three sides"), "cylinder": (2, "length x diameter"),
+                "rod": (2, "length x diameter"), "hollow cylinder": (2, "length x diameter")}
+    small = "in" if site.units in units.IMPERIAL else "mm"
+    seen = set()
+    for number, row in sheet.rows:
+        bad = len(collector.findings)
+        name = _unique_name(row, "item", "item", seen, collector, "steel", number)
+        position = None
+        if row.get("at") is None:
+            collector.add("steel", number, "at", "where is its centre? give a point name or "
+                          "x, y, z")
+        else:
+            position = _position(row["at"], points, site.units, collector, "steel", number, "at")
+        shape = None
+        if row.get("shape") is None:
+            collector.add("steel", number, "shape", "the shape is needed: one of "
+                          + ", ".join(STEEL_SHAPES))
+        else:
+            wanted = key(re.sub(r"[-_]", " ", str(row["shape"])))
+            shape = next((s for s in STEEL_SHAPES if key(s) == wanted), None)
+            if shape is None:
+                collector.add("steel", number, "shape", f'"{row["shape"]}" is not a shape; '
+                              f'expected one of {", ".join(STEEL_SHAPES)}'
+                              f"{_suggest(wanted, STEEL_SHAPES)}")
+        sizes = None
+        if row.get("size") is None:
+            collector.add("steel", number, "size", "the size is needed"
+                          + (f" ({expected[shape][1]})" if shape else ""))
+        else:
+            # Dimensions are separated by x, so a comma between digits is a decimal comma.
+            text = re.sub(r"(?<=\d),(?=\d)", ".", row["size"]) if isinstance(row["size"], str) \
+                else row["size"]
+            try:
+                sizes = np.array(units.parse_sizes(text, site.units))
+            except units.UnitError as error:
+                collector.add("steel", number, "size", str(error))
+            if sizes is not None and shape is not None and len(sizes) != expected[shape][0]:
+                collector.add("steel", number, "size", f"a {shape} needs {expected[shape][1]} "
+                              f"({expected[shape][0]} size{'s' if expected[shape][0] > 1 else ''}"
+                              f"), got {len(sizes)}")
+                sizes = None
+            elif sizes is not None and not np.all(sizes > 0):
+                collector.add("steel", number, "size", "every size must be more than zero")
+                sizes = None
+        direction = None
+        needs_axis = shape in ("cylinder", "rod", "hollow cylinder")
+        if row.get("axis") is not None:
+            direction = _steel_direction(row["axis"], collector, number)
+        elif needs_axis:
+            collector.add("steel", number, "axis", f"a {shape} needs the direction of its length:"
+                          " x (fore and aft), y (athwartships), z (upright) or x, y, z numbers")
+        wall = None
+        hollow = shape is not None and shape.startswith("hollow")
+        if row.get("wall") is not None:
+            if shape is not None and not hollow:
+                collector.add("steel", number, "wall", f"a {shape} has no wall; give the wall "
+                              "only for a hollow box or a hollow cylinder")
+            else:
+                wall = _length(row["wall"], small, collector, "steel", number, "wall")
+                if wall is not None and not wall > 0:
+                    collector.add("steel", number, "wall", "the wall must be more than zero")
+                elif wall is not None and sizes is not None and hollow \
+                        and wall >= float(np.min(sizes)) / 2.0:
+                    collector.add("steel", number, "wall", "the wall must be thinner than half "
+                                  "the smallest size")
+        elif hollow:
+            collector.add("steel", number, "wall", f"a {shape} needs its wall thickness (bare "
+                          f"numbers in {small})")
+        mu_low = _permeability(row.get("mu_low"), STEEL_MU_LOW, collector, number, "mu_low")
+        mu_high = _permeability(row.get("mu_high"), STEEL_MU_HIGH, collector, number, "mu_high")
+        if mu_low is not None and mu_high is not None and mu_high < mu_low:
+            collector.add("steel", number, "mu_high", f"the band's high end {mu_high:g} is below "
+                          f"its low end {mu_low:g}")
+        present = _state_list(row.get("states"), states, collector, "steel", number, "states")
+        if len(collector.findings) > bad:
+            continue
+        axis_text = None if row.get("axis") is None else " ".join(str(row["axis"]).split())
+        items.append(SteelItem(str(name), position, shape, sizes,
+                               _steel_rotation(shape, direction), wall, float(mu_low),
+                               float(mu_high), present, str(row.get("note") or ""), number,
+                               axis_text, " ".join(str(row["size"]).split())))
+    return items
+
+
+def _check_sensors_outside_steel(plan, collector):
+    """A sensor inside or on a steel item: its field there is not the exterior field."""
+    from .physics.induced import body_points, distance_outside_m
+
+    for item in plan.steel:
+        for sensor in plan.sensors:
+            inside = distance_outside_m(item.shape, item.sizes_m, body_points(
+                item.position_m, item.rotation, sensor.position_m))
+            if float(inside) <= STEEL_CLEARANCE_M:
+                collector.add("sensors", sensor.row, "at", f'sensor "{sensor.name}" lies inside '
+                              f'steel item "{item.name}" (steel row {item.row}) or within '
+                              f"{STEEL_CLEARANCE_M * 1000:g} mm of it; move the sensor or check "
+                              "the item's place and size")
+
+
+#: A sensor closer than this to a steel item's surface is refused (its housing cannot be
+#: nearer; the field of the uniformly magnetised body is a model there); common practice,
+#: no source [m].
+STEEL_CLEARANCE_M = 0.005
+
+
 def _for_sensor(value, sensors, collector, sheet, row):
     """The sensor a for_sensor cell names (None: blank or all, every sensor); a finding if unknown.
 
@@ -1245,6 +1419,7 @@ def _plan_from_sheets(sheets, source, collector) -> Plan:
     _check_unused_circuits(sheets.get("runs"), circuit_names, details, collector)
     sensors = _read_sensors(sheets.get("sensors"), site, points, states, collector)
     equipment = _read_equipment(sheets.get("equipment"), site, points, states, collector)
+    steel = _read_steel(sheets.get("steel"), site, points, states, collector)
     only_examples = "sensors" in sheets and sheets["sensors"].examples and not sheets["sensors"].rows
     if "sensors" in sheets and not sensors and (not collector.findings or only_examples):
         examples = ("; its rows beginning with \"e.g.\" are the template's examples, which are "
@@ -1263,11 +1438,13 @@ def _plan_from_sheets(sheets, source, collector) -> Plan:
                 circuits_from_runs=circuit_currents is None, volumes=tuple(volumes),
                 skipped_examples=tuple((name, row) for name in SHEETS if name in sheets
                                        for row in sheets[name].examples),
-                item_notes=_item_notes(sheets))
+                item_notes=_item_notes(sheets), steel=tuple(steel))
     if not collector.findings:
         _check_measured_currents(plan, collector)
     if not collector.findings:
         _check_sensors_outside_conductors(plan, collector)
+    if not collector.findings:
+        _check_sensors_outside_steel(plan, collector)
     if collector.findings:
         raise PlanError(collector.shown())
     return plan

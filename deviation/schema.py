@@ -24,6 +24,9 @@ PAIR_LIES = ("not known", "side by side", "one above the other")
 SWITCHING = ("with states", "independent", "independent reversing")
 #: Kinds of box in the volumes sheet.
 VOLUME_KINDS = ("mount in", "keep out")
+#: Shapes of a steel item (the physics' own list, deviation.physics.induced.SHAPES).
+STEEL_SHAPES = ("sphere", "box", "cylinder", "rod", "plate", "hollow box", "hollow cylinder",
+                "ellipsoid")
 #: Column names of the states sheet that are free text, never an operating state.
 STATES_TEXT_COLUMNS = ("note", "notes", "comment", "comments", "switching")
 
@@ -133,6 +136,30 @@ SCHEMA: dict[str, SheetSpec] = {s.name: s for s in (
            ("moment_am2", "Or: its magnetic moment in A·m²."),
            ("axis", "Direction of the moment, x, y, z (blank: the worst orientation)."),
            ("states", "States it is present or powered in, separated by ; (blank: all)."),
+           NOTE),
+    _sheet("steel",
+           ("item", "Name of a steel item the wiring does not carry: an engine block, a tank, a "
+                    "chassis rail, a steel helm or toolbox. Its magnetism induced by the Earth's "
+                    "field is counted; its permanent magnetism cannot be known from a plan.",
+            True),
+           ("at", "Point name or x, y, z of its centre.", True),
+           ("shape", "sphere, box, cylinder, rod, plate, hollow box (a tank), hollow cylinder (a "
+                     "tube or mast) or ellipsoid.", True, STEEL_SHAPES),
+           ("size", "sphere: its diameter; box, plate, hollow box: three sides (along x, y, z "
+                    "unless axis turns it), e.g. 600 x 400 x 500 mm; cylinder, rod, hollow "
+                    "cylinder: length x diameter, e.g. 1.2 m x 60 mm; ellipsoid: three "
+                    "diameters. Bare numbers in the plan's units.", True),
+           ("axis", "cylinder, rod, hollow cylinder: the direction of its length, x, y or z (or "
+                    "a direction x, y, z); needed for them. box, plate, hollow box, ellipsoid: "
+                    "the direction of its first side (blank: sides along x, y, z)."),
+           ("wall", "hollow box, hollow cylinder: wall thickness; bare numbers in mm (in for "
+                    "imperial plans). Only for hollow shapes."),
+           ("mu_low", "Relative permeability, low end of the band (blank: 100, a rule of thumb "
+                      "for structural steel, no published source)."),
+           ("mu_high", "Relative permeability, high end of the band (blank: no limit, the worst "
+                       "case; inf allowed). The worst of the band counts."),
+           ("states", "States it is present in, separated by ; (blank: all), e.g. a toolbox "
+                      "stowed, landing gear down."),
            NOTE),
     _sheet("spots",
            ("spot", "Name of a candidate mounting position for `deviation spot` to rank.", True),

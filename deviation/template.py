@@ -59,6 +59,11 @@ EXAMPLE_ROWS = {
                  "note": "example"}],
     "equipment": [{"item": EXAMPLE + "speaker", "at": "1.2, 0.4, 1.4", "safe_distance": "0.8 m",
                    "safe_distance_for": "standard", "note": "example"}],
+    "steel": [{"item": EXAMPLE + "engine block", "at": "3.4, 0, 0.45", "shape": "box",
+               "size": "600 x 500 x 550 mm", "note": "example: a small diesel, cast iron"},
+              {"item": EXAMPLE + "water tank", "at": "2.5, 0.5, 0.3", "shape": "hollow box",
+               "size": "500 x 400 x 300 mm", "wall": "3 mm", "mu_low": 100, "mu_high": 2000,
+               "note": "example: steel tank, band from the maker's steel grade"}],
     "spots": [{"spot": EXAMPLE + "bulkhead", "at": "1.5, 0.3, 1.8",
                "for_sensor": "steering compass", "note": "example candidate"}],
     "volumes": [{"volume": EXAMPLE + "engine space", "kind": "keep out", "from": "2.5, -1, 0",
@@ -312,6 +317,13 @@ def plan_rows(plan):
         else None,
         "states": "; ".join(e.states) if e.states is not None else None, "note": e.note or None}
         for e in plan.equipment])
+    rows["steel"] = _table("steel", [{
+        "item": item.name, "at": places.at(item.position_m), "shape": item.shape,
+        "size": _sizes_text(item.sizes_m, unit), "axis": item.axis_text,
+        "wall": None if item.wall_m is None else length_text(item.wall_m, small, bare=False),
+        "mu_low": _permeability_cell(item.mu_low), "mu_high": _permeability_cell(item.mu_high),
+        "states": "; ".join(item.states) if item.states is not None else None,
+        "note": item.note or None} for item in plan.steel])
     spot_notes = notes.get("spots", {})
     rows["spots"] = _table("spots", [{
         "spot": p.name, "at": places.at(p.position_m), "for_sensor": p.for_sensor,
@@ -320,6 +332,19 @@ def plan_rows(plan):
         "volume": v.name, "kind": v.kind, "from": places.at(v.low_m), "to": places.at(v.high_m),
         "for_sensor": v.for_sensor, "note": v.note or None} for v in plan.volumes])
     return rows
+
+
+def _sizes_text(sizes_m, unit):
+    """An item's sizes as typed: bare numbers in the plan's unit, or each with its unit where
+    one needs it (a unit after the last size alone would apply to every bare one)."""
+    texts = [length_text(v, unit) for v in sizes_m]
+    if any(" " in t for t in texts):
+        texts = [length_text(v, unit, bare=False) for v in sizes_m]
+    return " x ".join(texts)
+
+
+def _permeability_cell(mu):
+    return "inf" if mu == float("inf") else number_cell(mu)
 
 
 def write_plan(plan, path):

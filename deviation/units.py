@@ -80,6 +80,52 @@ def parse_length(text, default_unit="m") -> float:
     return value
 
 
+#: What separates the dimensions of an item: 600 x 400 x 500 mm, 0.6 m × 0.4 m, 1.2 m by 60 mm.
+_TIMES = re.compile(r"\s*(?:[x×*]|\bby\b)\s*", re.I)
+_TRAILING_UNIT = re.compile(r"^(.*?\d\.?)\s*(mm|cm|m|ft|in)\s*$", re.I)
+
+
+def parse_sizes(text, default_unit="m") -> tuple[float, ...]:
+    """Dimensions of an item in metres from ``600 x 400 x 500 mm``, ``0.6 m x 40 cm``, ``2'6" x 1'``.
+
+    Parameters
+    ----------
+    text : str or float
+        One or more lengths separated by ``x``, ``×``, ``*`` or ``by``. Each may carry its own
+        unit; a unit written only after the last one applies to every bare number before it
+        (the trade writes ``600 x 400 x 500 mm``); bare numbers otherwise are in
+        ``default_unit``.
+    default_unit : str
+
+    Returns
+    -------
+    tuple of float [m]
+
+    Raises
+    ------
+    UnitError
+        A part that is not a length (the message names it).
+    """
+    if isinstance(text, (int, float)) and not isinstance(text, bool):
+        return (parse_length(text, default_unit),)
+    raw = str(text).strip()
+    parts = [p for p in _TIMES.split(raw)]
+    if not raw or any(not p.strip() for p in parts):
+        raise UnitError(f'"{raw}" is not a list of sizes (e.g. 600 x 400 x 500 mm, 1.2 m x 60 mm)')
+    unit = default_unit
+    last = _TRAILING_UNIT.match(parts[-1])
+    if len(parts) > 1 and last and all(is_bare_number(p) for p in parts[:-1]):
+        unit = last.group(2).lower()
+    out = []
+    for part in parts:
+        try:
+            out.append(parse_length(part, unit))
+        except UnitError:
+            raise UnitError(f'"{part.strip()}" in "{raw}" is not a length (sizes are written '
+                            'e.g. 600 x 400 x 500 mm or 1.2 m x 60 mm)') from None
+    return tuple(out)
+
+
 def is_bare_number(text) -> bool:
     """Whether a cell is a number with no unit (read in the sheet's default unit)."""
     if isinstance(text, bool):

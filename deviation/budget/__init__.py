@@ -22,7 +22,13 @@ from .equipment import (  # noqa: F401
     item_effect,
     safe_distance_disturbance_t,
 )
-from .figures import TESLA_PER_NT, RunFigures, SensorFigures, sensor_figures  # noqa: F401
+from .figures import (  # noqa: F401
+    TESLA_PER_NT,
+    RunFigures,
+    SensorFigures,
+    adjusting_vertical_t,
+    sensor_figures,
+)
 from .held import (  # noqa: F401
     SEARCH_EXACT_GENERATORS,
     Figures,

@@ -19,6 +19,7 @@ from .currents import CircuitCurrents, circuit_currents
 from .equipment import EquipmentFields, asin_deg, equipment_fields
 from .held import Figures, budget_figures
 from .runs import MAX_EXACT_GENERATORS_ATTITUDE, MAX_EXACT_GENERATORS_LEVEL, RunParts
+from .steel import steel_parts_at
 from .total import TotalFieldFigures, total_field_figures
 
 #: Tesla per nanotesla.
@@ -82,8 +83,8 @@ class SensorFigures:
 def sensor_figures(plan, sensor, site, parts: RunParts, points_m=None, *,
                    items: EquipmentFields | None = None, currents: CircuitCurrents | None = None,
                    per_run: bool = False,
-                   exact_generators=(MAX_EXACT_GENERATORS_LEVEL, MAX_EXACT_GENERATORS_ATTITUDE)
-                   ) -> SensorFigures:
+                   exact_generators=(MAX_EXACT_GENERATORS_LEVEL, MAX_EXACT_GENERATORS_ATTITUDE),
+                   steel=None, steel_exact: bool = True) -> SensorFigures:
     """Every figure a sensor needs at P points: the one entry to the budget's rules.
 
     Parameters
@@ -105,14 +106,24 @@ def sensor_figures(plan, sensor, site, parts: RunParts, points_m=None, *,
         Also each run alone (P must be 1).
     exact_generators : (int, int)
         As :func:`deviation.budget.held.budget_figures`.
+    steel : SteelParts, optional
+        The plan's steel items at the points, if already computed (else computed here when the
+        plan has any).
+    steel_exact : bool
+        With steel, the exact worst over headings (False: a quicker proven bound, for searches
+        over many positions; every position they return is evaluated again exactly).
     """
     points = sensor.position_m[None, :] if points_m is None else np.asarray(points_m, float)
     h = site.horizontal_t
     split = currents or circuit_currents(plan)
     if items is None:
         items = equipment_fields(plan, sensor, points.reshape(-1, 3), h)
+    if steel is None and plan.steel:
+        steel = steel_parts_at(plan, points)
+    z_adjust = adjusting_vertical_t(plan, site)
     if sensor.budget.unit is Unit.NANOTESLA:
-        scalar = total_field_figures(plan, sensor, h, site.vertical_t, parts, items, split)
+        scalar = total_field_figures(plan, sensor, h, site.vertical_t, parts, items, split,
+                                     steel=steel, steel_exact=steel_exact)
         base = np.einsum("prj,rk->pkj", parts.unit_t, split.base_a) + items.oriented
         total = base + np.einsum("pkc,pkcj->pkj", scalar.combination,
                                  split.switched_fields(parts.unit_t))
@@ -121,13 +132,24 @@ def sensor_figures(plan, sensor, site, parts: RunParts, points_m=None, *,
                                 scalar.combination, total, scalar.bound_t, None, scalar)
     else:
         degrees = budget_figures(plan, sensor, h, parts, items, exact_generators=exact_generators,
-                                 currents=split)
+                                 currents=split, steel=steel, vertical_t=site.vertical_t,
+                                 adjusting_vertical_t=z_adjust, steel_exact=steel_exact)
         figures = SensorFigures(Unit.DEGREES, degrees.budget_used_deg, degrees.within_budget,
                                 degrees.overwhelmed, degrees.combination, degrees.total_t,
                                 degrees.bound_t, degrees, None)
     if per_run:
         figures = _with_runs(figures, plan, sensor, site, parts, split)
     return figures
+
+
+def adjusting_vertical_t(plan, site) -> float:
+    """Z [T] (down positive) where the plan's sensors are adjusted: its adjusting site, or
+    ``site`` (the plan's own) when it names none."""
+    if plan.adjusting_site is None:
+        return site.vertical_t
+    from ..sitefield import site_field
+
+    return site_field(plan.adjusting_site).vertical_t
 
 
 def _with_runs(figures, plan, sensor, site, parts, split):

@@ -10,7 +10,7 @@ import numpy as np
 from ..physics import heading
 from ..physics.worst_case import horizontal_over_attitude, worst_combination
 from .currents import CircuitCurrents, circuit_currents
-from .equipment import EquipmentFields, asin_deg
+from .equipment import OVERWHELMED_DEG, EquipmentFields, asin_deg
 from .runs import MAX_EXACT_GENERATORS_ATTITUDE, MAX_EXACT_GENERATORS_LEVEL, RunParts
 
 
@@ -31,6 +31,7 @@ class Figures:
         figure (1 on, 0 off, -1 on reversed)
     total_t : (P, K, 3) [T] the vector field in that worst combination
     bound_t : (P, K) [T] the bounds of unknown direction counted in the held figure
+    steel : what steel items add (:class:`.with_steel.SteelFigures`); None without steel
     """
 
     vector_deviation_deg: np.ndarray
@@ -44,6 +45,7 @@ class Figures:
     combination: np.ndarray
     total_t: np.ndarray
     bound_t: np.ndarray
+    steel: object = None
 
 
 def _worst(base, generators, reversing, heel, pitch):
@@ -107,7 +109,8 @@ SEARCH_EXACT_GENERATORS = (16, 0)
 
 def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: EquipmentFields, *,
                    exact_generators=(MAX_EXACT_GENERATORS_LEVEL, MAX_EXACT_GENERATORS_ATTITUDE),
-                   currents: CircuitCurrents | None = None) -> Figures:
+                   currents: CircuitCurrents | None = None, steel=None, vertical_t=None,
+                   adjusting_vertical_t=None, steel_exact: bool = True) -> Figures:
     """The figures held against a sensor's budget at P points in every state.
 
     Parameters
@@ -125,6 +128,12 @@ def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: Equipment
     exact_generators : (int, int)
         Most spread generators (pairs' lies) searched exactly, level and with attitude; the
         smaller ones beyond are counted as bounds of unknown direction (an upper bound).
+    steel : SteelParts, optional
+        The plan's steel items at the points; with any present the disturbance turns with the
+        Earth's field and the figures come from :func:`.with_steel.steel_figures` (needs
+        ``vertical_t``, Z where judged, and ``adjusting_vertical_t``, Z where adjusted).
+    steel_exact : bool
+        With steel: the exact worst over headings (False: a quicker proven bound, for searches).
 
     Notes
     -----
@@ -148,6 +157,9 @@ def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: Equipment
     h = horizontal_t
     heel, pitch = sensor.max_heel_deg, sensor.max_pitch_deg
     split = currents or circuit_currents(plan)
+    if steel is not None and np.any(steel.centre != 0.0):
+        return _with_steel(plan, sensor, h, vertical_t, parts, items, steel, split,
+                           exact_generators, steel_exact, adjusting_vertical_t)
     base_a = split.base_a                                                        # (R, K)
     base = np.einsum("prj,rk->pkj", parts.unit_t, base_a) + items.oriented      # (P, K, 3)
     switched = split.switched_fields(parts.unit_t)                              # (P, K, Ci, 3)
@@ -189,3 +201,29 @@ def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: Equipment
     total = base + np.einsum("pkc,pkcj->pkj", choice, switched)
     return Figures(vector, absolute, attitude, change, attitude_change, used, overwhelmed, within,
                    choice, total, held_bound)
+
+
+def _with_steel(plan, sensor, h, z, parts, items, steel, split, exact_generators, exact,
+                adjusting_vertical_t):
+    """:func:`budget_figures` with steel items (:mod:`.with_steel`)."""
+    from .with_steel import steel_figures
+
+    out, vector, choice, info = steel_figures(
+        plan, sensor, h, z, parts, items, steel, split, exact_generators, exact=exact,
+        adjusting_vertical_t=adjusting_vertical_t)
+    (level, tilted), *residual = out
+    change = attitude_change = None
+    used = tilted
+    scale = split.scale_a()
+    held_bound = parts.bound_t @ scale + items.bound
+    if residual:
+        change, attitude_change = residual[0]
+        used = attitude_change
+        held_bound = parts.bound_t @ split.scale_a(plan.state_index(sensor.reference_state)) \
+            + items.changing
+    overwhelmed = used >= OVERWHELMED_DEG
+    within = (used <= sensor.budget.value) & ~overwhelmed
+    base = np.einsum("prj,rk->pkj", parts.unit_t, split.base_a) + items.oriented
+    total = base + np.einsum("pkc,pkcj->pkj", choice, split.switched_fields(parts.unit_t))
+    return Figures(vector, level, tilted, change, attitude_change, used, overwhelmed, within,
+                   choice, total, held_bound, info)

@@ -28,6 +28,8 @@ class TotalFieldFigures:
     exhaustive : every switching was tried; else high_t is still exact (from the zonotope's
         vertices) while low_t and peak_to_peak_t are bounds on the safe side
     combination : (P, K, Ci) the switching behind high_t or low_t, whichever sets error_t
+    remainder_t : with steel, the second-order term R^2/(2(F - R)) in high_t and in the peak to
+        peak (the first-order extremes are found within a tolerance; None without steel)
     """
 
     high_t: np.ndarray
@@ -38,6 +40,7 @@ class TotalFieldFigures:
     within_budget: np.ndarray
     exhaustive: bool
     combination: np.ndarray
+    remainder_t: np.ndarray | None = None
 
 
 def sensor_field_parts(plan, sensor, parts: RunParts, items: EquipmentFields,
@@ -72,8 +75,8 @@ def sensor_field_parts(plan, sensor, parts: RunParts, items: EquipmentFields,
 
 
 def total_field_figures(plan, sensor, horizontal_t, vertical_t, parts: RunParts,
-                        items: EquipmentFields, currents: CircuitCurrents | None = None
-                        ) -> TotalFieldFigures:
+                        items: EquipmentFields, currents: CircuitCurrents | None = None, *,
+                        steel=None, steel_exact: bool = True) -> TotalFieldFigures:
     """The figures of a total-field magnetometer at P points in every state.
 
     Parameters
@@ -108,6 +111,8 @@ def total_field_figures(plan, sensor, horizontal_t, vertical_t, parts: RunParts,
     h, z = horizontal_t, vertical_t
     heel, pitch = sensor.max_heel_deg, sensor.max_pitch_deg
     base, switched, reversing, bound = sensor_field_parts(plan, sensor, parts, items, currents)
+    if steel is not None and np.any(steel.centre != 0.0) and steel_exact:
+        return _with_steel(plan, sensor, h, z, base, switched, reversing, bound, steel)
     n_p, n_k = base.shape[:2]
     n_c = switched.shape[2]
     high = np.zeros((n_p, n_k))
@@ -126,7 +131,58 @@ def total_field_figures(plan, sensor, horizontal_t, vertical_t, parts: RunParts,
             p2p[p, k] = worst.peak_to_peak
     high, low = high + bound, low - bound
     p2p = p2p + 2.0 * bound
+    if steel is not None and np.any(steel.centre != 0.0):
+        # The search's quick bound: the steel's field |M F_v| <= ||M|| |F| moves |F + b| by at
+        # most that (triangle inequality); every position returned is evaluated exactly.
+        size = np.stack([_matrix_size(plan, sensor, steel, k) for k in range(n_k)], axis=1)
+        reach = size * np.hypot(h, z)
+        high, low, p2p = high + reach, low - reach, p2p + 2.0 * reach
     error = np.maximum(high, -low)
     budget_t = sensor.budget.value * 1e-9                     # nT -> T
     return TotalFieldFigures(high, low, error, p2p, bound, error <= budget_t, bool(exhaustive),
                              combination)
+
+
+def _matrix_size(plan, sensor, steel, k):
+    """(P,) a bound on ||M||_2 of the steel a sensor sees in state k (Frobenius norms added)."""
+    from .steel import seen_steel
+
+    seen = seen_steel(plan, sensor, steel, k, 0.0)
+    return (np.sqrt(np.sum(seen.matrix ** 2, axis=(-2, -1)))
+            + np.sqrt(np.sum(seen.matrix_generators ** 2, axis=(-2, -1))).sum(axis=-1))
+
+
+def _with_steel(plan, sensor, h, z, base, switched, reversing, bound, steel):
+    """Total-field figures with steel items: the error over every heading, attitude, switching
+    and permeability band (:func:`deviation.physics.turning.worst_total_field_error`): the
+    first-order extremes within a tolerance, the second-order remainder added to the high end
+    (proven bounds on both ends)."""
+    from ..physics import turning
+    from .steel import seen_steel
+
+    n_p, n_k = base.shape[:2]
+    seen = [seen_steel(plan, sensor, steel, k, 0.0) for k in range(n_k)]
+    matrix = np.stack([s.matrix for s in seen], axis=1)
+    mgens = np.stack([s.matrix_generators for s in seen], axis=1)
+    half = np.where(reversing[None, None, :, None], 0.0, 0.5) * switched
+    gens = np.where(reversing[None, None, :, None], switched, half)
+    problems = turning.Turning.of((base + half.sum(axis=2)).reshape(-1, 3),
+                                  gens.reshape(n_p * n_k, -1, 3), matrix.reshape(-1, 3, 3),
+                                  mgens.reshape(n_p * n_k, -1, 3, 3), bound.reshape(-1))
+    worst = turning.worst_total_field_error(problems, h, z, sensor.max_heel_deg,
+                                            sensor.max_pitch_deg)
+    high, low = worst.high.reshape(n_p, n_k), worst.low.reshape(n_p, n_k)
+    error = np.maximum(high, -low)
+    n_c = switched.shape[2]
+
+    def choice(signs):
+        s = signs.reshape(n_p, n_k, -1)[..., :n_c]
+        picked = np.where(reversing, np.where(s < 0, -1, 1), np.where(s > 0, 1, 0))
+        return np.where(np.any(switched != 0.0, axis=-1), picked, 0).astype(int)
+
+    combination = np.where((high >= -low)[..., None], choice(worst.high_choice),
+                           choice(worst.low_choice))
+    budget_t = sensor.budget.value * 1e-9                     # nT -> T
+    return TotalFieldFigures(high, low, error, worst.level_peak_to_peak.reshape(n_p, n_k), bound,
+                             error <= budget_t, False, combination,
+                             worst.remainder.reshape(n_p, n_k))

@@ -369,3 +369,36 @@ def unknown_orientation_matrix(centre_m, sensor_m, band: PolarisabilityBand, siz
     centre = (lowest + highest) / 2.0
     radius = 2.0 / (4.0 * np.pi * float(np.linalg.norm(offset)) ** 3) * (highest - lowest) / 2.0
     return centre * kernel, radius
+
+
+def body_points(centre_m, rotation, points_m):
+    """Points [m] in an item's own frame: :math:`R^T(x - x_c)`, (..., 3)."""
+    rot = np.eye(3) if rotation is None else np.asarray(rotation, dtype=float)
+    offset = np.asarray(points_m, dtype=float) - np.asarray(centre_m, dtype=float)
+    return offset @ rot
+
+
+def distance_outside_m(shape, sizes_m, points_body_m):
+    r"""How far points lie outside the item's outer body [m]; zero or negative inside or on it.
+
+    Exact for boxes and cylinders (Euclidean distance to the solid); for an ellipsoid
+    ``a_min (s - 1)`` with ``s`` the point's ellipsoidal radius :math:`\sqrt{\sum (p_i/a_i)^2}`
+    and ``a_min`` the least semi-axis: a lower bound on the true distance (the map p -> p/a
+    shrinks lengths by at most 1/a_min and takes the ellipsoid to the unit sphere), zero
+    exactly on the surface.
+    """
+    body, dims = solid_dimensions(shape, sizes_m)
+    p = np.asarray(points_body_m, dtype=float)
+    if body == "ellipsoid":
+        s = np.sqrt(np.sum((p / dims) ** 2, axis=-1))
+        return np.min(dims) * (s - 1.0)
+    if body == "box":
+        excess = np.abs(p) - dims / 2.0
+        return np.where(np.all(excess <= 0, axis=-1), np.max(excess, axis=-1),
+                        np.linalg.norm(np.maximum(excess, 0.0), axis=-1))
+    length, diameter = dims
+    radial = np.hypot(p[..., 0], p[..., 1]) - diameter / 2.0
+    along = np.abs(p[..., 2]) - length / 2.0
+    inside = (radial <= 0) & (along <= 0)
+    return np.where(inside, np.maximum(radial, along),
+                    np.hypot(np.maximum(radial, 0.0), np.maximum(along, 0.0)))

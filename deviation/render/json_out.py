@@ -84,7 +84,21 @@ def state_json(sensor, state, unit_system, plan_source):
                       for r in items],
         "hints": [remedy_json(m, unit_system, plan_source) for m in state.remedies],
         **_total_field_json(state),
+        **_steel_json(state),
     }
+
+
+def _steel_json(state):
+    """Steel items (nothing for a plan without them): each alone, and lambda's range."""
+    if state.lam_low is None:
+        return {}
+    return {"lambda_low": round(state.lam_low, 6), "lambda_high": round(state.lam_high, 6),
+            "steel": [{"item": s.name, "shape": s.shape, "distance_m": _m(s.distance_m),
+                       "max_deviation_deg": _deg(s.max_deviation_deg), "held": _held(s.held),
+                       "share_of_budget": round(s.share_of_budget, 6), "is_bound": s.bound,
+                       "horizontal_bound_ut": round(s.horizontal_t * 1e6, 6),
+                       "vertical_bound_ut": round(s.vertical_t * 1e6, 6),
+                       "adjusted": s.adjusted} for s in state.steel]}
 
 
 def _total_field_json(state):
@@ -157,7 +171,7 @@ def analysis_json(analysis):
         "findings": [finding_json(f) for f in analysis.findings],
         "skipped_examples": [{"sheet": sheet, "row": row}
                              for sheet, row in plan.skipped_examples],
-        "cautions": list(CAUTIONS),
+        "cautions": list(words.cautions(plan)),
     }
 
 

@@ -20,6 +20,33 @@ CAUTIONS = (
     "codes, by licensed or competent people.",
 )
 
+#: Said once more when a plan has steel items.
+STEEL_CAUTION = ("Steel items count only the magnetism the Earth's field induces in them, from "
+                 "their shape, size, place and permeability band; their permanent magnetism "
+                 "(from how they were built, welded, hammered, or lay on one heading) cannot be "
+                 "known from a plan, and neither can steel the plan leaves out: the compass must "
+                 "still be swung after installation, and the swing finds what no plan can.")
+#: Under a budget table with steel rows.
+STEEL_TABLE_NOTE = ("Steel: the field the Earth's field induces in the item, which turns with "
+                    "the heading; its own worst over headings, attitude and its permeability "
+                    "band. ≤ where the item's shape (box, plate, cylinder, rod, hollow) makes the "
+                    "band's ends proven bounds rather than exact (spheres and ellipsoids are "
+                    "exact); its µT columns are bounds over every heading.")
+
+
+def cautions(plan) -> tuple[str, ...]:
+    """The cautions of a report on this plan: :data:`CAUTIONS`, and the steel one where the plan
+    has steel items."""
+    return CAUTIONS + ((STEEL_CAUTION,) if getattr(plan, "steel", ()) else ())
+
+
+def lambda_line(low, high) -> str:
+    """Lambda, the part of the Earth's horizontal force the needle keeps, over the bands."""
+    shown = f"{low:.3f}" if abs(high - low) < 5e-4 else f"{low:.3f} to {high:.3f}"
+    return (f"λ (the share of the Earth's horizontal force the needle keeps, with the steel): "
+            f"{shown}")
+
+
 OVERWHELMED = "overwhelmed"
 
 

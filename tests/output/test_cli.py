@@ -110,8 +110,13 @@ def test_new_template_has_comments_and_drop_downs(tmp_path):
     path = tmp_path / "plan.xlsx"
     run("new", path, "--units", "ft")
     book = openpyxl.load_workbook(path)
-    assert book.sheetnames == ["site", "points", "runs", "states", "sensors", "equipment", "spots",
-                               "volumes"]
+    assert book.sheetnames == ["site", "points", "runs", "states", "sensors", "equipment", "steel",
+                               "spots", "volumes"]
+    steel = book["steel"]
+    assert [c.value for c in steel[1]][:4] == ["item", "at", "shape", "size"]
+    assert all(c.comment is not None for c in steel[1])
+    assert ('"sphere,box,cylinder,rod,plate,hollow box,hollow cylinder,ellipsoid"'
+            in [dv.formula1 for dv in steel.data_validations.dataValidation])
     runs = book["runs"]
     assert [c.value for c in runs[1]][:4] == ["run", "circuits", "route", "return"]
     assert all(c.comment is not None for c in runs[1])

@@ -77,10 +77,11 @@ def test_a_template_with_its_examples_left_in_checks_only_the_real_rows_and_says
     # Rows of write_template: the examples sit right under each header.
     assert plan.skipped_examples == (("points", 2), ("points", 3), ("runs", 2), ("states", 2),
                                      ("states", 3), ("sensors", 2), ("equipment", 2),
-                                     ("spots", 2), ("volumes", 2))
+                                     ("steel", 2), ("steel", 3), ("spots", 2), ("volumes", 2))
     assert [r.name for r in plan.runs] == ["feed"] and [s.name for s in plan.sensors] == [
         "compass"]
     assert [c.name for c in plan.circuits] == ["feed"] and not plan.points and not plan.equipment
+    assert not plan.steel
     # Not counted: the same figure as the plan without them. A 100 m wire at 0.5 m: B = µ0 I /
     # (2π r) = 4 µT against H = 20 µT, the worst heading asin(4/20) (long-wire formula, textbook;
     # the 50 m half-lengths take 2.5e-5 of it).
@@ -88,15 +89,16 @@ def test_a_template_with_its_examples_left_in_checks_only_the_real_rows_and_says
     assert held == pytest.approx(math.degrees(math.asin(4.0 / 20.0)), rel=1e-4)
     result = run("check", path, "--width", 160)
     assert result.exit_code == 1, result.output
-    assert ("The plan still has 9 example rows from the template (points row 2, points row 3, "
-            "runs row 2, states row 2, states row 3, sensors row 2, equipment row 2, spots row 2, "
-            "volumes row 2); they were not counted — delete them.") in flat(result.output)
+    assert ("The plan still has 11 example rows from the template (points row 2, points row 3, "
+            "runs row 2, states row 2, states row 3, sensors row 2, equipment row 2, steel row 2, "
+            "steel row 3, spots row 2, volumes row 2); they were not counted — delete them.") in \
+        flat(result.output)
 
 
 def test_the_reports_carry_the_example_rows_line(tmp_path):
     path = tmp_path / "plan.xlsx"
     _fill_left_in_template(path)
-    line = "The plan still has 9 example rows from the template (points row 2,"
+    line = "The plan still has 11 example rows from the template (points row 2,"
     assert run("check", path, "--report", tmp_path / "r.html").exit_code == 1
     assert line in html.unescape((tmp_path / "r.html").read_text())
     assert run("check", path, "--report", tmp_path / "r.xlsx").exit_code == 1

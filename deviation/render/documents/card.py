@@ -83,4 +83,5 @@ def cards_document(analysis, cards) -> Document:
                      for c in cards)
     return Document("card", "Predicted deviation card",
                     (f"plan {analysis.plan.source}", f"site {words.site_line(analysis.site)}"),
-                    sections, words.CAUTIONS, data=cards_json(cards), stamp=stamp())
+                    sections, words.cautions(analysis.plan), data=cards_json(cards),
+                    stamp=stamp())

@@ -184,6 +184,17 @@ def budget_table(sensor, st, lengths, all_runs=True, title=""):
         row.append(share(sensor.budget.share(item.held),
                          overwhelmed=degrees and item.held >= 180))
         rows.append(tuple(row))
+    for item in st.steel:
+        bound = "≤ " if item.bound else ""
+        alone = (cell(item.max_deviation_deg, 2, prefix=bound) if degrees else
+                 cell(item.held, 2, prefix=bound))
+        row = [cell(f"{item.name} (steel)"), cell(None), lengths.cell(item.distance_m),
+               microtesla(item.horizontal_t, bound=True), microtesla(item.vertical_t, bound=True),
+               alone]
+        if adjusted:
+            row.append(cell(item.held, 2, prefix=bound))
+        row.append(share(item.share_of_budget, overwhelmed=degrees and item.held >= 180))
+        rows.append(tuple(row))
     notes = []
     if hidden:
         notes.append(f"{hidden} more run{'s' if hidden != 1 else ''} below "
@@ -192,6 +203,8 @@ def budget_table(sensor, st, lengths, all_runs=True, title=""):
         notes.append("≤ an upper bound: a part of unknown direction (a pair whose lie the plan "
                      "does not say, a twisted run's ends and floor, a labelled safe distance "
                      "(IEC 60945), a magnet of unknown orientation), shown at its largest.")
+    if st.steel:
+        notes.append(words.STEEL_TABLE_NOTE)
     return Table(tuple(columns), tuple(rows), title, TONE_OF[st.status], tuple(notes))
 
 
@@ -216,6 +229,8 @@ def total_lines(sensor, st):
     if sensor.reference_state:
         lines.append(("residual after adjustment, level", st.change_from_reference_deg))
     out = [Paragraph(f"{label}: {words.with_degree_sign(value)}") for label, value in lines]
+    if st.lam_low is not None:
+        out.append(Paragraph(words.lambda_line(st.lam_low, st.lam_high)))
     share_text = ("" if st.overwhelmed else
                   f" ({sensor.budget.share(st.held) * 100:.0f} % of the budget)")
     out.append(Paragraph(f"held against the budget ({words.held_figure(sensor)}): "
@@ -329,7 +344,8 @@ def check_document(analysis, *, all_runs=False) -> Document:
                                                           for f in analysis.findings)),),
                                 sheet="findings"))
     return Document("check", "Deviation budget", _meta(analysis), tuple(sections),
-                    words.CAUTIONS, _warnings(analysis), _recap(rows), analysis_json(analysis),
+                    words.cautions(plan), _warnings(analysis), _recap(rows),
+                    analysis_json(analysis),
                     stamp())
 
 
