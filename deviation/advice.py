@@ -163,10 +163,11 @@ class _Evaluator:
                                       self.horizontal_t)
         self._cache = {}
 
-    def with_run(self, r, run, others=None):
+    def with_run(self, r, run, others=None, *, quick=False):
         """Figures (:class:`~deviation.budget.SensorFigures`, P = 1) with run ``r`` replaced by
         ``run`` (and the runs in ``others``, {index: Run}, replaced too), and the new run's
-        nearest distance."""
+        nearest distance. Only the held figure and the verdict are worked out; ``quick`` takes,
+        with steel, the quicker proven bound (never less than the exact figure)."""
         changes = dict(others or {})
         changes[r] = run
         unit, spread = self.parts.unit_t.copy(), self.parts.spread_t.copy()
@@ -181,7 +182,7 @@ class _Evaluator:
                 nearest = float(new.nearest_m[0, 0])
         parts = RunParts(unit, spread, bound, self.parts.nearest_m, self.parts.inside)
         figures = sensor_figures(self.plan, self.sensor, self.site, parts, items=self.items,
-                                 currents=self.currents)
+                                 currents=self.currents, held_only=True, steel_exact=not quick)
         return figures, nearest
 
     def _parts(self, run):
@@ -247,7 +248,7 @@ def _solve_clearance(evaluator, r, run, figure_of, target, others=None):
     route = run.geometry.route_m
     sensor = evaluator.sensor.position_m
 
-    def attempt(offset):
+    def attempt(offset, quick=False):
         new_route = detour(route, sensor, offset)
         if new_route is None:
             return None
@@ -257,16 +258,19 @@ def _solve_clearance(evaluator, r, run, figure_of, target, others=None):
             back = shifted if shifted is not None else back
         moved = replace(run, geometry=replace(run.geometry, route_m=new_route,
                                               return_route_m=back))
-        figures, nearest = evaluator.with_run(r, moved, others)
+        figures, nearest = evaluator.with_run(r, moved, others, quick=quick)
         return figure_of(figures), nearest, moved
 
-    far = attempt(MAX_DETOUR_M)
+    # With steel the bisection runs on the quicker bound (never below the exact figure), so the
+    # clearance it finds is enough; the exact figure is worked out for it alone. Without steel
+    # both are the same figure.
+    far = attempt(MAX_DETOUR_M, quick=True)
     if far is None or far[0] > target:
         return None
     low, high = 0.0, MAX_DETOUR_M
     for _ in range(40):
         middle = (low + high) / 2
-        if attempt(middle)[0] <= target:
+        if attempt(middle, quick=True)[0] <= target:
             high = middle
         else:
             low = middle

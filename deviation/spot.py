@@ -202,11 +202,15 @@ def _figures_at(plan, sensor, site, points, progress=None):
         parts = parts_at(plan, chunk, nearest=False)
         items = equipment_fields(plan, sensor, chunk, site.horizontal_t)
         figures = sensor_figures(plan, sensor, site, parts, chunk, items=items, currents=currents,
-                                 exact_generators=SEARCH_EXACT_GENERATORS)
+                                 exact_generators=SEARCH_EXACT_GENERATORS, steel_exact=False)
         used = np.where(used_states[None, :], figures.held, -np.inf)
         worst[p0:p0 + len(chunk)] = used.max(axis=1)
         which[p0:p0 + len(chunk)] = used.argmax(axis=1)
         inside[p0:p0 + len(chunk)] = parts.inside
+        if plan.steel:
+            from .budget.steel import steel_parts_at
+
+            inside[p0:p0 + len(chunk)] |= steel_parts_at(plan, chunk).inside
         if progress is not None:
             progress(len(chunk))
     worst[inside] = np.inf
@@ -249,6 +253,57 @@ def _spot(plan, site, sensor, position, name=None):
     dominant = tuple((n, share / total) for n, share in counted[:3]) if total > 0 else ()
     return Spot(np.array(position), worst.held, worst.state, bool(worst.within_budget),
                 dominant, name)
+
+
+#: With steel, the search ranks positions by a quicker proven bound; this many times ``top`` of
+#: its best are then evaluated exactly and ranked again.
+STEEL_POOL = 3
+
+
+def _steel_spots(plan, site, sensor, positions, names, count):
+    """With steel items: the positions evaluated exactly (the held figure over every heading,
+    attitude, switching and band; :mod:`deviation.budget.with_steel`), best first, at most
+    ``count`` of them; each with its largest contributors, runs and steel items alone."""
+    from dataclasses import replace as replaced
+
+    from .budget.figures import _with_runs
+    from .budget.steel import steel_parts_at
+    from .budget.with_steel import item_alone
+
+    positions = np.asarray(positions, dtype=float).reshape(-1, 3)
+    used = np.array([sensor.used_in_state(s) for s in plan.state_names])
+    parts = parts_at(plan, positions)
+    currents = circuit_currents(plan)
+    figures = sensor_figures(plan, sensor, site, parts, positions, currents=currents,
+                             held_only=True)
+    held = np.where(used[None, :], figures.held, -np.inf)
+    order = np.argsort(held.max(axis=1), kind="stable")[:count]
+    out = []
+    for i in order:
+        one = parts_at(plan, positions[i][None, :])
+        sliced = replaced(figures, held=figures.held[i:i + 1], within=figures.within[i:i + 1],
+                          overwhelmed=figures.overwhelmed[i:i + 1],
+                          combination=figures.combination[i:i + 1],
+                          total_t=figures.total_t[i:i + 1], bound_t=figures.bound_t[i:i + 1],
+                          heading=None, total_field=None)
+        runs = _with_runs(sliced, plan, sensor, site, one, currents).runs
+        k = int(np.argmax(held[i]))
+        shares = [(run.name, float(runs.held[k, r]) / sensor.budget.value)
+                  for r, run in enumerate(plan.runs)]
+        if sensor.budget.degrees:
+            moved = replaced(sensor, position_m=positions[i])
+            alone, _, _ = item_alone(plan, moved, site.horizontal_t, site.vertical_t,
+                                     steel_parts_at(plan, positions[i][None, :]))
+            shares += [(item.name, float(alone[k, j]) / sensor.budget.value)
+                       for j, item in enumerate(plan.steel) if np.isfinite(alone[k, j])]
+        counted = sorted(((n, v) for n, v in shares if v > 0), key=lambda x: (-x[1], x[0]))
+        total = sum(v for _, v in counted)
+        dominant = tuple((n, v / total) for n, v in counted[:3]) if total > 0 else ()
+        figure = float(held[i, k])
+        within = bool(np.all(figures.within[i][used])) if used.any() else True
+        out.append(Spot(np.array(positions[i]), figure, plan.state_names[k], within, dominant,
+                        names[i] if names is not None else None))
+    return tuple(out)
 
 
 class _Part:
@@ -374,8 +429,17 @@ def search_box(plan, analysis, sensor, low_m, high_m, step_m, *, progress=None, 
             owners.append(np.full(len(points), p))
     candidates = np.concatenate(candidates).reshape(-1, 3)
     figures, states, owners = (np.concatenate(x) for x in (figures, states, owners))
-    pick = _distinct_best(candidates, figures, top, 2 * step_m - 1e-12)
-    spots = tuple(_spot(plan, site, sensor, candidates[i]) for i in pick)
+    if plan.steel:
+        # Ranked by the quick bound: the best of them evaluated exactly, and ranked again.
+        pool = _distinct_best(candidates, figures, STEEL_POOL * top, 2 * step_m - 1e-12)
+        spots = _steel_spots(plan, site, sensor, candidates[pool], None, top)
+        chosen = {tuple(s.position_m) for s in spots}
+        pick = np.array([i for i in pool if tuple(candidates[i]) in chosen], dtype=int)
+        order = {tuple(s.position_m): n for n, s in enumerate(spots)}
+        pick = pick[np.argsort([order[tuple(candidates[i])] for i in pick])]
+    else:
+        pick = _distinct_best(candidates, figures, top, 2 * step_m - 1e-12)
+        spots = tuple(_spot(plan, site, sensor, candidates[i]) for i in pick)
     faces = (_edge_faces(parts[owners[pick[0]]], candidates[pick[0]], low, high) if len(pick)
              else ())
     return SpotSearch(sensor, spots, _current(plan, analysis, sensor), len(candidates),
@@ -397,10 +461,14 @@ def rank_positions(plan, analysis, sensor, positions_m, names=None):
     kept = np.flatnonzero(ok)
     spots = ()
     if len(kept):
-        figure, _, _ = _figures_at(plan, sensor, site, positions[kept])
-        order = np.argsort(figure, kind="stable")
-        spots = tuple(_spot(plan, site, sensor, positions[kept[i]], names[kept[i]])
-                      for i in order)
+        if plan.steel:
+            spots = _steel_spots(plan, site, sensor, positions[kept],
+                                 [names[i] for i in kept], len(kept))
+        else:
+            figure, _, _ = _figures_at(plan, sensor, site, positions[kept])
+            order = np.argsort(figure, kind="stable")
+            spots = tuple(_spot(plan, site, sensor, positions[kept[i]], names[kept[i]])
+                          for i in order)
     mount, keep = volumes_for(plan, sensor)
     return SpotSearch(sensor, spots, _current(plan, analysis, sensor), len(kept), len(positions),
                       None, None, volumes=mount + keep, excluded=excluded)

@@ -84,7 +84,8 @@ def sensor_figures(plan, sensor, site, parts: RunParts, points_m=None, *,
                    items: EquipmentFields | None = None, currents: CircuitCurrents | None = None,
                    per_run: bool = False,
                    exact_generators=(MAX_EXACT_GENERATORS_LEVEL, MAX_EXACT_GENERATORS_ATTITUDE),
-                   steel=None, steel_exact: bool = True) -> SensorFigures:
+                   steel=None, steel_exact: bool = True, held_only: bool = False
+                   ) -> SensorFigures:
     """Every figure a sensor needs at P points: the one entry to the budget's rules.
 
     Parameters
@@ -112,6 +113,9 @@ def sensor_figures(plan, sensor, site, parts: RunParts, points_m=None, *,
     steel_exact : bool
         With steel, the exact worst over headings (False: a quicker proven bound, for searches
         over many positions; every position they return is evaluated again exactly).
+    held_only : bool
+        With steel, work out only the held figure and its verdict (the other degree figures
+        repeat it): for what-if evaluations that read nothing else.
     """
     points = sensor.position_m[None, :] if points_m is None else np.asarray(points_m, float)
     h = site.horizontal_t
@@ -133,7 +137,8 @@ def sensor_figures(plan, sensor, site, parts: RunParts, points_m=None, *,
     else:
         degrees = budget_figures(plan, sensor, h, parts, items, exact_generators=exact_generators,
                                  currents=split, steel=steel, vertical_t=site.vertical_t,
-                                 adjusting_vertical_t=z_adjust, steel_exact=steel_exact)
+                                 adjusting_vertical_t=z_adjust, steel_exact=steel_exact,
+                                 held_only=held_only)
         figures = SensorFigures(Unit.DEGREES, degrees.budget_used_deg, degrees.within_budget,
                                 degrees.overwhelmed, degrees.combination, degrees.total_t,
                                 degrees.bound_t, degrees, None)

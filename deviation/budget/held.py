@@ -110,7 +110,8 @@ SEARCH_EXACT_GENERATORS = (16, 0)
 def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: EquipmentFields, *,
                    exact_generators=(MAX_EXACT_GENERATORS_LEVEL, MAX_EXACT_GENERATORS_ATTITUDE),
                    currents: CircuitCurrents | None = None, steel=None, vertical_t=None,
-                   adjusting_vertical_t=None, steel_exact: bool = True) -> Figures:
+                   adjusting_vertical_t=None, steel_exact: bool = True,
+                   held_only: bool = False) -> Figures:
     """The figures held against a sensor's budget at P points in every state.
 
     Parameters
@@ -159,7 +160,7 @@ def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: Equipment
     split = currents or circuit_currents(plan)
     if steel is not None and np.any(steel.centre != 0.0):
         return _with_steel(plan, sensor, h, vertical_t, parts, items, steel, split,
-                           exact_generators, steel_exact, adjusting_vertical_t)
+                           exact_generators, steel_exact, adjusting_vertical_t, held_only)
     base_a = split.base_a                                                        # (R, K)
     base = np.einsum("prj,rk->pkj", parts.unit_t, base_a) + items.oriented      # (P, K, 3)
     switched = split.switched_fields(parts.unit_t)                              # (P, K, Ci, 3)
@@ -204,13 +205,13 @@ def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: Equipment
 
 
 def _with_steel(plan, sensor, h, z, parts, items, steel, split, exact_generators, exact,
-                adjusting_vertical_t):
+                adjusting_vertical_t, held_only):
     """:func:`budget_figures` with steel items (:mod:`.with_steel`)."""
     from .with_steel import steel_figures
 
     out, vector, choice, info = steel_figures(
         plan, sensor, h, z, parts, items, steel, split, exact_generators, exact=exact,
-        adjusting_vertical_t=adjusting_vertical_t)
+        adjusting_vertical_t=adjusting_vertical_t, held_only=held_only)
     (level, tilted), *residual = out
     change = attitude_change = None
     used = tilted

@@ -143,7 +143,8 @@ def _quick(base, switched, reversing, spread, scale, unknown, seen, h, z, heel, 
 
 
 def steel_figures(plan, sensor, horizontal_t, vertical_t, parts, items, steel: SteelParts,
-                  split, exact_generators, *, exact=True, adjusting_vertical_t=None):
+                  split, exact_generators, *, exact=True, adjusting_vertical_t=None,
+                  held_only=False):
     """The held figures of a heading sensor with steel (the fields of
     :class:`.held.Figures`), and what the steel adds (:class:`SteelFigures`).
 
@@ -156,6 +157,8 @@ def steel_figures(plan, sensor, horizontal_t, vertical_t, parts, items, steel: S
         The exact worst over headings (False: the quick bound, for a search)
     adjusting_vertical_t : float [T], optional
         Z where the sensor is adjusted (default: here)
+    held_only : bool
+        Only the held figure (the others repeat it)
     """
     h, z = horizontal_t, vertical_t
     z_adj = z if adjusting_vertical_t is None else adjusting_vertical_t
@@ -180,6 +183,8 @@ def steel_figures(plan, sensor, horizontal_t, vertical_t, parts, items, steel: S
     tilted = bool(heel or pitch)
     out = []
     held_case = None
+    if held_only:
+        cases = cases[-1:]
     for fixed, scale, scalar, seen in cases:
         if not exact:
             cap = cap_attitude if tilted else cap_level
@@ -188,20 +193,26 @@ def steel_figures(plan, sensor, horizontal_t, vertical_t, parts, items, steel: S
             out.append((figure, figure))
             held_case = (fixed, seen, None)
             continue
-        kept, apart = _spread_generators(parts.spread_t, scale, scalar, 0.0, 0.0, cap_level,
-                                         n_c)
-        level = _exact(_problems(fixed, switched, reversing, kept, apart, seen), h, z, 0.0, 0.0)
+        level = None
+        if not (held_only and tilted):
+            kept, apart = _spread_generators(parts.spread_t, scale, scalar, 0.0, 0.0, cap_level,
+                                             n_c)
+            level = _exact(_problems(fixed, switched, reversing, kept, apart, seen), h, z, 0.0,
+                           0.0)
         worst = level
         if tilted:
             kept_t, apart_t = _spread_generators(parts.spread_t, scale, scalar, heel, pitch,
                                                  cap_attitude, n_c)
             worst = _exact(_problems(fixed, switched, reversing, kept_t, apart_t, seen), h, z,
                            heel, pitch)
+        level = worst if level is None else level
         out.append((level.bound_deg.reshape(n_p, n_k), worst.bound_deg.reshape(n_p, n_k)))
         held_case = (fixed, seen, worst)
+    if held_only:
+        out = out * (2 if reference is not None else 1)
     # The known parts alone, level: switching and bands, no lie and no bound of unknown
     # direction (the "vector sum" line).
-    if exact:
+    if exact and not held_only:
         none = np.zeros((n_p, n_k, 0, 3))
         known = _exact(_problems(base, switched, reversing, none, np.zeros((n_p, n_k)),
                                  absolute), h, z, 0.0, 0.0)

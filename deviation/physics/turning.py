@@ -113,10 +113,13 @@ class Turning:
         return full, level
 
     def matrix_size(self):
-        """(B,) bounds on ||M||_2 (Frobenius norms added), on its two horizontal rows, and on
+        """(B,) bounds on ||M||_2 (spectral norms added), on its two horizontal rows, and on
         their first two columns, over the zonotope of matrices."""
         def norm(m, rows=slice(None), cols=slice(None)):
-            return np.sqrt(np.sum(m[..., rows, cols] ** 2, axis=(-2, -1)))
+            part = m[..., rows, cols]
+            if part.size == 0:
+                return np.zeros(part.shape[:-2])
+            return np.linalg.norm(part, ord=2, axis=(-2, -1))
         full = norm(self.matrix) + norm(self.matrix_generators).sum(axis=-1)
         rows = norm(self.matrix, slice(0, 2)) + norm(self.matrix_generators,
                                                      slice(0, 2)).sum(axis=-1)
@@ -419,6 +422,18 @@ def worst_deviation(turning: Turning, horizontal, vertical, max_heel_deg=0.0, ma
     best = np.full(b, -np.inf)
     best_at = np.zeros((b, 3))
     closed_bound = np.full(b, -np.inf)
+    if not level:
+        # Values reached at the corners of the attitude box, where the worst usually lies: a
+        # good value early closes cells early (it changes no bound).
+        seeds = np.array([[psi, a * heel_max, c * pitch_max]
+                          for psi in np.arange(headings) * 2 * np.pi / headings
+                          for a in (-1.0, 1.0) for c in (-1.0, 1.0)])
+        seed_owner = np.repeat(np.arange(b), len(seeds))
+        seed_at = np.tile(seeds, (b, 1))
+        seed_value, _ = _evaluate(turning, seed_owner, seed_at, h, z)
+        np.maximum.at(best, seed_owner, seed_value)
+        hit = seed_value >= best[seed_owner]
+        best_at[seed_owner[hit]] = seed_at[hit]
     while len(owner):
         value, distance = _evaluate(turning, owner, centres, h, z)
         improve = value > best[owner]
