@@ -6,12 +6,19 @@ height stay the plan's) and checked again; the Earth's field there comes from WM
 field measured at the site (``horizontal_field_ut``) is not carried to the other places.
 
 Why it matters: a vessel-fixed disturbance b deviates a heading sensor by asin(|b_h|/H), so
-the same wiring costs more degrees where H is weaker, and its share of F changes with F.
+the same wiring costs more degrees where H is weaker, and its share of F changes with F. Steel
+changes most: the part of its induced field that the vertical field Z makes is vessel-fixed at
+one place and gives the coefficients B and C, cZ/(lambda H) and fZ/(lambda H), which grow with
+Z/H as the vessel goes towards a magnetic pole, while D and E do not change (NGA Pub. 226,
+ch. III). The sensors stay adjusted where they were adjusted (the plan's own site): what the
+correctors took out of the induced B there comes back as c (Z - Z_adj)/(lambda H) elsewhere.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass, replace
+
+import numpy as np
 
 from .errors import DeviationError
 from .quantities import Unit
@@ -43,19 +50,71 @@ class Worst:
 
 
 @dataclass(frozen=True)
+class SteelCoefficients:
+    """A heading sensor's coefficients at one place, in its worst used state, from what it sees
+    with the steel (the residual after adjustment where it has a reference state): Archibald
+    Smith's exact coefficients read as degrees (:func:`deviation.physics.soft_iron.coefficients`).
+    ``b_induced_deg`` and ``c_induced_deg`` are the parts the steel's induced field makes, cZ and
+    fZ over lambda H, less what the correctors took out at the adjusting site (c Z_adj, f Z_adj)
+    for a sensor adjusted in a reference state."""
+
+    sensor: str
+    place: str
+    state: str
+    z_over_h: float
+    lam: float
+    coefficients_deg: tuple[float, float, float, float, float]      # A, B, C, D, E
+    b_induced_deg: float
+    c_induced_deg: float
+    held: float
+
+
+@dataclass(frozen=True)
 class AreaResult:
     plan: object
     places: tuple[PlaceResult, ...]
     worst: tuple[Worst, ...]
     verdict_changes: bool            # within at some places, over at others
     within_budget: bool              # within at every place
+    steel: tuple[SteelCoefficients, ...] = ()   # heading sensors near steel, at every place
 
 
 def plan_at(plan, latitude_deg: float, longitude_deg: float):
-    """The plan moved to another place: the model's field there, nothing else changed."""
+    """The plan moved to another place: the model's field there, nothing else changed; its
+    sensors stay adjusted at the plan's own site (its adjusting site)."""
     site = replace(plan.site, latitude_deg=float(latitude_deg), longitude_deg=float(longitude_deg),
                    horizontal_ut=None, vertical_ut=None, places=())
-    return replace(plan, site=site)
+    return replace(plan, site=site, adjusting_site=plan.adjusting_site or plan.site)
+
+
+def steel_coefficients(place) -> list[SteelCoefficients]:
+    """Each heading sensor's coefficients at a place, where the plan has steel."""
+    from .physics import soft_iron
+
+    from .budget import adjusting_vertical_t
+    from .budget.steel import seen_steel, steel_parts_at
+
+    out = []
+    plan, site = place.analysis.plan, place.site
+    h, z = site.horizontal_t, site.vertical_t
+    z_adj = adjusting_vertical_t(plan, site)
+    for result in place.analysis.sensors:
+        worst = result.worst
+        sensor = result.sensor
+        if worst.steel_matrix is None or not sensor.budget.degrees:
+            continue
+        matrix = np.asarray(worst.steel_matrix)
+        found = soft_iron.coefficients(matrix, np.asarray(worst.steel_fixed_t), h, z)
+        deg = found.degrees()
+        # The steel's own fixed part (the correctors' share), at the middle of its bands.
+        own = seen_steel(plan, sensor, steel_parts_at(plan, sensor.position_m[None, :]),
+                         plan.state_index(worst.state), z_adj).fixed[0]
+        steel_only = soft_iron.coefficients(matrix, own, h, z)
+        out.append(SteelCoefficients(
+            sensor.name, place.name, worst.state, z / h, float(found.lam),
+            tuple(float(deg[k]) for k in "abcde"), float(np.degrees(steel_only.b)),
+            float(np.degrees(steel_only.c)), worst.held))
+    return out
 
 
 def places_of(plan) -> list[tuple[str, float, float, object]]:
@@ -124,4 +183,5 @@ def area_check(plan) -> AreaResult:
     rows = tuple(Worst(sensor, figure, value, unit, where, within_sensor[sensor])
                  for (sensor, figure), (value, unit, where) in worst.items())
     verdicts = {p.within_budget for p in places}
-    return AreaResult(plan, tuple(places), rows, len(verdicts) > 1, all(verdicts))
+    steel = tuple(row for place in places for row in steel_coefficients(place))
+    return AreaResult(plan, tuple(places), rows, len(verdicts) > 1, all(verdicts), steel)

@@ -133,8 +133,8 @@ def spots_for(plan, sensor):
 
 
 def plan_extent(plan, margin_m=EXTENT_MARGIN_M):
-    """The box holding the plan: every route and return route, sensor, point, equipment item and
-    candidate spot, grown by ``margin_m`` [m] on every side. Returns (low, high) (3,) [m]."""
+    """The box holding the plan: every route and return route, sensor, point, equipment item,
+    steel item's centre and candidate spot, grown by ``margin_m`` [m] on every side. Returns (low, high) (3,) [m]."""
     pieces = [s.position_m[None] for s in plan.sensors]
     for run in plan.runs:
         pieces.append(run.geometry.route_m)
@@ -143,6 +143,7 @@ def plan_extent(plan, margin_m=EXTENT_MARGIN_M):
     pieces += [p[None] for _, p in plan.points]
     pieces += [e.position_m[None] for e in plan.equipment]
     pieces += [s.position_m[None] for s in plan.spots]
+    pieces += [item.position_m[None] for item in plan.steel]
     everything = np.concatenate(pieces).reshape(-1, 3)
     return everything.min(axis=0) - margin_m, everything.max(axis=0) + margin_m
 

@@ -333,7 +333,8 @@ class WorstDeviation:
     found_deg : (B,) a value reached, at ``heading_deg``, ``heel_deg``, ``pitch_deg``
     signs : (B, n) the fixed generators' signs at the found value (+1 or -1)
     matrix_signs : (B, m) the matrix generators' signs there
-    overwhelmed : (B,) bool, the found value reaches the south half-line or the origin
+    overwhelmed : (B,) bool, the bound reaches 180 degrees: nothing rules out the set reaching
+        the south half-line or the origin (the needle may point anywhere)
     tolerance_deg : what the search aimed at (bound - found <= tolerance unless it ran out of
         cells)
     """
@@ -479,7 +480,7 @@ def worst_deviation(turning: Turning, horizontal, vertical, max_heel_deg=0.0, ma
         centres = np.concatenate([centres - step, centres + step])
         owner = np.concatenate([owner, owner])
     bound = np.maximum(closed_bound, best)
-    overwhelmed = best >= np.pi
+    overwhelmed = bound >= np.pi
     signs, matrix_signs = _signs_at(turning, best_at, h, z)
     return WorstDeviation(np.degrees(np.minimum(bound, np.pi)), np.degrees(best),
                           np.mod(np.degrees(best_at[:, 0]), 360.0), np.degrees(best_at[:, 1]),

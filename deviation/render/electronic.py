@@ -309,7 +309,13 @@ def area_json(area, unit="uT"):
             "within_budget_everywhere": area.within_budget,
             "worst": [{"sensor": w.sensor, "figure": w.figure, "value": _round(w.value, 6),
                        "unit": w.unit, "place": w.place, "within_everywhere": w.within}
-                      for w in area.worst]}
+                      for w in area.worst],
+            "steel": [{"sensor": c.sensor, "place": c.place, "state": c.state,
+                       "z_over_h": _round(c.z_over_h, 6), "lambda": _round(c.lam, 6),
+                       **{f"{k}_deg": _round(v, 6) for k, v in zip("ABCDE", c.coefficients_deg)},
+                       "b_induced_deg": _round(c.b_induced_deg, 6),
+                       "c_induced_deg": _round(c.c_induced_deg, 6), "held": _round(c.held, 6)}
+                      for c in area.steel]}
 
 
 def render_area(area, console, unit="uT"):
@@ -325,6 +331,22 @@ def render_area(area, console, unit="uT"):
                       f"{p.site.inclination_deg:.1f}", p.site.zone,
                       "within" if p.within_budget else "OVER")
     console.print(table)
+    if area.steel:
+        steel = Table(box=_box(console), title="Steel: the coefficients at each place (worst "
+                      "state; what the sensor sees, after adjustment where it is adjusted)")
+        for column in ("sensor", "place", "Z/H", "λ", "B °", "of it induced °", "C °", "D °",
+                       "E °", "held °"):
+            steel.add_column(escape(column), justify="left" if column in ("sensor", "place")
+                             else "right")
+        for c in area.steel:
+            a, b, cc, d, e = c.coefficients_deg
+            steel.add_row(escape(c.sensor), escape(c.place), f"{c.z_over_h:.2f}", f"{c.lam:.3f}",
+                          f"{b:+.2f}", f"{c.b_induced_deg:+.2f}", f"{cc:+.2f}", f"{d:+.2f}",
+                          f"{e:+.2f}", f"{c.held:.2f}")
+        console.print(steel)
+        console.print("The steel's induced B and C grow with Z/H (cZ/λH, fZ/λH); D and E do not "
+                      "change with the place (NGA Pub. 226, ch. III). A sensor adjusted at the "
+                      "plan's site keeps c(Z - Z_adj)/λH elsewhere.")
     worst = Table(box=_box(console), title="Worst over the area")
     for column in ("sensor", "figure", "worst", "where"):
         worst.add_column(escape(column), justify="right" if column == "worst" else "left")

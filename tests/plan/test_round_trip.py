@@ -68,6 +68,11 @@ def assert_same_plan(a, b):
                 e.note) == (f.name, f.safe_distance_m, f.safe_distance_for, f.moment_am2,
                             f.states, f.note)
         np.testing.assert_array_equal(e.position_m, f.position_m)
+    for e, f in zip(a.steel, b.steel, strict=True):
+        assert (e.name, e.shape, e.wall_m, e.mu_low, e.mu_high, e.states, e.note) == (
+            f.name, f.shape, f.wall_m, f.mu_low, f.mu_high, f.states, f.note)
+        for name in ("position_m", "sizes_m", "rotation"):
+            np.testing.assert_array_equal(getattr(e, name), getattr(f, name))
     assert [(p.name, p.for_sensor) for p in a.spots] == [(p.name, p.for_sensor) for p in b.spots]
     assert [(v.name, v.kind, v.for_sensor, v.note) for v in a.volumes] == [
         (v.name, v.kind, v.for_sensor, v.note) for v in b.volumes]

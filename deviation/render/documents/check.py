@@ -276,17 +276,21 @@ def _short_blocks(result, analysis, lengths):
     blocks.append(Paragraph(f"worst state: {state_title(sensor, worst)}", TONE_OF[worst.status]))
     if worst.overwhelmed:
         blocks.append(Paragraph(OVERWHELMED_LINE, Tone.BAD))
-    ranked = [r for r in worst.runs if r.share_of_budget >= NEGLIGIBLE_SHARE][:SHORT_RUNS]
+    # Runs and steel items together, largest share first: (name, held, share, a bound).
+    named = [(r.name, r.held, r.share_of_budget, r.bound_t > 0) for r in worst.runs]
+    named += [(f"{s.name} (steel)", s.held, s.share_of_budget, s.bound) for s in worst.steel]
+    ranked = sorted((n for n in named if n[2] >= NEGLIGIBLE_SHARE),
+                    key=lambda n: -n[2])[:SHORT_RUNS]
     if ranked:
         unit = sensor.budget.unit
-        def share_of(r):
-            if unit is Unit.DEGREES and r.held >= words.OVERWHELMED_DEG:
+        def share_of(held, part, bound):
+            if unit is Unit.DEGREES and held >= words.OVERWHELMED_DEG:
                 return ""                     # no share of a figure that is not a figure
-            return f" ({r.share_of_budget * 100:.0f} %" + (", a bound" if r.bound_t > 0
-                                                           else "") + ")"
+            return f" ({part * 100:.0f} %" + (", a bound" if bound else "") + ")"
 
         blocks.append(Paragraph("largest there: " + "; ".join(
-            f"{r.name} {words.figure_text(r.held, unit)}{share_of(r)}" for r in ranked)))
+            f"{name} {words.figure_text(held, unit)}{share_of(held, part, bound)}"
+            for name, held, part, bound in ranked)))
     blocks += _fix_blocks(result, analysis.plan)
     return blocks
 
