@@ -89,10 +89,9 @@ def plan_at(plan, latitude_deg: float, longitude_deg: float):
 
 def steel_coefficients(place) -> list[SteelCoefficients]:
     """Each heading sensor's coefficients at a place, where the plan has steel."""
-    from .physics import soft_iron
-
     from .budget import adjusting_vertical_t
     from .budget.steel import seen_steel, steel_parts_at
+    from .physics import soft_iron
 
     out = []
     plan, site = place.analysis.plan, place.site

@@ -134,7 +134,8 @@ def spots_for(plan, sensor):
 
 def plan_extent(plan, margin_m=EXTENT_MARGIN_M):
     """The box holding the plan: every route and return route, sensor, point, equipment item,
-    steel item's centre and candidate spot, grown by ``margin_m`` [m] on every side. Returns (low, high) (3,) [m]."""
+    steel item's centre and candidate spot, grown by ``margin_m`` [m] on every side. Returns
+    (low, high) (3,) [m]."""
     pieces = [s.position_m[None] for s in plan.sensors]
     for run in plan.runs:
         pieces.append(run.geometry.route_m)
