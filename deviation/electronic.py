@@ -383,9 +383,10 @@ def electronic_states(plan, result, site, compensation) -> tuple[ElectronicState
         residual_base = (residual.T @ on_base).T + oriented - anchor[None, :]   # (K, 3)
         residual_switched = (residual[independent][None, :, :]
                              * currents[independent].T[:, :, None])          # (K, Ci, 3)
+    steel = _steel_sizes(plan, sensor, site)
     out = []
     for k, state in enumerate(plan.state_names):
-        size = float(_largest(base[k], switched[k], reversing, 0.0, 90.0)) + bound[k]
+        size = float(_largest(base[k], switched[k], reversing, 0.0, 90.0)) + bound[k] + steel[k]
         c_h = c_deg = c_fraction = None
         seen_base, seen_switched, seen_bound = base[k], switched[k], bound[k]
         if compensation is not None:
@@ -394,17 +395,66 @@ def electronic_states(plan, result, site, compensation) -> tuple[ElectronicState
             c_deg = float(asin_deg(c_h / h))
             c_3d = float(_largest(residual_base[k], residual_switched[k], reversing, 0.0,
                                   90.0)) + item_bound[k]
+            if plan.steel:
+                # Current compensation does nothing for steel: the figure it leaves is the
+                # wiring's residual with the steel's induced field turning with the heading.
+                c_deg = _compensated_with_steel(plan, sensor, site, k, residual_base[k],
+                                                residual_switched[k], reversing,
+                                                float(item_bound[k]))
+                c_h, c_3d = c_h + steel[k], c_3d + steel[k]
             c_fraction = c_3d / total
             seen_base, seen_switched, seen_bound = (residual_base[k], residual_switched[k],
                                                     item_bound[k])
         field, inclination = _departures(seen_base, seen_switched, reversing,
-                                         float(seen_bound), site, heel, pitch)
+                                         float(seen_bound + steel[k]), site, heel, pitch)
         ok = field <= MODEL_FIELD_TOLERANCE_T and inclination <= MODEL_INCLINATION_TOLERANCE_DEG
         size = float(size)
         out.append(ElectronicState(state, sensor.used_in_state(state), size, size / total, c_h,
                                    c_deg, c_fraction, field, inclination, ok,
-                                   float(bound[k] - item_bound[k])))
+                                   float(bound[k] - item_bound[k] + steel[k])))
     return tuple(out)
+
+
+def _steel_sizes(plan, sensor, site):
+    """(K,) [T] a bound on the size of the steel's induced field a sensor sees in each state
+    (||M||_2 |F| over the bands, the triangle inequality), zeros without steel. It is of
+    unknown direction here: it turns with the heading."""
+    from .budget import adjusting_vertical_t
+    from .budget.steel import seen_steel, steel_parts_at
+
+    n_k = len(plan.state_names)
+    parts = steel_parts_at(plan, sensor.position_m[None, :])
+    if parts is None:
+        return np.zeros(n_k)
+    z_adj = adjusting_vertical_t(plan, site)
+    out = np.zeros(n_k)
+    for k in range(n_k):
+        seen = seen_steel(plan, sensor, parts, k, z_adj)
+        norm = (np.linalg.norm(seen.matrix[0], ord=2)
+                + sum(np.linalg.norm(g, ord=2) for g in seen.matrix_generators[0]))
+        out[k] = norm * site.total_t + np.linalg.norm(seen.fixed[0]) + np.linalg.norm(
+            seen.fixed_generators[0], axis=-1).sum()
+    return out
+
+
+def _compensated_with_steel(plan, sensor, site, k, base, switched, reversing, bound):
+    """The deviation current compensation leaves in state k with steel items [deg]: the
+    wiring's residual (vessel-fixed, its switching open) and the steel as the sensor sees it,
+    over every heading, attitude, switching and band (:mod:`deviation.physics.turning`)."""
+    from .budget import adjusting_vertical_t
+    from .budget.steel import seen_steel, steel_parts_at
+    from .physics import turning
+
+    seen = seen_steel(plan, sensor, steel_parts_at(plan, sensor.position_m[None, :]), k,
+                      adjusting_vertical_t(plan, site))
+    half = np.where(reversing[:, None], 0.0, 0.5) * switched
+    gens = np.where(reversing[:, None], switched, half)
+    problem = turning.Turning.of((base + half.sum(axis=0) + seen.fixed[0])[None], gens[None],
+                                 seen.matrix, seen.matrix_generators, [bound],
+                                 seen.fixed_generators)
+    worst = turning.worst_deviation(problem, site.horizontal_t, site.vertical_t,
+                                    sensor.max_heel_deg, sensor.max_pitch_deg)
+    return float(worst.bound_deg[0])
 
 
 def grade_of(result, states) -> Grade | None:

@@ -163,6 +163,7 @@ class SwingComparison:
     states: tuple[StateSwing, ...]
     changes: tuple[StateChange, ...]
     unknown_items: tuple[str, ...]
+    steel_items: tuple[str, ...] = ()  # in the prediction: their induced magnetism
 
 
 def swing_comparison(plan: Plan, sensor, readings: SwingReadings, *, on: str = "compass",
@@ -187,8 +188,12 @@ def swing_comparison(plan: Plan, sensor, readings: SwingReadings, *, on: str = "
 
     Notes
     -----
-    The plan knows the wiring and oriented items only: the vessel's own iron, the correctors and
-    a misaligned lubber line are part of every swing and not of the prediction, so the
+    The plan knows the wiring, oriented items and the magnetism the Earth's field induces in its
+    steel items (the middle of each item's permeability band; the curve of a disturbance that
+    turns with the heading, fitted like a swing's,
+    :func:`deviation.physics.swing.turning_coefficients_deg`). The permanent magnetism of the
+    vessel's steel, steel the plan leaves out, the correctors and a misaligned lubber line are
+    part of every swing and not of the prediction, so the
     difference per state mixes them in. Between two swung states they are the same, so the
     change of the coefficients from one state to another is the wiring's part alone, and that
     is set beside the plan's change too. On compass headings a vessel-fixed field gives no A, D
@@ -211,6 +216,7 @@ def swing_comparison(plan: Plan, sensor, readings: SwingReadings, *, on: str = "
                                  + ", ".join(plan.state_names))
         adjusted_in = named
     correction = _state_field(plan, result, adjusted_in) if adjusted_in else np.zeros(3)
+    steel = _steel_seen(plan, chosen, checked.site, adjusted_in)
     states = []
     unknown = set()
     for state, (rows, compass, magnetic, deviation) in readings.states.items():
@@ -221,7 +227,14 @@ def swing_comparison(plan: Plan, sensor, readings: SwingReadings, *, on: str = "
             raise ReadingsError([Finding(readings.source, None, int(rows[0]), None,
                                          f'state "{state}": {error}')]) from None
         seen = _state_field(plan, result, state) - correction
-        predicted = swing.field_coefficients_deg(seen, h, on)
+        if steel is None:
+            predicted = swing.field_coefficients_deg(seen, h, on)
+        else:
+            k = plan.state_index(state)
+            matrix, fixed = steel[k]
+            seen = seen + fixed
+            predicted = swing.turning_coefficients_deg(matrix, seen, h, checked.site.vertical_t,
+                                                       on)
         _, missing = _items_field(plan, chosen, h, lambda item, s=state: item.present_in(s))
         unknown.update(missing)
         states.append(StateSwing(state, rows, psi, deviation, fit,
@@ -241,7 +254,27 @@ def swing_comparison(plan: Plan, sensor, readings: SwingReadings, *, on: str = "
             changes.append(StateChange(other.state, base.state, frozen_array(
                 other.fit.coefficients_deg - base.fit.coefficients_deg), predicted, errors))
     return SwingComparison(chosen, checked.site, on, adjusted_in, readings.source, tuple(states),
-                           tuple(changes), tuple(sorted(unknown)))
+                           tuple(changes), tuple(sorted(unknown)),
+                           tuple(item.name for item in plan.steel))
+
+
+def _steel_seen(plan, sensor, site, adjusted_in):
+    """Per state, the steel's matrix and its fixed part as the sensor sees it after adjustment
+    in ``adjusted_in`` (or not adjusted), at the middle of each item's band: a prediction to set
+    beside a swing, not a bound. None for a plan without steel."""
+    from ..budget import adjusting_vertical_t
+    from ..budget.steel import seen_steel, steel_parts_at
+
+    parts = steel_parts_at(plan, sensor.position_m[None, :])
+    if parts is None:
+        return None
+    adjusted = replace(sensor, reference_state=adjusted_in)
+    z_adj = adjusting_vertical_t(plan, site)
+    out = []
+    for k in range(len(plan.state_names)):
+        seen = seen_steel(plan, adjusted, parts, k, z_adj, adjusted=adjusted_in is not None)
+        out.append((seen.matrix[0], seen.fixed[0]))
+    return out
 
 
 

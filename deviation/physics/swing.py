@@ -223,6 +223,60 @@ def field_coefficients_deg(b_vessel, horizontal, on="compass", samples=CURVE_SAM
     return fit_coefficients(grid, delta).coefficients_deg
 
 
+def turning_coefficients_deg(matrix, fixed, horizontal, vertical, on="compass",
+                             samples=CURVE_SAMPLES):
+    r"""The approximate coefficients of the deviation curve of a disturbance that turns with the
+    Earth's field, b = fixed + M F_v (steel items), level [deg].
+
+    Parameters
+    ----------
+    matrix : (3, 3) array
+        The steel's summed matrix (b = M F_v), vessel frame.
+    fixed : (3,) array
+        The vessel-fixed part, unit of ``horizontal``.
+    horizontal, vertical : float
+        H and Z (down positive).
+    on : "compass" or "magnetic"
+    samples : int
+
+    Returns
+    -------
+    (5,) array [deg], or None where the needle may point anywhere
+
+    Notes
+    -----
+    The exact curve on magnetic headings ψ is Smith's
+    (:func:`deviation.physics.soft_iron.deviation_curve_deg`). On a compass heading ζ the
+    magnetic heading is the fixed point ψ = ζ + δ(ψ), found by iterating, which converges
+    while |dδ/dψ| < 1 (a needle that can take every compass heading); the curve is then fitted
+    like a measured one (:func:`fit_coefficients`), so the coefficients compare like with like
+    with a swing's.
+    """
+    from . import soft_iron
+
+    grid = np.arange(samples) * (360.0 / samples)
+    extreme = soft_iron.max_deviation_over_headings(matrix, fixed, horizontal, vertical)
+    if bool(extreme.overwhelmed):
+        return None
+
+    def curve(psi):
+        return soft_iron.deviation_curve_deg(matrix, fixed, horizontal, vertical, psi)
+
+    if on == "magnetic":
+        return fit_coefficients(grid, curve(grid)).coefficients_deg
+    if on != "compass":
+        raise ValueError(f'on must be "compass" or "magnetic", not {on!r}')
+    psi = grid.copy()
+    for _ in range(200):
+        moved = grid + curve(psi)
+        if np.max(np.abs(moved - psi)) < 1e-12:
+            break
+        psi = moved
+    else:
+        return None                            # the needle cannot take every compass heading
+    return fit_coefficients(grid, curve(psi)).coefficients_deg
+
+
 def reading_change_deg(b_before, b_after, horizontal, heading_deg):
     """Change of the compass reading when the field at the compass goes from one value to another,
     the vessel lying still on a magnetic heading [deg], positive when the reading rises.

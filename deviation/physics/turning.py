@@ -549,27 +549,27 @@ def _linearised_upper(turning, owner, centres, half, h, z, near, second):
         corners = np.array(np.meshgrid(*([[-1.0, 1.0]] * len(dims)), indexing="ij")
                            ).reshape(len(dims), -1).T
         beta = beta_all[part]
-        highs, lows, reached = [], [], []
-        reference = None
-        steps = [w_half[:, d][:, None, None] * derivative[d][..., :2] for d in dims]
+        rows = len(index)
         flat = image[..., :2]
-        for corner in corners:
-            pts = flat.copy()
-            for j, step in enumerate(steps):
-                pts += corner[j] * step
-            centre_h = pts[:, 0] + np.array([h, 0.0])
-            value, _, _, redo, high, low = _widest_fast(centre_h, pts[:, 1:], beta)
-            if np.any(redo):
-                got = _widest_angle(centre_h[redo], pts[redo][:, 1:], beta[redo])
-                value[redo], high[redo], low[redo] = got[0], got[4], got[5]
-            # Unwrap every corner's arc about the first corner's centre direction.
-            a0 = np.arctan2(centre_h[:, 1], centre_h[:, 0])
-            if reference is None:
-                reference = a0
-            shift_back = 2 * np.pi * np.round((reference - a0) / (2 * np.pi))
-            highs.append(high + shift_back)
-            lows.append(low + shift_back)
-            reached.append(value >= np.pi)
+        steps = np.stack([w_half[:, d][:, None, None] * derivative[d][..., :2] for d in dims])
+        # Every corner at once: (corners, rows, n, 2), one call of the support iteration.
+        pts = flat[None] + np.einsum("cj,jrnk->crnk", corners, steps)
+        centre_h = pts[:, :, 0] + np.array([h, 0.0])
+        gens = pts[:, :, 1:]
+        n_c = len(corners)
+        beta_c = np.tile(beta, n_c)
+        value, _, _, redo, high, low = _widest_fast(centre_h.reshape(-1, 2),
+                                                    gens.reshape((n_c * rows,) + gens.shape[2:]),
+                                                    beta_c)
+        if np.any(redo):
+            got = _widest_angle(centre_h.reshape(-1, 2)[redo],
+                                gens.reshape((n_c * rows,) + gens.shape[2:])[redo], beta_c[redo])
+            value[redo], high[redo], low[redo] = got[0], got[4], got[5]
+        value, high, low = (x.reshape(n_c, rows) for x in (value, high, low))
+        # Unwrap every corner's arc about the first corner's centre direction.
+        a0 = np.arctan2(centre_h[..., 1], centre_h[..., 0])
+        shift_back = 2 * np.pi * np.round((a0[:1] - a0) / (2 * np.pi))
+        highs, lows, reached = high + shift_back, low + shift_back, value >= np.pi
         hi, lo = np.max(highs, axis=0), np.min(lows, axis=0)
         # The union's arc must stay short of pi and of the south half-line.
         wraps = np.any(reached, axis=0) | (hi - lo >= np.pi) | (hi >= np.pi) | (lo <= -np.pi)

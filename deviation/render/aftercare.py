@@ -462,6 +462,12 @@ def swing_blocks(comparison, image=None):
     if comparison.unknown_items:
         notes.append("Not in the prediction (direction unknown): "
                      + ", ".join(comparison.unknown_items) + ".")
+    if comparison.steel_items:
+        notes.append("The plan's prediction includes the magnetism the Earth's field induces in "
+                     "its steel items (" + ", ".join(comparison.steel_items) + "; the middle of "
+                     "each permeability band). What is not explained is then mostly the "
+                     "permanent magnetism of the vessel's steel, which no plan can know, and "
+                     "steel the plan leaves out.")
     blocks = [Block("swing fit", "approximate coefficients per state", headers, rows, notes,
                     formats, image=image)]
     if comparison.changes:

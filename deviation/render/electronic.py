@@ -22,7 +22,6 @@ from ..constants import (
 from ..schema import TOTAL_FIELD_KIND
 from . import words
 from .terminal import _box
-from .words import CAUTIONS
 
 #: How each field unit is printed.
 UNIT_LABEL = {"uT": "µT", "nT": "nT", "mG": "mG"}
@@ -217,7 +216,7 @@ def electronic_json(analysis, reports, unit):
     return {"plan": analysis.plan.source, "unit": unit,
             "model_tolerances": {"field": _round(_in(MODEL_FIELD_TOLERANCE_T, unit)),
                                  "inclination_deg": MODEL_INCLINATION_TOLERANCE_DEG},
-            "sensors": out, "cautions": list(CAUTIONS)}
+            "sensors": out, "cautions": list(words.cautions(analysis.plan))}
 
 
 def render_electronic(analysis, reports, console, unit):
@@ -269,7 +268,7 @@ def render_electronic(analysis, reports, console, unit):
                       f"and {MODEL_INCLINATION_TOLERANCE_DEG:g}° of its inclination, over every "
                       "heading and attitude (rule of thumb, no published source).")
     console.print()
-    for caution in CAUTIONS:
+    for caution in words.cautions(analysis.plan):
         console.print(f"[dim]{caution}[/dim]")
 
 

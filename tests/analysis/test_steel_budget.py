@@ -273,3 +273,36 @@ def test_a_total_field_magnetometer_near_steel_holds_its_heading_error(tmp_path)
     reach = 2 * k * total
     remainder_nt = reach ** 2 / (2 * (total - reach)) * 1000.0
     assert worst - 1e-6 <= state.held <= worst + remainder_nt + 1e-5 * H_UT * 1000.0
+
+
+def test_the_swing_sets_the_steels_coefficients_beside_the_fitted_ones(tmp_path):
+    # The test's own swing of the sphere below and ahead, read on compass headings, plus a
+    # permanent field of 0.2 µT forward the plan cannot know: the plan's prediction (wiring and
+    # the steel's induced field) explains the fitted curve but for that permanent part, whose
+    # B is P/(lambda H) (NGA Pub. 226: B = P/H, over lambda with soft iron).
+    from deviation.aftercare.swing import read_swing, swing_comparison
+
+    plan = sphere_plan(tmp_path, "0.5, 0, -0.4")
+    psi = np.arange(0.0, 360.0, 22.5)
+    b, rot, flip = own_field_ut([0.5, 0.0, -0.4], psi)
+    permanent = np.array([0.2, 0.0, 0.0])
+    level = np.einsum("rij,rj->ri", rot, (b + permanent) @ flip)
+    deviation = np.degrees(np.arctan2(level[:, 1], H_UT + level[:, 0]))
+    compass = np.mod(psi - deviation, 360.0)
+    path = tmp_path / "swing.csv"
+    path.write_text("compass,deviation\n" + "".join(f"{c:.6f},{d:.6f}\n"
+                                                     for c, d in zip(compass, deviation)))
+    comparison = swing_comparison(plan, "compass", read_swing(path, plan), on="compass")
+    state = comparison.states[0]
+    assert comparison.steel_items == ("ball",)
+    r = np.array([-0.5, 0.0, 0.4])
+    k = RADIUS_M ** 3 / np.linalg.norm(r) ** 3
+    unit = r / np.linalg.norm(r)
+    ship = np.diag([1.0, -1.0, -1.0]) @ (k * (3 * np.outer(unit, unit) - np.eye(3))) \
+        @ np.diag([1.0, -1.0, -1.0])
+    lam = 1 + (ship[0, 0] + ship[1, 1]) / 2
+    unexplained = state.unexplained_deg
+    assert unexplained[1] == pytest.approx(math.degrees(0.2 / (lam * H_UT)), abs=0.01)
+    assert np.all(np.abs(unexplained[[0, 2, 3, 4]]) < 0.01)
+    # Without the steel in the prediction the induced B (3.14 degrees) would be left over.
+    assert state.predicted_deg[1] == pytest.approx(3.1, abs=0.1)

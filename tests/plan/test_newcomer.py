@@ -251,6 +251,7 @@ SPOT_REGIONS = {  # a small box beside each sample's sensor, in the plan's units
     "camper_van": ("dash compass", "16.8,0.4,4.1", "17.2,0.8,4.3", "2in"),
     "survey_drone": ("mast magnetometer", "-50,-10,110", "-30,10,130", "1cm"),
     "survey_boom": ("fc compass", "-50,-10,140", "-30,10,160", "1cm"),
+    "survey_workboat": ("console compass", "3.0,-0.1,1.7", "3.4,0.1,1.9", "5cm"),
 }
 
 

@@ -64,6 +64,9 @@ def test_a_semicolon_plan_with_decimal_commas_reads_to_the_same_figures_as_the_c
     assert [s.budget.value for s in semicolon.sensors] == [s.budget.value for s in comma.sensors]
     assert semicolon.equipment[0].safe_distance_m == 0.9     # "0,9 m"
     np.testing.assert_array_equal(semicolon.equipment[0].position_m, [1.2, 0.45, 1.55])
+    # The steel sheet: "3,25, 0,00, 0,40" and "0,70 x 0,48 x 0,52" with decimal commas.
+    np.testing.assert_array_equal(semicolon.steel[0].position_m, comma.steel[0].position_m)
+    np.testing.assert_array_equal(semicolon.steel[0].sizes_m, comma.steel[0].sizes_m)
     assert (semicolon.site.latitude_deg, semicolon.site.longitude_deg) == (43.29, 9.35)
     first, second = analyse(comma), analyse(semicolon)
     assert [[s.held for s in r.states] for r in second.sensors] == \
