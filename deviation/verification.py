@@ -462,3 +462,101 @@ def _gauss_moment():
 
 
 __all__ = ["CHECKS", "Check", "Row", "published", "run_check", "verify"]
+
+
+# Steel: induced magnetism -----------------------------------------------------------------------
+
+POISSON_SPHERE = ("Poisson's rods (NGA, Handbook of Magnetic Compass Adjustment, formerly Pub. "
+                  "226, ch. III: lambda = 1 + (a + e)/2, D = (a - e)/2 lambda) of a permeable "
+                  "sphere's dipole (J. D. Jackson, Classical Electrodynamics, 3rd ed., ch. 5: "
+                  "m = 3V H0 for mu -> infinity): a sphere straight ahead gives a = 2(a/r)^3, "
+                  "e = -(a/r)^3, D = 1.5 (a/r)^3 / lambda")
+INDUCED_B = ("The induced B of a steel sphere below and ahead, fitted to a numerical swing "
+             "(the project's check values, steel: a = 0.17 m, 0.5 m ahead, 0.4 m below, H 20, "
+             "Z 40 uT, mu -> infinity: B = +3.14 deg); B = (P + cZ)/lambda H (Pub. 226, ch. III)")
+OSBORN = ("J. A. Osborn, \"Demagnetizing factors of the general ellipsoid\", Phys. Rev. 67, "
+          "351 (1945): prolate spheroid of aspect m, along its axis N = [m/sqrt(m^2-1) "
+          "ln(m + sqrt(m^2-1)) - 1]/(m^2-1); at m = 2, 0.1736 (as tabulated; from memory)")
+MAXWELL_SHELL = ("J. C. Maxwell, A Treatise on Electricity and Magnetism, vol. 2, §431-433: "
+                 "a hollow sphere's moment; at mu_r 1000 a wall of 0.3 % of the radius gives "
+                 "0.67 of the solid sphere's (the project's check values, steel)")
+EXTENDED_ROD = ("The project's check values (steel), computed with magpylib's uniformly "
+                "magnetised Cylinder (M. Ortner and L. G. Coliado Bandeira, SoftwareX 11, "
+                "100466, 2020): a 1 m x 0.1 m rod upright, 0.5 m ahead and 0.25 m below a "
+                "sensor, magnetised by Z = 40 uT with the moment of its inscribed steel "
+                "spheroid: 1.79 uT horizontal (a point dipole of the same moment: 5.64 uT)")
+
+
+def _sphere_plan(at):
+    """A compass and one steel sphere (a = 0.17 m, mu -> infinity), no current, H 20, Z 40."""
+    return _check_plan({
+        "site": _SITE_20_40,
+        "runs": [["run", "route", "return", "current_a"],
+                 ["idle", "-50, 5, -1 > 50, 5, -1", "none", 0]],
+        "sensors": [["sensor", "at", "kind", "budget_deg"],
+                    ["compass", "0, 0, 0", "magnetic compass", 5]],
+        "steel": [["item", "at", "shape", "size", "mu_low", "mu_high"],
+                  ["sphere", at, "sphere", "0.34", "inf", "inf"]],
+    })
+
+
+@published("steel.sphere-d", group="Steel",
+           what="D of a steel sphere of radius 0.17 m, 1 m ahead, mu -> infinity, from the "
+                "budget's own matrix of the item: 1.5 (a/r)^3 / lambda", source=POISSON_SPHERE,
+           expected=math.degrees(1.5 * 0.17 ** 3 / (1 + 0.17 ** 3 / 2)), unit="°",
+           tolerance=1e-4, decimals=4)
+def _steel_sphere_d():
+    from .physics import soft_iron
+
+    state = _sphere_plan("1, 0, 0").sensors[0].states[0]
+    found = soft_iron.coefficients(np.asarray(state.steel_matrix), np.zeros(3), 20.0, 40.0)
+    return math.degrees(float(found.d))
+
+
+@published("steel.sphere-b", group="Steel",
+           what="Induced B of the same sphere 0.5 m ahead and 0.4 m below, H 20, Z 40 µT: the "
+                "check's card fitted like a swing", source=INDUCED_B, expected=3.14, unit="°",
+           tolerance=0.01, decimals=2)
+def _steel_sphere_b():
+    from .card import deviation_card
+    from .physics.swing import fit_coefficients
+
+    analysis = _sphere_plan("0.5, 0, -0.4")
+    card = deviation_card(analysis, analysis.sensors[0], step_deg=5.0).states[0]
+    return float(fit_coefficients(card.headings_deg, card.deviation_deg).coefficients_deg[1])
+
+
+@published("steel.osborn-prolate", group="Steel",
+           what="Demagnetising factor of a prolate spheroid of aspect 2 along its axis",
+           source=OSBORN, expected=0.1736, unit="factor", tolerance=5e-5, decimals=4)
+def _steel_osborn():
+    from .physics import demag
+
+    return float(demag.ellipsoid_factors([0.5, 0.5, 1.0])[2])
+
+
+@published("steel.maxwell-shell", group="Steel",
+           what="A hollow sphere's moment over the solid's, mu_r 1000, wall 0.3 % of the radius",
+           source=MAXWELL_SHELL, expected=0.67, unit="ratio", tolerance=0.005, decimals=2)
+def _steel_shell():
+    from .physics import demag
+
+    return float(demag.hollow_sphere_polarisability_m3(1.0, 0.003, 1000.0)
+                 / demag.hollow_sphere_polarisability_m3(1.0, 1.0, 1000.0))
+
+
+@published("steel.extended-rod", group="Steel",
+           what="Horizontal field of a 1 m x 0.1 m steel rod upright, 0.5 m ahead and 0.25 m "
+                "below a sensor, Z = 40 µT, as the extended body the budget uses",
+           source=EXTENDED_ROD, expected=1.79, unit="µT", tolerance=0.005, decimals=2)
+def _steel_rod():
+    from .physics import demag, induced
+
+    # The moment of the inscribed steel spheroid (mu -> infinity): alpha = V_s / N_s.
+    n_axial = float(demag.ellipsoid_factors([0.05, 0.05, 0.5])[2])
+    alpha = 4 / 3 * math.pi * 0.05 ** 2 * 0.5 / n_axial
+    matrix = induced.field_matrix("rod", [1.0, 0.1], [0.5, 0.0, -0.25], [0.0, 0.0, 0.0],
+                                  np.array([0.0, 0.0, alpha]),
+                                  induced.rotation_from_axis([0.0, 0.0, 1.0]))
+    field = matrix @ np.array([0.0, 0.0, -40.0])      # Z = 40 µT down: -40 along vessel z
+    return float(np.hypot(field[0], field[1]))

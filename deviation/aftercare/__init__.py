@@ -39,6 +39,7 @@ from .common import (  # noqa: F401
 )
 from .deflection import (  # noqa: F401
     deflection_item,
+    induced_moment_am2,
 )
 from .readings import (  # noqa: F401
     Table,

@@ -30,10 +30,19 @@ from .common import (
               help="Take H from this plan's site instead.")
 @click.option("--item", default="item", show_default=True, help="Name for the equipment row.")
 @click.option("--at", "at", default="", help="Where it will be mounted: a point name or x, y, z.")
+@click.option("--steel", "steel_shape", default=None,
+              help="The item is steel of this shape (as the steel sheet names it: box, "
+                   "cylinder, ...): its induced moment in H is shown beside the measured one.")
+@click.option("--size", "steel_size", default=None,
+              help="With --steel: its sizes as the steel sheet takes them, e.g. "
+                   "\"500 x 250 x 200 mm\" (bare numbers in metres).")
+@click.option("--wall", "steel_wall", default=None,
+              help="With --steel and a hollow shape: the wall thickness, e.g. 3mm.")
 @json_option
 @width_option
 @library_errors
-def deflection(deflection_deg, distance, position, field_ut, plan_path, item, at, as_json, width):
+def deflection(deflection_deg, distance, position, field_ut, plan_path, item, at, steel_shape,
+               steel_size, steel_wall, as_json, width):
     """An item's magnetic moment from how far it deflects a hand-bearing compass (Gauss's
     method), as a row for the plan's equipment sheet.
 
@@ -67,12 +76,40 @@ def deflection(deflection_deg, distance, position, field_ut, plan_path, item, at
 
     moment = moment_from_deflection_am2(deflection_deg, distance_m, horizontal_t, position)
     row = deflection_item(item, at, deflection_deg, distance_m, horizontal_t, position)
+    induced = _induced(steel_shape, steel_size, steel_wall, horizontal_t)
     if as_json:
         from ..render.aftercare import deflection_json
 
-        echo_json(deflection_json(row, moment, deflection_deg, distance_m, position, horizontal_t))
+        echo_json(deflection_json(row, moment, deflection_deg, distance_m, position, horizontal_t,
+                                  induced))
         return
     from ..render.aftercare import render_deflection
 
     render_deflection(row, moment, deflection_deg, distance_m, position, horizontal_t,
-                      console_for(width))
+                      console_for(width), induced)
+
+
+def _induced(shape, size, wall, horizontal_t):
+    """(shape, least, largest) induced moment [A·m²] of a steel item in H, or None."""
+    if shape is None and size is None and wall is None:
+        return None
+    if shape is None or size is None:
+        raise CommandProblem("--steel and --size go together (the item's shape and sizes)")
+    from ..aftercare import induced_moment_am2
+    from ..schema import STEEL_SHAPES
+    from ..units import UnitError, parse_length, parse_sizes
+
+    wanted = " ".join(shape.replace("-", " ").replace("_", " ").split()).lower()
+    if wanted not in STEEL_SHAPES:
+        raise click.BadParameter(f'"{shape}" is not a shape; expected one of '
+                                 + ", ".join(STEEL_SHAPES), param_hint="--steel")
+    try:
+        sizes = parse_sizes(size, "m")
+        wall_m = None if wall is None else parse_length(wall, "m")
+    except UnitError as error:
+        raise click.BadParameter(str(error), param_hint="--size") from None
+    try:
+        low, high = induced_moment_am2(wanted, sizes, horizontal_t, wall_m=wall_m)
+    except ValueError as error:
+        raise click.BadParameter(str(error), param_hint="--size") from None
+    return wanted, low, high

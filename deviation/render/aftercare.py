@@ -712,7 +712,7 @@ def equipment_csv(row) -> str:
 
 
 def render_deflection(row, moment_am2, deflection_deg, distance_m, position, horizontal_t,
-                      console):
+                      console, induced=None):
     from rich.text import Text
 
     console.print(Text(f"Magnetic moment from a {abs(deflection_deg):g}° deflection at "
@@ -724,9 +724,27 @@ def render_deflection(row, moment_am2, deflection_deg, distance_m, position, hor
     console.print("  Equipment row (axis blank: the orientation aboard is not known, the worst "
                   "counts):")
     console.print(Text(equipment_csv(row).rstrip()))
+    if induced is not None:
+        console.print(Text(STEEL_DEFLECTION.format(shape=induced[0], low=induced[1],
+                                                   high=induced[2])))
 
 
-def deflection_json(row, moment_am2, deflection_deg, distance_m, position, horizontal_t):
-    return {"moment_am2": float(f"{moment_am2:.6g}"), "deflection_deg": deflection_deg,
-            "distance_m": distance_m, "position": position,
-            "horizontal_ut": round(horizontal_t * 1e6, 4), "equipment_row": row}
+#: Said when the deflected item is steel.
+STEEL_DEFLECTION = ("  As steel ({shape}), the Earth's field there induces {low:.3g} to {high:.3g} "
+                    "A·m² in it, along the field: that moment does not deflect the needle in "
+                    "Gauss's positions (it only changes its directive force), so the deflection "
+                    "measures the permanent moment. Put the item in the steel sheet too: its "
+                    "induced magnetism turns with the heading aboard.")
+
+
+def deflection_json(row, moment_am2, deflection_deg, distance_m, position, horizontal_t,
+                    induced=None):
+    out = {"moment_am2": float(f"{moment_am2:.6g}"), "deflection_deg": deflection_deg,
+           "distance_m": distance_m, "position": position,
+           "horizontal_ut": round(horizontal_t * 1e6, 4), "equipment_row": row}
+    if induced is not None:
+        out["steel"] = {"shape": induced[0], "induced_moment_low_am2": float(f"{induced[1]:.6g}"),
+                        "induced_moment_high_am2": float(f"{induced[2]:.6g}"),
+                        "note": "the induced moment lies along the field and does not deflect "
+                                "the needle: the deflection measures the permanent moment"}
+    return out

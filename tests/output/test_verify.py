@@ -86,7 +86,7 @@ def test_a_dipole_kernel_with_the_wrong_power_of_r_fails_its_rows(monkeypatch):
     table = run_cli("verify", "--width", "80")
     assert table.exit_code == 1
     assert re.search(r"^gauss\.end-on .* FAIL$", table.output, flags=re.M)
-    assert "39 of 43 checks pass; failed: field.dipole-axis" in table.output
+    assert "44 of 48 checks pass; failed: field.dipole-axis" in table.output
 
 
 def test_a_segment_kernel_off_by_a_tenth_of_a_percent_fails(monkeypatch):
@@ -147,3 +147,24 @@ def test_verification_page_is_current():
     from deviation.docs import verification_reference
 
     assert (ROOT / "docs" / "verification.md").read_text() == verification_reference()
+
+
+def test_a_sphere_taken_as_its_uniform_trial_fails_the_steel_rows(monkeypatch):
+    # Mutation: the steel's polarisability a third of the permeable sphere's 3V (Jackson ch. 5)
+    # fails D and the induced B, and nothing outside the steel rows.
+    from deviation.budget import steel as steel_budget
+    from deviation.physics import induced
+
+    real = induced.polarisability_band
+
+    def third(*args, **kwargs):
+        band = real(*args, **kwargs)
+        return induced.PolarisabilityBand(band.low_m3 / 3, band.high_m3 / 3, band.exact_shape,
+                                          band.low_is_bound)
+
+    monkeypatch.setattr(induced, "polarisability_band", third)
+    steel_budget._band.cache_clear()
+    result = run_cli("verify", "--json")
+    steel_budget._band.cache_clear()
+    failed = {i for i, row in rows_of(result).items() if not row["pass"]}
+    assert failed == {"steel.sphere-d", "steel.sphere-b"}
