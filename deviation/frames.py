@@ -35,6 +35,7 @@ def summary_frame(analysis):
                 "field_x_ut": st.field_t[0] * 1e6, "field_y_ut": st.field_t[1] * 1e6,
                 "field_z_ut": st.field_t[2] * 1e6,
                 "equipment_bound_ut": st.equipment_bound_t * 1e6,
+                "lambda_low": st.lam_low, "lambda_high": st.lam_high,
                 "total_field_error_nt": (None if st.total_field_error_t is None
                                          else st.total_field_error_t * 1e9)})
     return _pandas().DataFrame(rows)
@@ -68,6 +69,18 @@ def runs_frame(analysis):
                              "held": e.held, "unit": s.budget.unit.value,
                              "share_of_budget": s.budget.share(e.held), "bound": e.bound,
                              "bound_ut": e.bound_t * 1e6})
+            for item in st.steel:
+                # A steel item: its field turns with the heading, so no single vector; its
+                # bounds over every heading are given instead.
+                rows.append({"sensor": s.name, "state": st.state, "name": item.name,
+                             "is_item": True, "return": None, "current_a": None,
+                             "nearest_m": item.distance_m, "field_x_ut": None,
+                             "field_y_ut": None, "field_z_ut": None,
+                             "max_deviation_deg": item.max_deviation_deg,
+                             "change_from_reference_deg": None, "held": item.held,
+                             "unit": s.budget.unit.value,
+                             "share_of_budget": item.share_of_budget, "bound": item.bound,
+                             "bound_ut": item.horizontal_t * 1e6, "steel": True})
     return _pandas().DataFrame(rows)
 
 

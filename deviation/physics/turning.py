@@ -408,6 +408,12 @@ def worst_deviation(turning: Turning, horizontal, vertical, max_heel_deg=0.0, ma
         raise ValueError("heel and pitch limits are at most 90 degrees")
     if not h > 0:
         raise ValueError("the horizontal field must be positive")
+    original = turning
+    # The smallest fixed generators are counted as part of the disc (it holds their zonotope),
+    # up to a tenth of the tolerance's worth, and generators that are zero everywhere dropped:
+    # fewer generators, the same bound to within the tolerance.
+    turning = _folded(turning, 0.1 * np.radians(tolerance_deg) * h / 2.0)
+    tolerance_deg = 0.9 * tolerance_deg
     total = float(np.hypot(h, z))
     fixed_full, fixed_level = turning.fixed_size()
     m_full, m_rows, m_block = turning.matrix_size()
@@ -481,11 +487,31 @@ def worst_deviation(turning: Turning, horizontal, vertical, max_heel_deg=0.0, ma
         owner = np.concatenate([owner, owner])
     bound = np.maximum(closed_bound, best)
     overwhelmed = bound >= np.pi
-    signs, matrix_signs = _signs_at(turning, best_at, h, z)
+    # The value reached, by the problem as given, where the search found its best.
+    best = np.minimum(_evaluate(original, np.arange(b), best_at, h, z)[0], bound)
+    signs, matrix_signs = _signs_at(original, best_at, h, z)
     return WorstDeviation(np.degrees(np.minimum(bound, np.pi)), np.degrees(best),
                           np.mod(np.degrees(best_at[:, 0]), 360.0), np.degrees(best_at[:, 1]),
                           np.degrees(best_at[:, 2]), signs, matrix_signs, overwhelmed,
-                          float(tolerance_deg))
+                          float(tolerance_deg) / 0.9)
+
+
+def _folded(turning, budget):
+    """The problems with their smallest fixed generators folded into the disc (their sizes added
+    to beta, at most ``budget`` per problem) and the generators zero in every problem dropped."""
+    gens = turning.generators
+    norms = np.linalg.norm(gens, axis=-1)                                  # (B, n)
+    order = np.argsort(norms, axis=1, kind="stable")
+    cumulative = np.cumsum(np.take_along_axis(norms, order, axis=1), axis=1)
+    fold = np.zeros_like(norms, dtype=bool)
+    np.put_along_axis(fold, order, cumulative <= budget, axis=1)
+    unknown = turning.unknown + np.where(fold, norms, 0.0).sum(axis=1)
+    gens = np.where(fold[..., None], 0.0, gens)
+    keep = np.any(gens != 0.0, axis=(0, 2))
+    mkeep = (np.any(turning.matrix_generators != 0.0, axis=(0, 2, 3))
+             | np.any(turning.matrix_fixed != 0.0, axis=(0, 2)))
+    return Turning(turning.centre, gens[:, keep], turning.matrix,
+                   turning.matrix_generators[:, mkeep], unknown, turning.matrix_fixed[:, mkeep])
 
 
 _JX = np.array([[0.0, 0.0, 0.0], [0.0, 0.0, -1.0], [0.0, 1.0, 0.0]])
