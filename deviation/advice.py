@@ -11,7 +11,15 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from .budget import RunParts, budget_figures, equipment_fields, parts_of_runs
+from .budget import (
+    MAX_EXACT_GENERATORS_ATTITUDE,
+    MAX_EXACT_GENERATORS_LEVEL,
+    _attitude_size,
+    _worst,
+    asin_deg,
+    equipment_fields,
+    parts_of_runs,
+)
 from .constants import ISO25862_BIPOLAR_RADIUS_M
 from .electronic import electronic_states, interference_grade
 from .physics.routing import hint_lay_m
@@ -142,37 +150,69 @@ def rule_findings(analysis) -> tuple[RuleFinding, ...]:
 # Remedies -----------------------------------------------------------------------------------------
 
 class _Evaluator:
-    """Re-evaluates one sensor's budget figures with one run re-routed."""
+    """One sensor's held figure with some runs re-routed, for many candidate changes at once.
+
+    Only what a change moves is evaluated again: the re-routed run's field (computed once per
+    re-routed run and kept) and the sums that depend on it, updated by the difference; the
+    worst switching and attitude, which are not linear, are searched again for every candidate
+    in one vectorised call. The rules are those of :func:`deviation.budget.budget_figures` for
+    the figure held against the budget (the residual from the reference state, the spread
+    generators searched exactly and the rest counted apart, the equipment bounds);
+    tests/analysis/test_fix_set.py holds the two to each other on every candidate.
+    """
 
     def __init__(self, analysis, result):
-        self.plan = analysis.plan
+        plan, sensor = analysis.plan, result.sensor
+        self.plan, self.sensor = plan, sensor
         self.horizontal_t = analysis.site.horizontal_t
-        self.sensor = result.sensor
-        self.parts = result.parts                                      # P = 1
-        self.items = equipment_fields(self.plan, self.sensor, self.sensor.position_m[None, :],
-                                      self.horizontal_t)
+        self.used = np.array([sensor.used_in_state(s) for s in plan.state_names], dtype=bool)
+        parts = result.parts                                                 # P = 1
+        self.unit, self.bound = parts.unit_t[0], parts.bound_t[0]          # (R, 3), (R,)
+        items = equipment_fields(plan, sensor, sensor.position_m[None, :], self.horizontal_t)
+        matrix, currents = plan.circuit_matrix, plan.circuit_currents_a   # (R, C), (C, K)
+        independent = plan.independent
+        self.base_a = matrix @ (currents * ~independent[:, None])          # (R, K)
+        on_a = matrix[:, independent] @ np.abs(currents[independent])
+        self.to_circuit = matrix[:, independent]                            # (R, Ci)
+        self.circuit_a = currents[independent].T                            # (K, Ci)
+        self.reversing = np.array([c.reversing for c in plan.circuits if c.independent],
+                                  dtype=bool)
+        # The sums as budget_figures makes them, for the plan as it is.
+        self.base = (np.einsum("prj,rk->pkj", parts.unit_t, self.base_a) + items.oriented)[0]
+        self.circuit_unit = np.einsum("prj,rc->pcj", parts.unit_t, self.to_circuit)[0]
+        self.reference = (None if sensor.reference_state is None
+                          else plan.state_index(sensor.reference_state))
+        if self.reference is None:
+            self.scale = np.abs(self.base_a) + on_a                         # (R, K)
+            self.scalar = (parts.bound_t @ self.scale + items.bound)[0]    # (K,)
+        else:
+            k = self.reference
+            self.scale = np.abs(self.base_a - self.base_a[:, k:k + 1]) + on_a
+            self.scalar = (parts.bound_t @ self.scale + items.changing)[0]
+        heel, pitch = sensor.max_heel_deg, sensor.max_pitch_deg
+        self.heel, self.pitch = (heel, pitch) if heel or pitch else (0.0, 0.0)
+        cap = MAX_EXACT_GENERATORS_ATTITUDE if heel or pitch else MAX_EXACT_GENERATORS_LEVEL
+        self.room = max(0, cap - len(self.reversing))
+        # Spread generators: weight (which are searched exactly), and each one's share counted
+        # apart when it is not.
+        self.scale_peak = np.abs(self.scale).max(axis=1)                    # (R,)
+        self.n_generators = parts.spread_t.shape[2]
+        self.spread = parts.spread_t[0]                                     # (R, G, 3)
+        self.weight, self.term = self._generators(self.spread, np.arange(len(self.unit)))
+        flat_weight = self.weight.reshape(-1)
+        self.order = np.argsort(-flat_weight, kind="stable")
+        self.term_total = self.term.reshape(-1, self.term.shape[-1]).sum(axis=0)   # (K,)
         self._cache = {}
+        self._committed = None
 
-    def with_run(self, r, run, others=None):
-        """Figures (arrays (1, K)) with run ``r`` replaced by ``run`` (and the runs in
-        ``others``, {index: Run}, replaced too), and the new run's nearest distance."""
-        changes = dict(others or {})
-        changes[r] = run
-        unit, spread = self.parts.unit_t.copy(), self.parts.spread_t.copy()
-        bound = self.parts.bound_t.copy()
-        nearest = 0.0
-        for index, changed in changes.items():
-            new = self._parts(changed)
-            unit[:, index], spread[:, index], bound[:, index] = (new.unit_t[:, 0],
-                                                                 new.spread_t[:, 0],
-                                                                 new.bound_t[:, 0])
-            if index == r:
-                nearest = float(new.nearest_m[0, 0])
-        parts = RunParts(unit, spread, bound, self.parts.nearest_m, self.parts.inside)
-        figures = budget_figures(self.plan, self.sensor, self.horizontal_t, parts, self.items)
-        return figures, nearest
+    def _generators(self, spread, runs):
+        """Weights (n, G) and apart terms (n, G, K) of the spread generators of some runs."""
+        weight = np.linalg.norm(spread, axis=-1) * self.scale_peak[runs][:, None]
+        size = _attitude_size(spread, self.heel, self.pitch)                 # (n, G)
+        return weight, size[..., None] * np.abs(self.scale[runs])[:, None, :]
 
-    def _parts(self, run):
+    def parts(self, run):
+        """The run's own :class:`RunParts` at the sensor, computed once per run value."""
         key = id(run)
         cached = self._cache.get(key)
         if cached is None or cached[0] is not run:
@@ -180,12 +220,110 @@ class _Evaluator:
             self._cache[key] = cached
         return cached[1]
 
-    def held(self, figures):
-        """The held figure over the states the sensor is used in, and whether all are within."""
-        used = [k for k, state in enumerate(self.plan.state_names)
-                if self.sensor.used_in_state(state)]
-        return (max(float(figures.budget_used_deg[0, k]) for k in used),
-                all(bool(figures.within_budget[0, k]) for k in used))
+    def _apply(self, changes, start=None):
+        """The sums with the runs in ``changes`` ({index: Run}) re-routed, on top of ``start``
+        (sums from :meth:`_apply`; the plan as it is if None)."""
+        if start is None:
+            start = (self.base, self.circuit_unit, self.scalar, self.term_total, {})
+        base, circuit_unit, scalar, rest, new = start
+        base, circuit_unit = base.copy(), circuit_unit.copy()
+        scalar, rest, new = scalar.copy(), rest.copy(), dict(new)
+        for r, run in changes.items():
+            own = self.parts(run)
+            change = own.unit_t[0, 0] - self.unit[r]
+            base += self.base_a[r][:, None] * change[None, :]
+            circuit_unit += self.to_circuit[r][:, None] * change[None, :]
+            scalar += (own.bound_t[0, 0] - self.bound[r]) * self.scale[r]
+            weight, term = self._generators(own.spread_t[0, 0][None], np.array([r]))
+            rest += term[0].sum(axis=0) - self.term[r].sum(axis=0)
+            new[r] = (own.spread_t[0, 0], weight[0], term[0])
+        return base, circuit_unit, scalar, rest, new
+
+    def _kept(self, new):
+        """The spread generators searched exactly, largest weight first (ties by run, then
+        generator), with ``new`` ({run: (spread, weight, term)}) replacing those runs' own:
+        (vectors (n, 3), runs (n,), terms (n, K))."""
+        g = self.n_generators
+        prefix = self.order[:self.room + g * len(new)]
+        prefix = prefix[~np.isin(prefix // g, list(new))]
+        flat = [prefix] + [r * g + np.arange(g) for r in new]
+        flat = np.concatenate(flat) if new else prefix
+        weight = np.concatenate([self.weight.reshape(-1)[prefix]]
+                                + [item[1] for item in new.values()])
+        order = np.lexsort((flat, -weight))[:self.room]
+        order = order[weight[order] > 0]
+        index = flat[order]
+        runs, which = index // g, index % g
+        vectors = np.empty((len(index), 3))
+        terms = np.empty((len(index), self.term.shape[-1]))
+        for i, (r, j) in enumerate(zip(runs, which)):
+            spread, _, term = new[r] if r in new else (self.spread[r], None, self.term[r])
+            vectors[i], terms[i] = spread[j], term[j]
+        return vectors, runs, terms
+
+    def figures(self, candidates, others=None):
+        """The figure held against the budget in every state, for each candidate change.
+
+        Parameters
+        ----------
+        candidates : list of (int, Run)
+            Run index and the re-routed run, each evaluated with the runs in ``others`` also
+            changed.
+        others : dict {int: Run} or None
+
+        Returns
+        -------
+        used_deg : (B, K) array [deg]
+            ``budget_used_deg`` of :func:`deviation.budget.budget_figures`.
+        within : (B, K) bool array
+        """
+        if not candidates:
+            return np.zeros((0, len(self.base))), np.zeros((0, len(self.base)), dtype=bool)
+        others = dict(others or {})
+        key = tuple(sorted((r, id(run)) for r, run in others.items()))
+        if self._committed is None or self._committed[0] != key:
+            self._committed = (key, self._apply(others))
+        rows = []
+        for r, run in candidates:
+            if r in others:                     # a committed change replaced: start afresh
+                changes = dict(others)
+                changes[r] = run
+                sums = self._apply(changes)
+            else:                               # one more change on top of the committed ones
+                sums = self._apply({r: run}, self._committed[1])
+            base, circuit_unit, scalar, rest, new = sums
+            vectors, runs, terms = self._kept(new)
+            rows.append((base, circuit_unit, scalar + (rest - terms.sum(axis=0)), vectors, runs))
+        n_kept = max((len(row[3]) for row in rows), default=0)
+        n_k = len(self.base)
+        fields = np.stack([row[0] for row in rows])                          # (B, K, 3)
+        switched = (np.stack([row[1] for row in rows])[:, None, :, :]
+                    * self.circuit_a[None, :, :, None])                       # (B, K, Ci, 3)
+        kept = np.zeros((len(rows), n_k, n_kept, 3))
+        for b, (_, _, _, vectors, runs) in enumerate(rows):
+            kept[b, :, :len(runs)] = vectors[None, :, :] * np.abs(self.scale[runs]).T[:, :, None]
+        apart = np.stack([row[2] for row in rows])                           # (B, K)
+        if self.reference is not None:
+            fields = fields - fields[:, self.reference:self.reference + 1, :]
+        generators = np.concatenate([switched, kept], axis=2)
+        reversing = np.concatenate([self.reversing, np.ones(n_kept, dtype=bool)])
+        size, _ = _worst(fields, generators, reversing, self.heel, self.pitch)
+        held = size + apart
+        used_deg = asin_deg(held / self.horizontal_t)
+        within = (used_deg <= self.sensor.budget_deg) & ~(held >= self.horizontal_t)
+        return used_deg, within
+
+    def reroutings(self, r):
+        """:func:`_reroutings` of run ``r``, made once (so each re-routed run's field is too)."""
+        key = ("reroutings", r)
+        if key not in self._cache:
+            self._cache[key] = _reroutings(self.plan.runs[r])
+        return self._cache[key]
+
+    def held(self, used_deg, within):
+        """The held figure over the states the sensor is used in (one candidate's (K,) rows),
+        and whether all are within."""
+        return float(used_deg[self.used].max()), bool(within[self.used].all())
 
 
 def _pair_spacing(run):
@@ -228,8 +366,9 @@ def detour(route, sensor, offset_m):
 
 
 def _solve_clearance(evaluator, r, run, figure_of, target, others=None):
-    """Smallest detour (bisection, to 1 mm) of run ``r`` that brings ``figure_of(figures)`` to
-    at most ``target``, with the runs in ``others`` already changed; None if none does.
+    """Smallest detour (bisection, to 1 mm) of run ``r`` that brings ``figure_of(used_deg,
+    within)`` (a candidate's (K,) rows, see :meth:`_Evaluator.figures`) to at most ``target``,
+    with the runs in ``others`` already changed; None if none does.
 
     Returns (figure, nearest distance, the re-routed run)."""
     route = run.geometry.route_m
@@ -245,8 +384,9 @@ def _solve_clearance(evaluator, r, run, figure_of, target, others=None):
             back = shifted if shifted is not None else back
         moved = replace(run, geometry=replace(run.geometry, route_m=new_route,
                                               return_route_m=back))
-        figures, nearest = evaluator.with_run(r, moved, others)
-        return figure_of(figures), nearest, moved
+        used_deg, within = evaluator.figures([(r, moved)], others)
+        nearest = float(evaluator.parts(moved).nearest_m[0, 0])
+        return figure_of(used_deg[0], within[0]), nearest, moved
 
     far = attempt(MAX_DETOUR_M)
     if far is None or far[0] > target:
@@ -292,27 +432,35 @@ def remedies_for(analysis, result) -> dict[str, tuple[Remedy, ...]]:
     plan = analysis.plan
     evaluator = _Evaluator(analysis, result)
     by_name = {r.name: i for i, r in enumerate(plan.runs)}
+    culprits = {}
+    for st in result.states:
+        if st.used:
+            over = not st.within_budget
+            culprits[st.state] = [
+                by_name[c.name] for c in st.runs if c.share_of_budget >= HINT_SHARE
+                or (over and c.share_of_budget >= HINT_SHARE_OVER)][:CULPRITS_PER_STATE]
+    # Every rerouting of every culprit, evaluated once for all states together.
+    options = {r: evaluator.reroutings(r) for r in sorted(set().union(*culprits.values()))}
+    flat = [(r, option) for r in options for option in options[r]]
+    used_deg, within = evaluator.figures([(r, option[1]) for r, option in flat])
+    row = {(r, id(option[1])): i for i, (r, option) in enumerate(flat)}
     out = {}
     for k, st in enumerate(result.states):
         if not st.used:
             out[st.state] = ()
             continue
         over = not st.within_budget
-        candidates = [c for c in st.runs if c.share_of_budget >= HINT_SHARE
-                      or (over and c.share_of_budget >= HINT_SHARE_OVER)][:CULPRITS_PER_STATE]
         found = []
-        for contribution in candidates:
-            r = by_name[contribution.name]
+        for r in culprits[st.state]:
             run = plan.runs[r]
-            for kind, rerouted, spacing, size, lay in _reroutings(run):
-                figures, _ = evaluator.with_run(r, rerouted)
+            for kind, rerouted, spacing, size, lay in options[r]:
+                i = row[r, id(rerouted)]
                 found.append(Remedy(sensor.name, st.state, kind, run.name, st.budget_used_deg,
-                                    float(figures.budget_used_deg[0, k]),
-                                    bool(figures.within_budget[0, k]), spacing_m=spacing,
-                                    size=size, lay_m=lay))
+                                    float(used_deg[i, k]), bool(within[i, k]),
+                                    spacing_m=spacing, size=size, lay_m=lay))
             if over:
                 solved = _solve_clearance(evaluator, r, run,
-                                          lambda f, k=k: float(f.budget_used_deg[0, k]),
+                                          lambda used, _, k=k: float(used[k]),
                                           sensor.budget_deg * CLEARANCE_MARGIN)
                 if solved is not None:
                     figure, nearest, _ = solved
@@ -392,20 +540,20 @@ def fix_set(analysis, result) -> FixSet:
     changed, steps, figure = {}, [], before
     target = sensor.budget_deg * CLEARANCE_MARGIN
 
-    def held_of(figures):
-        return evaluator.held(figures)[0]
+    def held_of(used_deg, within):
+        return evaluator.held(used_deg, within)[0]
 
     while True:
         options = []                       # (finishes, held, run index, changed run, step)
-        for r in runs:
-            if r in changed:
-                continue
-            run = plan.runs[r]
-            for kind, rerouted, spacing, size, lay in _reroutings(run):
-                figures, _ = evaluator.with_run(r, rerouted, changed)
-                held, within = evaluator.held(figures)
-                options.append((within, held, r, rerouted,
-                                FixStep(kind, run.name, held, within, spacing, size, lay)))
+        tried = [(r, option) for r in runs if r not in changed
+                 for option in evaluator.reroutings(r)]
+        if tried:
+            used_deg, within_all = evaluator.figures([(r, option[1]) for r, option in tried],
+                                                     changed)
+        for i, (r, (kind, rerouted, spacing, size, lay)) in enumerate(tried):
+            held, within = evaluator.held(used_deg[i], within_all[i])
+            options.append((within, held, r, rerouted,
+                            FixStep(kind, plan.runs[r].name, held, within, spacing, size, lay)))
         if not any(option[0] for option in options):
             # No pairing or twist finishes it: a clearance may, with the margin kept free.
             for r in [r for r in runs if r not in changed][:FIX_SET_CLEARANCE_RUNS]:
