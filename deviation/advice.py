@@ -14,11 +14,14 @@ import numpy as np
 from .budget import (
     MAX_EXACT_GENERATORS_ATTITUDE,
     MAX_EXACT_GENERATORS_LEVEL,
+    RunParts,
     _attitude_size,
     _worst,
     asin_deg,
+    circuit_currents,
     equipment_fields,
     parts_of_runs,
+    sensor_figures,
 )
 from .constants import ISO25862_BIPOLAR_RADIUS_M
 from .electronic import electronic_states, interference_grade
@@ -52,6 +55,9 @@ FIX_SET_SHARE = 0.01
 FIX_SET_RUNS = 12
 FIX_SET_CLEARANCE_RUNS = 4
 MAX_FIX_STEPS = 8
+#: A change must lower the held figure by more than this, in the budget's unit, to count: half
+#: the last digit printed (0.01 degrees, 0.01 nT), so an offered remedy always shows a gain.
+SMALLEST_GAIN = 0.005
 
 #: Kinds of remedy (the renderers' words for each live in render/words.py).
 REMEDY_KINDS = ("pair", "twist", "clearance", "no single fix", "move sensor")
@@ -62,16 +68,17 @@ class Remedy:
     """One computed remedy for a sensor in a state.
 
     ``kind`` is one of REMEDY_KINDS. The figures are the sensor's held figure before and after
-    the change, everything else unchanged; ``after_deg`` is None for the kinds that carry no
-    figure ("no single fix", "move sensor").
+    the change, everything else unchanged, in the unit of the sensor's budget (degrees, or nT
+    for a total-field magnetometer); ``after`` is None for the kinds that carry no figure ("no
+    single fix", "move sensor").
     """
 
     sensor: str
     state: str
     kind: str
     run: str | None
-    before_deg: float
-    after_deg: float | None = None
+    before: float
+    after: float | None = None
     within_after: bool | None = None
     spacing_m: float | None = None
     size: str | None = None           # the conductor size the spacing comes from; None: assumed
@@ -156,54 +163,53 @@ class _Evaluator:
     re-routed run and kept) and the sums that depend on it, updated by the difference; the
     worst switching and attitude, which are not linear, are searched again for every candidate
     in one vectorised call. The rules are those of :func:`deviation.budget.budget_figures` for
-    the figure held against the budget (the residual from the reference state, the spread
-    generators searched exactly and the rest counted apart, the equipment bounds);
-    tests/analysis/test_fix_set.py holds the two to each other on every candidate.
+    the figure held against a heading sensor's budget (the residual from the reference state,
+    the spread generators searched exactly and the rest counted apart, the equipment bounds);
+    tests/analysis/test_fix_set.py holds the two to each other on every candidate. A
+    total-field magnetometer's candidates go through :func:`deviation.budget.sensor_figures`
+    whole, one by one.
     """
 
     def __init__(self, analysis, result):
         plan, sensor = analysis.plan, result.sensor
-        self.plan, self.sensor = plan, sensor
+        self.plan, self.sensor, self.site = plan, sensor, analysis.site
         self.horizontal_t = analysis.site.horizontal_t
         self.used = np.array([sensor.used_in_state(s) for s in plan.state_names], dtype=bool)
+        self.result = result
+        self.currents = split = circuit_currents(plan)
+        self.items = items = equipment_fields(plan, sensor, sensor.position_m[None, :],
+                                              self.horizontal_t)
+        self._cache = {}
+        self._committed = None
+        self.incremental = sensor.budget.degrees
+        if not self.incremental:
+            return
         parts = result.parts                                                 # P = 1
         self.unit, self.bound = parts.unit_t[0], parts.bound_t[0]          # (R, 3), (R,)
-        items = equipment_fields(plan, sensor, sensor.position_m[None, :], self.horizontal_t)
-        matrix, currents = plan.circuit_matrix, plan.circuit_currents_a   # (R, C), (C, K)
-        independent = plan.independent
-        self.base_a = matrix @ (currents * ~independent[:, None])          # (R, K)
-        on_a = matrix[:, independent] @ np.abs(currents[independent])
-        self.to_circuit = matrix[:, independent]                            # (R, Ci)
-        self.circuit_a = currents[independent].T                            # (K, Ci)
-        self.reversing = np.array([c.reversing for c in plan.circuits if c.independent],
-                                  dtype=bool)
+        self.base_a = split.base_a                                          # (R, K)
+        self.to_circuit = split.incidence                                   # (R, Ci)
+        self.circuit_a = split.switched_a.T                                 # (K, Ci)
+        self.reversing = split.reversing
         # The sums as budget_figures makes them, for the plan as it is.
         self.base = (np.einsum("prj,rk->pkj", parts.unit_t, self.base_a) + items.oriented)[0]
         self.circuit_unit = np.einsum("prj,rc->pcj", parts.unit_t, self.to_circuit)[0]
         self.reference = (None if sensor.reference_state is None
                           else plan.state_index(sensor.reference_state))
-        if self.reference is None:
-            self.scale = np.abs(self.base_a) + on_a                         # (R, K)
-            self.scalar = (parts.bound_t @ self.scale + items.bound)[0]    # (K,)
-        else:
-            k = self.reference
-            self.scale = np.abs(self.base_a - self.base_a[:, k:k + 1]) + on_a
-            self.scalar = (parts.bound_t @ self.scale + items.changing)[0]
+        self.scale = split.scale_a(self.reference)                          # (R, K)
+        self.scalar = (parts.bound_t @ self.scale
+                       + (items.bound if self.reference is None else items.changing))[0]
         heel, pitch = sensor.max_heel_deg, sensor.max_pitch_deg
         self.heel, self.pitch = (heel, pitch) if heel or pitch else (0.0, 0.0)
         cap = MAX_EXACT_GENERATORS_ATTITUDE if heel or pitch else MAX_EXACT_GENERATORS_LEVEL
         self.room = max(0, cap - len(self.reversing))
-        # Spread generators: weight (which are searched exactly), and each one's share counted
-        # apart when it is not.
+        # Spread generators: their weights (which are searched exactly), and each one's share
+        # counted apart when it is not.
         self.scale_peak = np.abs(self.scale).max(axis=1)                    # (R,)
         self.n_generators = parts.spread_t.shape[2]
         self.spread = parts.spread_t[0]                                     # (R, G, 3)
         self.weight, self.term = self._generators(self.spread, np.arange(len(self.unit)))
-        flat_weight = self.weight.reshape(-1)
-        self.order = np.argsort(-flat_weight, kind="stable")
+        self.order = np.argsort(-self.weight.reshape(-1), kind="stable")
         self.term_total = self.term.reshape(-1, self.term.shape[-1]).sum(axis=0)   # (K,)
-        self._cache = {}
-        self._committed = None
 
     def _generators(self, spread, runs):
         """Weights (n, G) and apart terms (n, G, K) of the spread generators of some runs."""
@@ -219,6 +225,13 @@ class _Evaluator:
             cached = (run, parts_of_runs([run], self.sensor.position_m[None, :]))
             self._cache[key] = cached
         return cached[1]
+
+    def reroutings(self, r):
+        """:func:`_reroutings` of run ``r``, made once (so each re-routed run's field is too)."""
+        key = ("reroutings", r)
+        if key not in self._cache:
+            self._cache[key] = _reroutings(self.plan.runs[r])
+        return self._cache[key]
 
     def _apply(self, changes, start=None):
         """The sums with the runs in ``changes`` ({index: Run}) re-routed, on top of ``start``
@@ -246,8 +259,7 @@ class _Evaluator:
         g = self.n_generators
         prefix = self.order[:self.room + g * len(new)]
         prefix = prefix[~np.isin(prefix // g, list(new))]
-        flat = [prefix] + [r * g + np.arange(g) for r in new]
-        flat = np.concatenate(flat) if new else prefix
+        flat = np.concatenate([prefix] + [r * g + np.arange(g) for r in new])
         weight = np.concatenate([self.weight.reshape(-1)[prefix]]
                                 + [item[1] for item in new.values()])
         order = np.lexsort((flat, -weight))[:self.room]
@@ -273,29 +285,30 @@ class _Evaluator:
 
         Returns
         -------
-        used_deg : (B, K) array [deg]
-            ``budget_used_deg`` of :func:`deviation.budget.budget_figures`.
+        held : (B, K) array
+            The held figure of :func:`deviation.budget.sensor_figures`, in the budget's unit.
         within : (B, K) bool array
         """
+        n_k = len(self.plan.state_names)
         if not candidates:
-            return np.zeros((0, len(self.base))), np.zeros((0, len(self.base)), dtype=bool)
+            return np.zeros((0, n_k)), np.zeros((0, n_k), dtype=bool)
         others = dict(others or {})
+        if not self.incremental:
+            rows = [self._whole({**others, r: run}) for r, run in candidates]
+            return np.stack([row[0] for row in rows]), np.stack([row[1] for row in rows])
         key = tuple(sorted((r, id(run)) for r, run in others.items()))
         if self._committed is None or self._committed[0] != key:
             self._committed = (key, self._apply(others))
         rows = []
         for r, run in candidates:
             if r in others:                     # a committed change replaced: start afresh
-                changes = dict(others)
-                changes[r] = run
-                sums = self._apply(changes)
+                sums = self._apply({**others, r: run})
             else:                               # one more change on top of the committed ones
                 sums = self._apply({r: run}, self._committed[1])
             base, circuit_unit, scalar, rest, new = sums
             vectors, runs, terms = self._kept(new)
             rows.append((base, circuit_unit, scalar + (rest - terms.sum(axis=0)), vectors, runs))
-        n_kept = max((len(row[3]) for row in rows), default=0)
-        n_k = len(self.base)
+        n_kept = max(len(row[4]) for row in rows)
         fields = np.stack([row[0] for row in rows])                          # (B, K, 3)
         switched = (np.stack([row[1] for row in rows])[:, None, :, :]
                     * self.circuit_a[None, :, :, None])                       # (B, K, Ci, 3)
@@ -309,21 +322,29 @@ class _Evaluator:
         reversing = np.concatenate([self.reversing, np.ones(n_kept, dtype=bool)])
         size, _ = _worst(fields, generators, reversing, self.heel, self.pitch)
         held = size + apart
-        used_deg = asin_deg(held / self.horizontal_t)
-        within = (used_deg <= self.sensor.budget_deg) & ~(held >= self.horizontal_t)
-        return used_deg, within
+        held_deg = asin_deg(held / self.horizontal_t)
+        within = (held_deg <= self.sensor.budget.value) & ~(held >= self.horizontal_t)
+        return held_deg, within
 
-    def reroutings(self, r):
-        """:func:`_reroutings` of run ``r``, made once (so each re-routed run's field is too)."""
-        key = ("reroutings", r)
-        if key not in self._cache:
-            self._cache[key] = _reroutings(self.plan.runs[r])
-        return self._cache[key]
+    def _whole(self, changes):
+        """(held (K,), within (K,)) by the budget's one entry, every run summed afresh."""
+        parts = self.result.parts
+        unit, spread = parts.unit_t.copy(), parts.spread_t.copy()
+        bound = parts.bound_t.copy()
+        for index, changed in changes.items():
+            new = self.parts(changed)
+            unit[:, index], spread[:, index], bound[:, index] = (new.unit_t[:, 0],
+                                                                 new.spread_t[:, 0],
+                                                                 new.bound_t[:, 0])
+        figures = sensor_figures(self.plan, self.sensor, self.site,
+                                 RunParts(unit, spread, bound, parts.nearest_m, parts.inside),
+                                 items=self.items, currents=self.currents)
+        return figures.held[0], figures.within[0]
 
-    def held(self, used_deg, within):
+    def held(self, held, within):
         """The held figure over the states the sensor is used in (one candidate's (K,) rows),
         and whether all are within."""
-        return float(used_deg[self.used].max()), bool(within[self.used].all())
+        return float(held[self.used].max()), bool(within[self.used].all())
 
 
 def _pair_spacing(run):
@@ -366,7 +387,7 @@ def detour(route, sensor, offset_m):
 
 
 def _solve_clearance(evaluator, r, run, figure_of, target, others=None):
-    """Smallest detour (bisection, to 1 mm) of run ``r`` that brings ``figure_of(used_deg,
+    """Smallest detour (bisection, to 1 mm) of run ``r`` that brings ``figure_of(held,
     within)`` (a candidate's (K,) rows, see :meth:`_Evaluator.figures`) to at most ``target``,
     with the runs in ``others`` already changed; None if none does.
 
@@ -384,9 +405,9 @@ def _solve_clearance(evaluator, r, run, figure_of, target, others=None):
             back = shifted if shifted is not None else back
         moved = replace(run, geometry=replace(run.geometry, route_m=new_route,
                                               return_route_m=back))
-        used_deg, within = evaluator.figures([(r, moved)], others)
+        held, within = evaluator.figures([(r, moved)], others)
         nearest = float(evaluator.parts(moved).nearest_m[0, 0])
-        return figure_of(used_deg[0], within[0]), nearest, moved
+        return figure_of(held[0], within[0]), nearest, moved
 
     far = attempt(MAX_DETOUR_M)
     if far is None or far[0] > target:
@@ -442,7 +463,7 @@ def remedies_for(analysis, result) -> dict[str, tuple[Remedy, ...]]:
     # Every rerouting of every culprit, evaluated once for all states together.
     options = {r: evaluator.reroutings(r) for r in sorted(set().union(*culprits.values()))}
     flat = [(r, option) for r in options for option in options[r]]
-    used_deg, within = evaluator.figures([(r, option[1]) for r, option in flat])
+    held, within = evaluator.figures([(r, option[1]) for r, option in flat])
     row = {(r, id(option[1])): i for i, (r, option) in enumerate(flat)}
     out = {}
     for k, st in enumerate(result.states):
@@ -455,32 +476,31 @@ def remedies_for(analysis, result) -> dict[str, tuple[Remedy, ...]]:
             run = plan.runs[r]
             for kind, rerouted, spacing, size, lay in options[r]:
                 i = row[r, id(rerouted)]
-                found.append(Remedy(sensor.name, st.state, kind, run.name, st.budget_used_deg,
-                                    float(used_deg[i, k]), bool(within[i, k]),
+                found.append(Remedy(sensor.name, st.state, kind, run.name, st.held,
+                                    float(held[i, k]), bool(within[i, k]),
                                     spacing_m=spacing, size=size, lay_m=lay))
             if over:
                 solved = _solve_clearance(evaluator, r, run,
-                                          lambda used, _, k=k: float(used[k]),
-                                          sensor.budget_deg * CLEARANCE_MARGIN)
+                                          lambda figure, _, k=k: float(figure[k]),
+                                          sensor.budget.value * CLEARANCE_MARGIN)
                 if solved is not None:
                     figure, nearest, _ = solved
                     found.append(Remedy(sensor.name, st.state, "clearance", run.name,
-                                        st.budget_used_deg, figure, figure <= sensor.budget_deg,
+                                        st.held, figure, figure <= sensor.budget.value,
                                         clearance_m=nearest))
         # A remedy is only offered where it helps (fields of runs can cancel, so one that helps
         # a run's own figure may still raise the sensor's).
-        found = [m for m in found if m.after_deg < m.before_deg - 0.005]
-        found.sort(key=lambda m: (m.after_deg, m.run or ""))
+        found = [m for m in found if m.after < m.before - SMALLEST_GAIN]
+        found.sort(key=lambda m: (m.after, m.run or ""))
         chosen = found[:REMEDIES_PER_STATE]
         if over:
             if not any(m.within_after for m in found):
-                chosen.append(Remedy(sensor.name, st.state, "no single fix", None,
-                                     st.budget_used_deg))
+                chosen.append(Remedy(sensor.name, st.state, "no single fix", None, st.held))
             # A box around the sensor, cut to the plan's extent and its mount-in volumes.
             box_low, box_high = search_box_around(plan, sensor, SPOT_BOX_HALF_M)
             low = tuple(float(v) for v in box_low)
             high = tuple(float(v) for v in box_high)
-            chosen.append(Remedy(sensor.name, st.state, "move sensor", None, st.budget_used_deg,
+            chosen.append(Remedy(sensor.name, st.state, "move sensor", None, st.held,
                                  box_low_m=low, box_high_m=high))
         out[st.state] = tuple(chosen)
     return out
@@ -493,7 +513,7 @@ class FixStep:
 
     kind: str                         # "pair", "twist" or "clearance"
     run: str
-    after_deg: float
+    after: float                      # in the unit of the sensor's budget
     within_after: bool
     spacing_m: float | None = None
     size: str | None = None
@@ -506,7 +526,7 @@ class FixSet:
     """The ordered changes that bring a sensor within budget in every state it is used in, or
     ``reaches_budget`` False when no combination of rerouting does (move the sensor)."""
 
-    before_deg: float
+    before: float                     # in the unit of the sensor's budget
     steps: tuple[FixStep, ...]
     reaches_budget: bool
 
@@ -525,7 +545,7 @@ def fix_set(analysis, result) -> FixSet:
     plan = analysis.plan
     evaluator = _Evaluator(analysis, result)
     worst = result.worst
-    before = worst.budget_used_deg
+    before = worst.held
     if result.within_budget:
         return FixSet(before, (), True)
     used = [st for st in result.states if st.used]
@@ -538,20 +558,18 @@ def fix_set(analysis, result) -> FixSet:
                     key=lambda name: (-largest[name], name))[:FIX_SET_RUNS]
     runs = [by_name[name] for name in ranked]
     changed, steps, figure = {}, [], before
-    target = sensor.budget_deg * CLEARANCE_MARGIN
+    target = sensor.budget.value * CLEARANCE_MARGIN
 
-    def held_of(used_deg, within):
-        return evaluator.held(used_deg, within)[0]
+    def held_of(figure, within):
+        return evaluator.held(figure, within)[0]
 
     while True:
         options = []                       # (finishes, held, run index, changed run, step)
         tried = [(r, option) for r in runs if r not in changed
                  for option in evaluator.reroutings(r)]
-        if tried:
-            used_deg, within_all = evaluator.figures([(r, option[1]) for r, option in tried],
-                                                     changed)
+        figures, verdicts = evaluator.figures([(r, option[1]) for r, option in tried], changed)
         for i, (r, (kind, rerouted, spacing, size, lay)) in enumerate(tried):
-            held, within = evaluator.held(used_deg[i], within_all[i])
+            held, within = evaluator.held(figures[i], verdicts[i])
             options.append((within, held, r, rerouted,
                             FixStep(kind, plan.runs[r].name, held, within, spacing, size, lay)))
         if not any(option[0] for option in options):
@@ -560,7 +578,7 @@ def fix_set(analysis, result) -> FixSet:
                 solved = _solve_clearance(evaluator, r, plan.runs[r], held_of, target, changed)
                 if solved is not None:
                     held, nearest, moved = solved
-                    within = held <= sensor.budget_deg
+                    within = held <= sensor.budget.value
                     options.append((within, held, r, moved, FixStep(
                         "clearance", plan.runs[r].name, held, within, clearance_m=nearest)))
         finishing = [o for o in options if o[0]]
@@ -568,7 +586,7 @@ def fix_set(analysis, result) -> FixSet:
         if not pool:
             return FixSet(before, tuple(steps), False)
         within, held, r, rerouted, step = min(pool, key=lambda o: (o[1], o[4].run, o[4].kind))
-        if not within and held >= figure - 0.005:
+        if not within and held >= figure - SMALLEST_GAIN:
             return FixSet(before, tuple(steps), False)
         changed[r] = rerouted
         steps.append(step)
