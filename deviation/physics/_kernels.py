@@ -26,8 +26,8 @@ from numba import njit, prange
 _TILE = 256
 
 #: Said once on a terminal before the kernels are compiled.
-COMPILING_MESSAGE = ("deviation: compiling the field kernels for this machine (once, some "
-                     "seconds; later runs load them)...")
+COMPILING_MESSAGE = ("deviation: compiling the field and search kernels for this machine "
+                     "(once, some seconds; later runs load them)...")
 
 _announced = False
 
@@ -223,6 +223,156 @@ def segment_field_by_group(start, end, weight, group, radius2, length2, points, 
     _group_kernel(start, end, weight, group, radius2, length2, points, field, inside)
 
 
+# --- the worst switching with heel and pitch: the circle walk of worst_case, compiled -----------
+
+@njit(inline="always", fastmath=False)
+def _attitude_size(bx, by, bz, heel, sin_heel, cos_heel, tan_pitch, sin_pitch, cos_pitch,
+                   full_pitch):  # pragma: no cover
+    """worst_case.horizontal_over_attitude of one vector (limits in radians), the same steps."""
+    forward = bx
+    starboard = -by
+    down = -bz
+    sign = -1.0 if starboard < 0.0 else 1.0
+    phi0 = np.arctan2(-down * sign, abs(starboard))
+    if abs(phi0) <= heel:
+        p = np.cos(phi0) * starboard - np.sin(phi0) * down
+        q = 0.0
+    else:
+        q_plus = sin_heel * starboard + cos_heel * down
+        q_minus = -sin_heel * starboard + cos_heel * down
+        end = heel if abs(q_plus) <= abs(q_minus) else -heel
+        p = np.cos(end) * starboard - np.sin(end) * down
+        q = np.sin(end) * starboard + np.cos(end) * down
+    if full_pitch or abs(q) <= abs(forward) * tan_pitch:
+        return np.sqrt(bx * bx + by * by + bz * bz)
+    return np.hypot(p, cos_pitch * abs(forward) + sin_pitch * abs(q))
+
+
+@njit(parallel=True, cache=True, fastmath=False, boundscheck=False)
+def _walk_kernel(base, generators, heel, pitch, tolerance, margin, picked):  # pragma: no cover
+    # For each row: every great circle v_i^perp walked with the 2-D sweep of worst_case._sweep,
+    # both sides of it, each vertex met scored unless it is shorter than the best so far; then
+    # the best vertex's switching rebuilt by walking its circle again up to its event.
+    rows, n = generators.shape[0], generators.shape[1]
+    sin_heel, cos_heel = np.sin(heel), np.cos(heel)
+    sin_pitch, cos_pitch, tan_pitch = np.sin(pitch), np.cos(pitch), np.tan(pitch)
+    full_pitch = pitch >= np.pi / 2
+    for b in prange(rows):
+        g = generators[b]
+        norms = np.empty(n)
+        for j in range(n):
+            norms[j] = np.sqrt(g[j, 0] ** 2 + g[j, 1] ** 2 + g[j, 2] ** 2)
+        best = _attitude_size(base[b, 0], base[b, 1], base[b, 2], heel, sin_heel, cos_heel,
+                              tan_pitch, sin_pitch, cos_pitch, full_pitch)
+        best_circle, best_event, best_side = -1, 0, 0
+        angles = np.empty(2 * n)
+        steps = np.empty(2 * n, dtype=np.int64)
+        sides = np.zeros((2, 3))
+        side_of = np.zeros(n, dtype=np.int64)       # +1, -1: goes with a side; 0: swept
+        member = np.zeros(n, dtype=np.bool_)
+        for rebuild in range(2):
+            for i in range(n):
+                if norms[i] == 0.0:
+                    continue
+                if rebuild and i != best_circle:
+                    continue
+                ux, uy, uz = g[i, 0] / norms[i], g[i, 1] / norms[i], g[i, 2] / norms[i]
+                # The plane's basis: the normal crossed with its least-aligned axis.
+                ax, ay, az = abs(ux), abs(uy), abs(uz)
+                if ax <= ay and ax <= az:
+                    e1x, e1y, e1z = 0.0, uz, -uy
+                elif ay <= az:
+                    e1x, e1y, e1z = -uz, 0.0, ux
+                else:
+                    e1x, e1y, e1z = uy, -ux, 0.0
+                size = np.sqrt(e1x * e1x + e1y * e1y + e1z * e1z)
+                e1x, e1y, e1z = e1x / size, e1y / size, e1z / size
+                e2x, e2y, e2z = uy * e1z - uz * e1y, uz * e1x - ux * e1z, ux * e1y - uy * e1x
+                sx, sy, sz = base[b, 0], base[b, 1], base[b, 2]
+                sides[:, :] = 0.0
+                m = 0
+                for j in range(n):
+                    side_of[j] = 0
+                    member[j] = False
+                    if norms[j] == 0.0:
+                        continue
+                    px = g[j, 0] * e1x + g[j, 1] * e1y + g[j, 2] * e1z
+                    py = g[j, 0] * e2x + g[j, 1] * e2y + g[j, 2] * e2z
+                    if np.hypot(px, py) <= tolerance * norms[j]:
+                        along = g[j, 0] * ux + g[j, 1] * uy + g[j, 2] * uz
+                        if along > 0.0:
+                            side_of[j] = 1
+                            sides[0, 0] += g[j, 0]
+                            sides[0, 1] += g[j, 1]
+                            sides[0, 2] += g[j, 2]
+                        elif along < 0.0:
+                            side_of[j] = -1
+                            sides[1, 0] += g[j, 0]
+                            sides[1, 1] += g[j, 1]
+                            sides[1, 2] += g[j, 2]
+                        continue
+                    start = np.mod(np.arctan2(py, px) - np.pi / 2, 2 * np.pi)
+                    if start >= np.pi:                 # picked from the start of the walk
+                        member[j] = True
+                        sx += g[j, 0]
+                        sy += g[j, 1]
+                        sz += g[j, 2]
+                        angles[m] = start
+                        angles[m + n] = start - np.pi
+                    else:
+                        angles[m] = start
+                        angles[m + n] = start + np.pi
+                    steps[m] = j
+                    steps[m + n] = -j - 1
+                    m += 1
+                # Events: the m starts then the m leaves, sorted stably (as worst_case._sweep).
+                keys = np.empty(2 * m)
+                kinds = np.empty(2 * m, dtype=np.int64)
+                keys[:m] = angles[:m]
+                keys[m:] = angles[n:n + m]
+                kinds[:m] = steps[:m]
+                kinds[m:] = steps[n:n + m]
+                order = np.argsort(keys, kind="mergesort")
+                for k in range(2 * m + 1):
+                    if k > 0:
+                        event = kinds[order[k - 1]]
+                        j = event if event >= 0 else -event - 1
+                        sign = 1.0 if event >= 0 else -1.0
+                        sx += sign * g[j, 0]
+                        sy += sign * g[j, 1]
+                        sz += sign * g[j, 2]
+                        member[j] = event >= 0
+                    if rebuild:
+                        if k == best_event:
+                            for j in range(n):
+                                picked[b, j] = member[j] or side_of[j] == (1 if best_side == 0
+                                                                          else -1)
+                            break
+                        continue
+                    for side in range(2):
+                        cx = sx + sides[side, 0]
+                        cy = sy + sides[side, 1]
+                        cz = sz + sides[side, 2]
+                        if np.sqrt(cx * cx + cy * cy + cz * cz) < best * (1.0 - margin):
+                            continue
+                        value = _attitude_size(cx, cy, cz, heel, sin_heel, cos_heel, tan_pitch,
+                                               sin_pitch, cos_pitch, full_pitch)
+                        if value > best:
+                            best, best_circle, best_event, best_side = value, i, k, side
+            if best_circle < 0:
+                break
+
+
+def best_attitude(base, generators, heel_rad, pitch_rad, tolerance, margin):
+    """(B, n) bool: the switching of worst_case._best_attitude, found by the compiled walk."""
+    announce_compiling()
+    picked = np.zeros(generators.shape[:2], dtype=np.bool_)
+    _walk_kernel(np.ascontiguousarray(base, dtype=np.float64),
+                 np.ascontiguousarray(generators, dtype=np.float64), float(heel_rad),
+                 float(pitch_rad), float(tolerance), float(margin), picked)
+    return picked
+
+
 def _needs_compiling(dispatcher) -> bool:
     """Whether calling a cached numba function will compile it: no entry for this machine in
     its on-disk cache index (numba's own cache files; False when that cannot be told)."""
@@ -245,7 +395,8 @@ def announce_compiling(stream=None) -> bool:
     _announced = True
     if not (getattr(stream, "isatty", None) and stream.isatty()):
         return False
-    if not any(_needs_compiling(kernel) for kernel in (_kernel, _group_kernel)):
+    if not any(_needs_compiling(kernel) for kernel in (_kernel, _group_kernel,
+                                                        _walk_kernel)):
         return False
     stream.write(COMPILING_MESSAGE + "\n")
     stream.flush()

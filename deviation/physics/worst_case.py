@@ -307,7 +307,29 @@ def _best_attitude(base, generators, max_heel_deg, max_pitch_deg):
     return best_mask
 
 
-def worst_combination(base, vectors, reversing=None, max_heel_deg=0.0, max_pitch_deg=0.0):
+#: Work (rows x circuits^2) from which the search with heel or pitch runs compiled when the
+#: compiled kernels are not loaded yet (loading them costs about half a second; a check of a
+#: normal plan never does), and from which it runs compiled once they are.
+COMPILED_MIN_WALK = 1_000_000
+COMPILED_MIN_WALK_LOADED = 20_000
+
+
+def _walk_compiled(rows, n, backend):
+    if backend not in ("auto", "numpy", "compiled"):
+        raise ValueError(f"backend must be auto, numpy or compiled, not {backend!r}")
+    if backend != "auto":
+        return backend == "compiled"
+    import sys
+
+    from .field import _compiled_available
+
+    loaded = "deviation.physics._kernels" in sys.modules
+    return rows * n * n >= (COMPILED_MIN_WALK_LOADED if loaded else COMPILED_MIN_WALK) \
+        and _compiled_available()
+
+
+def worst_combination(base, vectors, reversing=None, max_heel_deg=0.0, max_pitch_deg=0.0, *,
+                      backend="auto"):
     """The switching of independent circuits that makes the level horizontal disturbance largest.
 
     Parameters
@@ -322,6 +344,10 @@ def worst_combination(base, vectors, reversing=None, max_heel_deg=0.0, max_pitch
         vector); None means none reverses.
     max_heel_deg, max_pitch_deg : float [deg]
         Attitude limits as in :func:`horizontal_over_attitude`.
+    backend : {"auto", "numpy", "compiled"}
+        The search with heel or pitch in NumPy, or compiled (numba, on every core, the same
+        walk and scores); "auto" compiles from :data:`COMPILED_MIN_WALK` rows x circuits^2 up
+        (:data:`COMPILED_MIN_WALK_LOADED` once the compiled kernels are loaded).
 
     Returns
     -------
@@ -360,7 +386,8 @@ def worst_combination(base, vectors, reversing=None, max_heel_deg=0.0, max_pitch
     Cost: level, :math:`O(B\\,n \\log n)` time and :math:`O(B\\,n)` memory for B rows of n circuits;
     with heel or pitch, :math:`O(B\\,n^2 \\log n)` time (n walks of 2n sorted events per row) and
     memory bounded by :data:`_CHUNK_ELEMENTS` doubles (rows and walks are processed in chunks,
-    vectorised, never one at a time).
+    vectorised, never one at a time); compiled, the same time spread over the cores and
+    :math:`O(n)` memory per row.
 
     References
     ----------
@@ -396,6 +423,11 @@ def worst_combination(base, vectors, reversing=None, max_heel_deg=0.0, max_pitch
         for lo in range(0, rows, chunk):
             part = slice(lo, lo + chunk)
             picked[part] = _best_level(shifted[part], generators[part])
+    elif n and _walk_compiled(rows, n, backend):
+        from . import _kernels
+
+        picked = _kernels.best_attitude(shifted, generators, heel_limit, pitch_limit,
+                                        IN_PLANE_TOLERANCE, _PRUNE_MARGIN)
     elif n:
         picked = _best_attitude(shifted, generators, max_heel_deg, max_pitch_deg)
     choice = np.where(flat_rev, 2 * picked.astype(int) - 1, picked.astype(int))

@@ -433,6 +433,48 @@ def test_many_circuits_match_the_previous_vertex_enumeration(kind, heel, pitch):
         np.testing.assert_array_equal(wc.horizontal_over_attitude(attained, heel, pitch), size)
 
 
+@pytest.mark.compiled
+@pytest.mark.parametrize("kind", KINDS)
+def test_compiled_walk_matches_brute_force_and_the_numpy_walk(kind):
+    # Oracles: brute force over every switching (n up to 9), and the NumPy walk (n up to 40):
+    # the compiled walk meets the same vertices and scores them the same way.
+    rng = np.random.default_rng(zlib.crc32(repr((kind, "compiled")).encode()))
+    for heel, pitch in LIMITS[1:]:
+        for n in (1, 2, 3, 6, 9, 20, 40):
+            vectors = _random_sets(rng, kind, 8, n)
+            base = rng.normal(size=(8, 3)) * rng.choice([0.0, 0.5, 3.0], size=(8, 1))
+            reversing = rng.random(n) < 0.3
+            size, choice = wc.worst_combination(base, vectors, reversing, heel, pitch,
+                                                backend="compiled")
+            numpy_size, _ = wc.worst_combination(base, vectors, reversing, heel, pitch,
+                                                 backend="numpy")
+            np.testing.assert_allclose(size, numpy_size, rtol=4e-16, atol=0.0)
+            if n <= 9:
+                expected = _brute_force(base, vectors, reversing, heel, pitch)
+                np.testing.assert_allclose(size, expected, rtol=1e-12, atol=1e-14)
+            attained = base + np.einsum("bn,bnk->bk", choice, vectors)
+            np.testing.assert_array_equal(wc.horizontal_over_attitude(attained, heel, pitch),
+                                          size)
+
+
+def test_a_big_search_goes_compiled_and_a_small_one_stays_in_numpy(monkeypatch):
+    # The path follows the work, rows x circuits^2, with a lower bar once the compiled kernels
+    # are loaded (the package against its own rule; numba need not be imported for it).
+    import sys
+
+    from deviation.physics import field
+
+    monkeypatch.setattr(field, "_compiled_available", lambda: True)
+    monkeypatch.delitem(sys.modules, "deviation.physics._kernels", raising=False)
+    assert not wc._walk_compiled(24, 24, "auto")           # a normal plan: 24 states, 24
+    assert wc._walk_compiled(30, 200, "auto")               # 200 independent circuits
+    monkeypatch.setitem(sys.modules, "deviation.physics._kernels", object())
+    assert wc._walk_compiled(24, 30, "auto") and not wc._walk_compiled(2, 24, "auto")
+    assert wc._walk_compiled(1, 2, "compiled") and not wc._walk_compiled(10**6, 200, "numpy")
+    with pytest.raises(ValueError):
+        wc._walk_compiled(1, 1, "fast")
+
+
 def test_the_circle_walk_in_small_chunks_gives_the_same_choice(monkeypatch):
     # Rows split across chunks of walks must merge to the same answer as one chunk (the package
     # against itself, with chunks of 7 walks: rows of 20 circuits fall across chunk ends).
