@@ -53,35 +53,57 @@ def _pair(ax, ay, az, a2, na, bx, by, bz, b2, nb, r2, r2l2):  # pragma: no cover
 
 
 @njit(inline="always", fastmath=False)
+def _end_pair(ax, ay, az, a2, na, ex, ey, ez, px, py, pz, r2, r2l2):  # pragma: no cover
+    """:func:`_pair` from the start vertex a (vector, square, length) and the end point e at
+    the observer p; also returns the vector, square and length to e, kept for the next
+    segment."""
+    bx = ex - px
+    by = ey - py
+    bz = ez - pz
+    b2 = bx * bx + by * by + bz * bz
+    nb = np.sqrt(b2)
+    x, y, z, bad = _pair(ax, ay, az, a2, na, bx, by, bz, b2, nb, r2, r2l2)
+    return x, y, z, bad, bx, by, bz, b2, nb
+
+
+@njit(inline="always", fastmath=False)
 def _tile_pairs(start, end, s, shared, r2, r2l2, n, px, py, pz, qx, qy, qz, q2, nq,
-                gx, gy, gz, hit):  # pragma: no cover
-    """Segment ``s`` at the n observers of a tile into gx, gy, gz (and ``hit``); the vertex
-    kept in q (vector, square, length per observer) moves on to the segment's end. ``shared``:
-    the segment starts at the vertex kept."""
+                gx, gy, gz, hit, weight, accumulate):  # pragma: no cover
+    """Segment ``s`` at the n observers of a tile: its field times ``weight`` added into gx,
+    gy, gz (``accumulate``), or its field stored there; ``hit`` marks observers inside it. The
+    vertex kept in q (vector, square, length per observer) moves on to the segment's end;
+    ``shared``: the segment starts at the vertex kept. (Four loops, not one with the branches
+    inside, so that each vectorises.)"""
     sx = start[s, 0]
     sy = start[s, 1]
     sz = start[s, 2]
     ex = end[s, 0]
     ey = end[s, 1]
     ez = end[s, 2]
-    if shared:
+    if shared and accumulate:
         for j in range(n):
-            ax = qx[j]
-            ay = qy[j]
-            az = qz[j]
-            a2 = q2[j]
-            na = nq[j]
-            bx = ex - px[j]
-            by = ey - py[j]
-            bz = ez - pz[j]
-            b2 = bx * bx + by * by + bz * bz
-            nb = np.sqrt(b2)
-            qx[j] = bx
-            qy[j] = by
-            qz[j] = bz
-            q2[j] = b2
-            nq[j] = nb
-            gx[j], gy[j], gz[j], bad = _pair(ax, ay, az, a2, na, bx, by, bz, b2, nb, r2, r2l2)
+            x, y, z, bad, qx[j], qy[j], qz[j], q2[j], nq[j] = _end_pair(
+                qx[j], qy[j], qz[j], q2[j], nq[j], ex, ey, ez, px[j], py[j], pz[j], r2, r2l2)
+            gx[j] += x * weight
+            gy[j] += y * weight
+            gz[j] += z * weight
+            hit[j] = max(hit[j], 1.0 if bad else 0.0)
+    elif shared:
+        for j in range(n):
+            gx[j], gy[j], gz[j], bad, qx[j], qy[j], qz[j], q2[j], nq[j] = _end_pair(
+                qx[j], qy[j], qz[j], q2[j], nq[j], ex, ey, ez, px[j], py[j], pz[j], r2, r2l2)
+            hit[j] = max(hit[j], 1.0 if bad else 0.0)
+    elif accumulate:
+        for j in range(n):
+            ax = sx - px[j]
+            ay = sy - py[j]
+            az = sz - pz[j]
+            a2 = ax * ax + ay * ay + az * az
+            x, y, z, bad, qx[j], qy[j], qz[j], q2[j], nq[j] = _end_pair(
+                ax, ay, az, a2, np.sqrt(a2), ex, ey, ez, px[j], py[j], pz[j], r2, r2l2)
+            gx[j] += x * weight
+            gy[j] += y * weight
+            gz[j] += z * weight
             hit[j] = max(hit[j], 1.0 if bad else 0.0)
     else:
         for j in range(n):
@@ -89,18 +111,8 @@ def _tile_pairs(start, end, s, shared, r2, r2l2, n, px, py, pz, qx, qy, qz, q2, 
             ay = sy - py[j]
             az = sz - pz[j]
             a2 = ax * ax + ay * ay + az * az
-            na = np.sqrt(a2)
-            bx = ex - px[j]
-            by = ey - py[j]
-            bz = ez - pz[j]
-            b2 = bx * bx + by * by + bz * bz
-            nb = np.sqrt(b2)
-            qx[j] = bx
-            qy[j] = by
-            qz[j] = bz
-            q2[j] = b2
-            nq[j] = nb
-            gx[j], gy[j], gz[j], bad = _pair(ax, ay, az, a2, na, bx, by, bz, b2, nb, r2, r2l2)
+            gx[j], gy[j], gz[j], bad, qx[j], qy[j], qz[j], q2[j], nq[j] = _end_pair(
+                ax, ay, az, a2, np.sqrt(a2), ex, ey, ez, px[j], py[j], pz[j], r2, r2l2)
             hit[j] = max(hit[j], 1.0 if bad else 0.0)
 
 
@@ -137,10 +149,16 @@ def _kernel(start, end, current, radius2, length2, points, field, inside):  # pr
         gz = np.empty(_TILE)
         hit = np.zeros(_TILE)
         acc = np.zeros((n_states, 3, _TILE))
+        single = n_states == 1              # one state: added straight into the accumulator
         for s in range(n_seg):
             r2 = radius2[s]
+            if single:
+                _tile_pairs(start, end, s, _follows(start, end, s), r2, r2 * length2[s], n,
+                            px, py, pz, qx, qy, qz, q2, nq, acc[0, 0], acc[0, 1], acc[0, 2], hit,
+                            current[s, 0], True)
+                continue
             _tile_pairs(start, end, s, _follows(start, end, s), r2, r2 * length2[s], n,
-                        px, py, pz, qx, qy, qz, q2, nq, gx, gy, gz, hit)
+                        px, py, pz, qx, qy, qz, q2, nq, gx, gy, gz, hit, 1.0, False)
             for k in range(n_states):
                 ik = current[s, k]
                 for j in range(n):
@@ -187,9 +205,6 @@ def _group_kernel(start, end, weight, group, radius2, length2, points, field,
         qz = np.empty(_TILE)
         q2 = np.empty(_TILE)
         nq = np.empty(_TILE)
-        gx = np.empty(_TILE)
-        gy = np.empty(_TILE)
-        gz = np.empty(_TILE)
         acc = np.zeros((3, _TILE))
         hit = np.zeros(_TILE)
         current_group = group[0] if n_seg else 0
@@ -209,12 +224,8 @@ def _group_kernel(start, end, weight, group, radius2, length2, points, field,
                 current_group = group[s]
             r2 = radius2[s]
             _tile_pairs(start, end, s, _follows(start, end, s), r2, r2 * length2[s], n,
-                        px, py, pz, qx, qy, qz, q2, nq, gx, gy, gz, hit)
-            w = weight[s]
-            for j in range(n):
-                acc[0, j] += gx[j] * w
-                acc[1, j] += gy[j] * w
-                acc[2, j] += gz[j] * w
+                        px, py, pz, qx, qy, qz, q2, nq, acc[0], acc[1], acc[2], hit, weight[s],
+                        True)
 
 
 def segment_field_by_group(start, end, weight, group, radius2, length2, points, field, inside):
