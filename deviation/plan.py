@@ -13,7 +13,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from .errors import DeviationError, UnknownSensorError
+from .errors import DeviationError, Problem, UnknownSensorError
 from .physics.routing import RunGeometry
 from .schema import SAFE_DISTANCE_FOR, SENSOR_KINDS  # noqa: F401  (re-exported)
 
@@ -44,13 +44,18 @@ def name_key(name) -> str:
 
 @dataclass(frozen=True)
 class Finding:
-    """One problem in a plan, located by file, sheet, row and column."""
+    """One problem in a plan or a readings sheet, located by file, sheet, row and column.
+
+    ``kind`` says what is wrong (:class:`~deviation.errors.Problem`; None where no kind is
+    given), so code can act on a finding without reading its message.
+    """
 
     file: str
     sheet: str | None
     row: int | None
     column: str | None
     message: str
+    kind: Problem | None = None
 
     def __str__(self):
         where = [self.sheet] if self.sheet else []
