@@ -13,6 +13,26 @@ def _pandas():
     return pandas
 
 
+def _frame(rows, columns=None):
+    """A DataFrame of ``rows`` (dicts) in which a figure that does not apply (None) is pandas'
+    missing value ``<NA>`` in a nullable float column, never NaN: a NaN in a frame would be a
+    figure that broke, and tests look for it (docs/robustness.md)."""
+    import numpy as np
+
+    pandas = _pandas()
+    frame = pandas.DataFrame(rows, columns=columns)
+    for column in frame.columns:
+        values = [row.get(column) for row in rows]
+        numbers = [v for v in values if v is not None]
+        if len(numbers) < len(values) and all(
+                isinstance(v, (int, float, np.integer, np.floating)) and not isinstance(v, bool)
+                for v in numbers):
+            data = np.array([0.0 if v is None else float(v) for v in values])
+            mask = np.array([v is None for v in values], dtype=bool)
+            frame[column] = pandas.arrays.FloatingArray(data, mask)
+    return frame
+
+
 def summary_frame(analysis):
     """One row per sensor and state: the held figure and the figures behind it."""
     rows = []
@@ -37,7 +57,7 @@ def summary_frame(analysis):
                 "equipment_bound_ut": st.equipment_bound_t * 1e6,
                 "total_field_error_nt": (None if st.total_field_error_t is None
                                          else st.total_field_error_t * 1e9)})
-    return _pandas().DataFrame(rows)
+    return _frame(rows)
 
 
 def runs_frame(analysis):
@@ -68,7 +88,7 @@ def runs_frame(analysis):
                              "held": e.held, "unit": s.budget.unit.value,
                              "share_of_budget": s.budget.share(e.held), "bound": e.bound,
                              "bound_ut": e.bound_t * 1e6})
-    return _pandas().DataFrame(rows)
+    return _frame(rows)
 
 
 def remedies_frame(analysis):
@@ -78,11 +98,11 @@ def remedies_frame(analysis):
     rows = [{c: result.sensor.budget.unit.value if c == "unit" else getattr(m, c)
              for c in columns}
             for result in analysis.sensors for st in result.states for m in st.remedies]
-    return _pandas().DataFrame(rows, columns=columns)
+    return _frame(rows, columns)
 
 
 def findings_frame(analysis):
     """One row per rule finding."""
     columns = ["sensor", "state", "rule", "subject", "distance_m", "limit_m", "fraction"]
     rows = [{c: getattr(f, c) for c in columns} for f in analysis.findings]
-    return _pandas().DataFrame(rows, columns=columns)
+    return _frame(rows, columns)

@@ -69,10 +69,18 @@ class Finding:
 
 
 class PlanError(DeviationError):
-    """A plan with problems; ``findings`` lists all of them, each located."""
+    """A plan with problems; ``findings`` lists all of them, each located.
+
+    With a single finding, the error's own ``sheet``, ``row``, ``column`` and ``kind`` are that
+    finding's.
+    """
 
     def __init__(self, findings):
         self.findings = tuple(findings)
+        if len(self.findings) == 1:
+            only = self.findings[0]
+            self.sheet, self.row, self.column, self.kind = (only.sheet, only.row, only.column,
+                                                            only.kind)
         super().__init__("\n".join(str(f) for f in self.findings))
 
 

@@ -53,6 +53,7 @@ from .schema import (
     SENSOR_KINDS,
     SHEETS,
     SITE_SETTINGS,
+    STATES_TEXT_COLUMNS,
     SWITCHING,
     TOTAL_FIELD_KIND,
     VECTOR_ELECTRONIC_KINDS,
@@ -100,8 +101,8 @@ __all__ = ["read_plan", "plan_from_tables", "is_example_row", "EXAMPLE_MARK", "M
 # Cell readers -------------------------------------------------------------------------------------
 
 def _sig(value) -> str:
-    """A number with sensible digits for a message (4 significant: 1e+300, 12.35, 0.001)."""
-    return f"{value:.4g}"
+    """A number with sensible digits for a message (at most 6 significant: 20000, 1e+300)."""
+    return f"{value:.6g}"
 
 
 def _number(value, what, collector, sheet, row, column, *, limit=None, unit=""):
@@ -131,7 +132,7 @@ def _number(value, what, collector, sheet, row, column, *, limit=None, unit=""):
 
 
 def _length(value, default_unit, collector, sheet, row, column, *, limit=MAX_LENGTH_M,
-            what="any length in a plan"):
+            what="any length in a plan may be"):
     """A length [m] within +-``limit``; None with a finding."""
     if isinstance(value, (dt.date, dt.datetime, dt.time)):
         collector.add(sheet, row, column, spreadsheet_date_message(value), Problem.SPREADSHEET_DATE)
@@ -146,7 +147,7 @@ def _length(value, default_unit, collector, sheet, row, column, *, limit=MAX_LEN
         return None
     if abs(metres) > limit:
         collector.add(sheet, row, column, f'"{visible(value)}" is {_sig(metres)} m, more than the '
-                      f"{_metres(limit)} {what} may be (rule of thumb, no published source); check "
+                      f"{_metres(limit)} {what} (rule of thumb, no published source); check "
                       "the digits and the unit", Problem.OUT_OF_RANGE)
         return None
     return metres
@@ -1024,9 +1025,18 @@ def _sheets_of(found, collector):
     """The plan's sheets, each header read and every cell looked at (deviation.sheets.table)."""
     sheets = {}
     for name, raw in found.sheets.items():
-        dates = NOTE_COLUMNS + (("value",) if name == "site" else ())
+        dates = ("value",) if name == "site" else ()
+        known = KNOWN_COLUMNS.get(name, ())
+
+        def free_text(column, name=name, known=known):
+            # Notes, and columns the plan does not know (kept as notes); in the states sheet
+            # every column but the text ones is a state's currents.
+            if column in NOTE_COLUMNS:
+                return True
+            return column not in known if name != "states" else column in STATES_TEXT_COLUMNS
+
         sheet = table(name, raw.label, raw.grid, collector, canonical, date_columns=dates,
-                      text_columns=NOTE_COLUMNS)
+                      free_text=free_text)
         if sheet is not None:
             sheets[name] = sheet
     return sheets
@@ -1118,7 +1128,10 @@ def _plan_from_sheets(sheets, source, collector, others=()) -> Plan:
     for name in REQUIRED_SHEETS:
         if name not in sheets and name not in reported:
             collector.add(name, None, None, missing_sheet_message(name, others), Problem.MISSING)
+    before = len(collector.findings)
     site = _read_site(sheets.get("site"), collector)
+    if "site" not in sheets and "site" in reported:     # the site table itself was refused
+        collector.keep_back_since(before)
     points = _read_points(sheets.get("points"), site.units, collector)
     circuit_currents, states, circuit_names, details = _read_states(sheets.get("states"),
                                                                     collector)

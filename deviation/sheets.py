@@ -179,6 +179,11 @@ class Collector:
         for column in columns:
             self._reported_cells.add((sheet, row, column))
 
+    def keep_back_since(self, count):
+        """Keep back every finding added after the first ``count`` (they follow from one
+        already reported)."""
+        self._dependent.update(id(f) for f in self.findings[count:])
+
     def shown(self) -> list[Finding]:
         """The findings to report: all but the dependent ones."""
         return [f for f in self.findings if id(f) not in self._dependent]
@@ -604,8 +609,18 @@ def _worksheet_grid(worksheet, name, collector):
                           f"{MAX_ROWS}: delete the empty formatted rows or split the plan",
                           Problem.TOO_LARGE)
             return None
-        grid.append(list(row[:MAX_COLUMNS]))
+        grid.append([_unescaped(v) if isinstance(v, str) else v for v in row[:MAX_COLUMNS]])
     return grid
+
+
+# A spreadsheet saves a control character in a cell as the escape _xHHHH_ (ECMA-376 Part 1,
+# 22.9.2.19 ST_Xstring), which openpyxl leaves as it is; read as the character it stands for, it
+# is found like any other control character.
+_OOXML_CONTROL = re.compile(r"_x(00[01][0-9A-Fa-f]|007[Ff]|00[89][0-9A-Fa-f])_")
+
+
+def _unescaped(text):
+    return _OOXML_CONTROL.sub(lambda m: chr(int(m.group(1), 16)), text)
 
 
 def _formulas_without_results(worksheet, grid, name, collector):
@@ -717,13 +732,14 @@ def _clean(value):
 
 
 def table(name, label, grid, collector, canonical=plan_canonical, *, first_row=1,
-          date_columns=(), text_columns=()):
+          date_columns=(), free_text=lambda column: False):
     """A sheet from a grid of cells (list of rows), the header in the first non-empty row.
 
     Every cell is looked at once here: a control character (replaced by nothing, so messages can
     quote the rest), a date where ``date_columns`` does not allow one (made blank), and a
     spreadsheet error value (made blank) are each a finding at the cell, and later findings
-    there are kept back. ``text_columns`` hold free text (a spreadsheet error there is text).
+    there are kept back. ``free_text(column)`` says whether a column holds free text (notes, and
+    columns the reader does not know), where a date or an error value is only text.
     Returns None (with a finding) for an empty sheet or one of more than ``MAX_ROWS`` rows.
     """
     rows = [(first_row + i, [_plain(c) for c in r]) for i, r in enumerate(grid)]
@@ -767,18 +783,22 @@ def table(name, label, grid, collector, canonical=plan_canonical, *, first_row=1
         for col, i in positions.items():
             value = _clean(cells[i]) if i < len(cells) else None
             values[col] = _looked_at(value, name, number, col, columns.get(col, col), collector,
-                                     col in date_columns, col in text_columns)
+                                     col in date_columns, free_text(col))
         data.append((number, values))
     return Sheet(name, label, columns, data, state_columns, examples)
 
 
 def _control_message(characters):
     named = ", ".join(describe_character(c) for c in characters[:3])
-    return (f"the cell holds a control character ({named}), which a plan never needs; delete it "
-            "(it can come from text copied out of a terminal or another program)")
+    if len(characters) == 1:
+        return (f"the cell holds a control character, {named}, which a plan never needs; delete "
+                "it (it can come from text copied out of a terminal or another program)")
+    return (f"the cell holds control characters, {named}, which a plan never needs; delete them "
+            "(they can come from text copied out of a terminal or another program)")
 
 
 def _looked_at(value, sheet, row, column, label, collector, date_ok, text):
+    # text: the column is free text, where a date or an error value is only text
     """A cell after the checks every cell gets (see :func:`table`)."""
     if isinstance(value, str):
         bad = control_characters(value)
@@ -793,7 +813,7 @@ def _looked_at(value, sheet, row, column, label, collector, date_ok, text):
             collector.cell_reported(sheet, row, column, label)
             return None
         return value
-    if isinstance(value, (dt.datetime, dt.date, dt.time)) and not date_ok:
+    if isinstance(value, (dt.datetime, dt.date, dt.time)) and not (date_ok or text):
         collector.add(sheet, row, label, spreadsheet_date_message(value), Problem.SPREADSHEET_DATE)
         collector.cell_reported(sheet, row, column, label)
         return None

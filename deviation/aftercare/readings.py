@@ -99,7 +99,7 @@ def read_table(path, names, *, required=True, any_single=False) -> Table | None:
             message = f"no sheet {names[0]!r} in the workbook (it has: {have}){hint}"
         raise ReadingsError([Finding(file, None, None, None, message, Problem.MISSING)])
     sheet = table(raw.label, raw.label, raw.grid, collector, canonical,
-                  date_columns=_NOTE_COLUMNS, text_columns=_NOTE_COLUMNS)
+                  free_text=lambda column: column in _NOTE_COLUMNS)
     if collector.findings or sheet is None:
         raise ReadingsError(collector.shown())
     return Table(file, raw.label, sheet.columns, tuple(sheet.rows))
