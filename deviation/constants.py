@@ -77,7 +77,8 @@ MODEL_INCLINATION_TOLERANCE_DEG = 20.0
 SURVEY_FIGURE_OF_MERIT_NT = (1.0, 2.0)
 
 #: Independent switchings tried one by one for the total-field worst case and the compensation
-#: fit (2**12): beyond this the switching is chosen by the sign of F-hat . v_i (first order).
+#: fit (2**12): beyond this the total-field figures score the zonotope's vertices
+#: (physics.total_field.vertex_switchings) and the fit samples each circuit alone.
 MAX_SWITCHINGS_ENUMERATED = 4096
 
 #: Field units of the electronic-sensor outputs: tesla per unit (1 mG = 0.1 µT = 100 nT, since

@@ -33,11 +33,10 @@ from .constants import (
 )
 from .physics.total_field import (
     all_switchings,
-    candidate_switchings,
     count_switchings,
+    error_over_switchings,
     first_order_range,
-    inclination_range_deg,
-    total_field_error_range,
+    inclination_over_switchings,
 )
 from .physics.worst_case import worst_combination
 from .plan import name_key
@@ -319,18 +318,17 @@ def _largest(base, vectors, reversing, heel, pitch):
 
 def _departures(base, vectors, reversing, bound, site, heel, pitch):
     """Largest departure of |F + b| and of the inclination from the model's, over headings,
-    attitudes and switchings (every switching up to the enumeration limit, else the sign-split
-    candidates), with a bound of unknown direction ``bound`` [T]."""
+    attitudes and switchings (every switching up to the enumeration limit, else the zonotope's
+    vertices, with the safe-side bounds of ``error_over_switchings`` and
+    ``inclination_over_switchings`` in :mod:`deviation.physics.total_field`), with a bound of
+    unknown direction ``bound`` [T]."""
     h, z = site.horizontal_t, site.vertical_t
     total = site.total_t
-    choices, _ = candidate_switchings(vectors, reversing, MAX_SWITCHINGS_ENUMERATED)
-    fields = base[None, :] + choices @ vectors
-    low, high = total_field_error_range(fields, h, z, heel, pitch)
-    field = float(max(np.max(high), -np.min(low))) + bound
-    i_lo, i_hi = inclination_range_deg(fields, h, z, heel, pitch)
+    worst = error_over_switchings(base, vectors, reversing, h, z, heel, pitch)
+    field = max(worst.high, -worst.low) + bound
+    i_lo, i_hi, size = inclination_over_switchings(base, vectors, reversing, h, z, heel, pitch)
     model = np.degrees(np.arctan2(z, h))
-    inclination = float(max(np.max(i_hi) - model, model - np.min(i_lo)))
-    size = float(np.max(np.linalg.norm(fields, axis=-1)))
+    inclination = float(max(i_hi - model, model - i_lo))
     # A field of unknown direction of size beta turns the sensor's field, at least F - |b|
     # long, by at most asin(beta / (F - |b|)).
     if bound > 0:

@@ -176,20 +176,17 @@ def fix_step_action(step, unit_system) -> str:
     return remedy_action(step, unit_system)
 
 
+#: What a set of fixes that does not reach the budget ends with.
+NO_FIX_SET = "no combination of rerouting the largest culprits fixes it; move the sensor"
+
+
 def fix_set_lines(fixes, unit_system, unit=Unit.DEGREES) -> list[str]:
-    """A sensor's set of fixes as numbered lines, with the held figure after each."""
+    """A sensor's set of fixes, one line per change in order, with the held figure after each
+    (the numbering is the writer's); see :data:`NO_FIX_SET` for how one that falls short ends."""
     if fixes is None:
         return []
-    if not fixes.steps and fixes.reaches_budget:
-        return []
-    lines = []
-    for i, step in enumerate(fixes.steps, start=1):
-        lines.append(f"{i}. {fix_step_action(step, unit_system)}: then "
-                     f"{figure_text(step.after, unit)}"
-                     + (" (within budget)" if step.within_after else ""))
-    if not fixes.reaches_budget:
-        lines.append("no combination of rerouting the largest culprits fixes it; move the sensor")
-    return lines
+    return [f"{fix_step_action(step, unit_system)}: then {figure_text(step.after, unit)}"
+            + (" (within budget)" if step.within_after else "") for step in fixes.steps]
 
 
 def remedy_text(remedy, unit_system, plan_source="PLAN", unit=Unit.DEGREES) -> str:
@@ -255,3 +252,17 @@ def zone_warning(site) -> str | None:
         return ("The site is in the caution zone (H below 6 µT): compasses degrade here and small "
                 "disturbances give large deviations.")
     return None
+
+
+def site_line(site):
+    parts = [f"H {site.horizontal_t * 1e6:.2f} µT", f"Z {site.vertical_t * 1e6:.2f} µT",
+             f"F {site.total_t * 1e6:.2f} µT"]
+    if site.declination_deg is not None:
+        side = "E" if site.declination_deg >= 0 else "W"
+        unc = (f" ±{site.declination_uncertainty_deg:.2f}°"
+               if site.declination_uncertainty_deg is not None else "")
+        parts.append(f"declination {abs(site.declination_deg):.2f}° {side}{unc}")
+    parts.append(f"inclination {site.inclination_deg:.1f}°")
+    source = "WMM2025" if site.source == "WMM2025" else "from the plan"
+    parts.append(f"{source}, {site.date_text}")
+    return "  ".join(parts)

@@ -25,8 +25,8 @@ from deviation.physics.total_field import (
     down_range,
     heading_error_peak_to_peak,
     inclination_range_deg,
-    sign_split_switchings,
     total_field_error_range,
+    vertex_switchings,
 )
 from deviation.reader import read_plan
 from deviation.render.electronic import CSV_COLUMNS
@@ -297,10 +297,11 @@ def test_level_heading_peak_to_peak_matches_the_hand_formula():
     assert heading_error_peak_to_peak(np.array([0, 0, -beta]), h, z) == pytest.approx(0, abs=1e-20)
 
 
-def test_sign_split_switching_reaches_the_brute_force_worst():
-    # Brute force over every switching scored exactly against the sign-split candidates: the
-    # largest error (convex in b) is at a zonotope vertex, so the two agree; the smallest is
-    # chosen to first order, within |b|^2/F of the brute force.
+def test_vertex_switchings_reach_the_brute_force_worst():
+    # Brute force over every switching scored exactly against the zonotope's vertices: the
+    # largest error (convex in b) is at a vertex, so the two agree; the smallest is not convex,
+    # and the vertices alone come within |b|^2/F of it (here random, general-position vectors;
+    # the degenerate cases are in tests/physics/test_total_field.py).
     rng = np.random.default_rng(3)
     h, z = 15e-6, 48e-6
     for trial in range(20):
@@ -311,7 +312,7 @@ def test_sign_split_switching_reaches_the_brute_force_worst():
         heel, pitch = (0, 0) if trial % 2 else (20, 10)
         every = all_switchings(reversing)
         low_all, high_all = total_field_error_range(base + every @ vectors, h, z, heel, pitch)
-        split = sign_split_switchings(vectors, reversing)
+        split = vertex_switchings(vectors, reversing)
         low_s, high_s = total_field_error_range(base + split @ vectors, h, z, heel, pitch)
         assert high_s.max() == pytest.approx(high_all.max(), rel=1e-12)
         size = np.linalg.norm(np.abs(vectors).sum(axis=0) + np.abs(base))
