@@ -24,8 +24,8 @@ from conftest import SAMPLES, run_cli
 from deviation import api
 from deviation.plan import PlanError
 from deviation.reader import plan_from_tables, read_plan
-from deviation.render.json_out import analysis_json
-from deviation.render.terminal import make_console, render_check
+from deviation.render.documents.check import check_document
+from deviation.render.terminal import make_console, write_document
 
 SAMPLE_NAMES = sorted(p.name for p in SAMPLES.iterdir() if p.is_dir())
 #: A NaN or an infinity as any writer spells one (Python, JSON, numpy, a spreadsheet).
@@ -106,7 +106,8 @@ def finite_workbook(path):
 
 def terminal_text(result, width=160):
     buffer = io.StringIO()
-    render_check(result, make_console(file=buffer, width=width))
+    write_document(check_document(result, all_runs=True), make_console(file=buffer, width=width),
+                   detail=True)
     return buffer.getvalue()
 
 
@@ -142,7 +143,7 @@ def test_the_sailboat_json_and_frames_are_finite():
     # The fast lane's share of the sweep above.
     result = api.check(read_plan(SAMPLES / "cruising_sailboat"))
     finite_everywhere(result.sensors, "sensors")
-    strict_json(json.dumps(analysis_json(result)))
+    strict_json(json.dumps(check_document(result).data))
     finite_frames(result)
 
 
@@ -209,7 +210,7 @@ def test_a_fuzzed_plan_is_refused_or_every_output_is_finite(figures, kind):
         return
     event("read and checked")
     finite_everywhere(result.sensors, "sensors")
-    strict_json(json.dumps(analysis_json(result)))
+    strict_json(json.dumps(check_document(result).data))
     finite_frames(result)
     no_words_of_nan(terminal_text(result), "terminal")
 
