@@ -589,9 +589,12 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
             continue
         segments = _segment_estimate(geometry, length)
         if segments > MAX_SEGMENTS_PER_RUN:
+            lay_mm = f"{lay * 1000:.1f}" if lay >= 1e-4 else _sig(lay * 1000)
+            count = f"{segments:,.0f}" if segments < 1e12 else f"{segments:.3g}"
             collector.add("runs", number, "lay", f"a twisted run of {length:.1f} m with a "
-                          f"{lay * 1000:.1f} mm lay needs {segments:,.0f} segments, more than the "
-                          f"{MAX_SEGMENTS_PER_RUN:,} a run may have; check the lay and the route")
+                          f"{lay_mm} mm lay needs {count} segments, more than the "
+                          f"{MAX_SEGMENTS_PER_RUN:,} a run may have; check the lay and the route",
+                          Problem.TOO_LARGE)
             continue
         runs.append(Run(name, circuits, geometry, size_label, str(row.get("note") or ""), number,
                         lie))

@@ -228,10 +228,10 @@ def read_bytes(path, collector, sheet, limit, *, folder=None, what="sheet"):
                           "missing); not read", Problem.FILE)
             return None
         raise
-    except (RuntimeError, OSError) as error:           # a loop of links
+    except (RuntimeError, OSError):           # a loop of links
         if path.is_symlink():
-            collector.add(sheet, None, None, f"{name} is a link that cannot be followed "
-                          f"({error.__class__.__name__}); not read", Problem.FILE)
+            collector.add(sheet, None, None, f"{name} is a link that cannot be followed (a loop "
+                          "of links); not read", Problem.FILE)
             return None
         raise
     if folder is not None and path.is_symlink() and not _inside(path, folder):
@@ -579,7 +579,7 @@ def read_workbook(path, wanted, collector, canonical, *, any_single=None, what="
             for first_col, first_row, _last_col, _last_row in merged:
                 index = _column_index(first_col)
                 column = header[index - 1] if index - 1 < len(header) else None
-                collector.add(name, first_row, str(column or f"{first_col}{first_row}"),
+                collector.add(name, first_row, visible(column or f"{first_col}{first_row}").strip(),
                               f"merged cells ({first_col}{first_row}:{_last_col}{_last_row}) are "
                               "not allowed in a plan; unmerge them and fill each cell",
                               Problem.NOT_A_VALUE)
@@ -635,7 +635,7 @@ def _formulas_without_results(worksheet, grid, name, collector):
                     and (c > len(grid[r - 1]) or grid[r - 1][c - 1] is None)):
                 column = header[c - 1] if c - 1 < len(header) else None
                 where = f"{_column_letters(c)}{r}"
-                collector.add(name, r, str(column or where), f"cell {where} holds a formula "
+                collector.add(name, r, visible(column or where).strip(), f"cell {where} holds a formula "
                               f"({visible(formula)}) with no saved result; open and save the "
                               "workbook in the spreadsheet, or type the value", Problem.NOT_A_VALUE)
 

@@ -343,6 +343,11 @@ ABSURD = {
                    s["runs"][1].__setitem__(6, "30 mm"), s["runs"][1].append("120")),
         "runs row 2, untwisted_ends: untwisted ends of 120.00 m at each end take the whole run "
         "(100.00 m long), so none of it is twisted"),
+    "a lay of 1e-300 mm": (
+        lambda s: (s["runs"][1].__setitem__(3, "twisted"), s["runs"][1].__setitem__(5, "6 mm"),
+                   s["runs"][1].__setitem__(6, "1e-300 mm")),
+        "runs row 2, lay: a twisted run of 100.0 m with a 1e-300 mm lay needs 2.4e+306 segments, "
+        "more than the 2,000,000 a run may have"),
     "infinity as a current": (
         lambda s: s["states"][1].__setitem__(1, "inf"),
         'states row 2, on: "inf" is not a current in amperes (not a finite number)'),
@@ -689,3 +694,36 @@ def test_a_finding_never_quotes_the_control_character_it_reports():
         plan_from_tables(sheets)
     csv.writer(buffer).writerows([[f.message] for f in caught.value.findings])
     assert "\x1b" not in buffer.getvalue()
+
+
+@POSIX
+def test_a_loop_of_links_is_a_finding(tmp_path):
+    folder = write_plan(tmp_path / "p", straight_wire_plan())
+    (folder / "runs.csv").unlink()
+    (folder / "runs.csv").symlink_to("runs.csv")
+    [line] = lines_of(folder)
+    assert line.endswith("runs: runs.csv is a link that cannot be followed (a loop of links); not "
+                         "read")
+
+
+def test_a_renamed_readings_sheet_is_suggested(tmp_path):
+    plan = _loop_plan(tmp_path)
+    path = tmp_path / "swing.xlsx"
+    book = openpyxl.Workbook()
+    book.active.title = "Swing 2026"
+    book.create_sheet("notes")
+    book.save(path)
+    with pytest.raises(ReadingsError) as caught:
+        read_swing(path, plan, state="on")
+    assert caught.value.findings[0].message == (
+        "no sheet 'swing' in the workbook (it has: Swing 2026, notes); found \"Swing 2026\": did "
+        "you mean swing? (rename it)")
+
+
+def test_a_cell_turned_into_a_time_says_so():
+    tables = straight_wire_plan()
+    tables["states"][1][1] = dt.time(10, 30)
+    with pytest.raises(PlanError) as caught:
+        plan_from_tables(tables)
+    [finding] = caught.value.findings
+    assert finding.message.startswith("the spreadsheet turned this cell into a time (10:30:00)")
