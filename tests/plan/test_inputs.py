@@ -149,8 +149,29 @@ def test_the_size_cap_holds_while_reading_whatever_the_file_system_says(tmp_path
                                result.st_ctime))
 
     monkeypatch.setattr(sheets_module.os, "stat", lying_stat)
+    read = []
+    real_fdopen = os.fdopen
+
+    class Counted(io.RawIOBase):
+        def __init__(self, handle):
+            self.handle = handle
+
+        def read(self, size=-1):
+            data = self.handle.read(size)
+            read.append(len(data))
+            return data
+
+        def fileno(self):
+            return self.handle.fileno()
+
+        def close(self):
+            self.handle.close()
+
+    monkeypatch.setattr(sheets_module.os, "fdopen",
+                        lambda *args, **kwargs: Counted(real_fdopen(*args, **kwargs)))
     collector = Collector("x")
     assert read_bytes(path, collector, "runs", 1000) is None
+    assert sum(read) == 1001                     # reading stopped one byte past the cap
     assert collector.findings[0].message == "runs.csv is more than the 0 MB a sheet may be"
     assert collector.findings[0].kind == Problem.FILE
     collector = Collector("x")
