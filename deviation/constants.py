@@ -59,16 +59,9 @@ MIN_LAY_PER_OUTER_DIAMETER = 12.0
 #: about 20 twists per metre, easily done by hand or bought as twisted pair.
 HINT_LAY_M = 0.05
 
-#: Interference grading of an electronic compass or magnetometer: the wiring's field at full
-#: current as a share of the Earth's total field F. Common practice in open-source
-#: flight-controller documentation, from memory: below 30 % acceptable, 30-60 % marginal (current
-#: compensation needed, check it after installation), above 60 % move the sensor.
-INTERFERENCE_ACCEPTABLE_FRACTION = 0.30
-INTERFERENCE_MOVE_FRACTION = 0.60
-
-#: Pre-arming checks of the field against the model (common practice in open-source
-#: flight-controller documentation, from memory): the measured total field within 0.2 gauss
-#: (20 µT) of the model's, and its inclination within 20 degrees of the model's.
+#: A sanity check of the field an electronic sensor's host sees against the model before use
+#: (common practice, no source; the figures from memory): its total field within 20 µT of the
+#: model's and its inclination within 20 degrees of the model's.
 MODEL_FIELD_TOLERANCE_T = 20e-6
 MODEL_INCLINATION_TOLERANCE_DEG = 20.0
 
