@@ -14,6 +14,8 @@ from .common import (
     library_errors,
     main,
     plan_argument,
+    prepare_output,
+    say,
     width_option,
 )
 
@@ -38,8 +40,6 @@ def card(plan, sensor_name, step_deg, plot_path, as_json, width):
     to steer, per sensor and operating state (after adjustment, for a sensor adjusted in a
     reference state)."""
     from .. import api
-    from ..files import check_output
-
     the_plan = api.read_plan(plan)
     chosen = [the_plan.sensor(sensor_name)] if sensor_name else list(the_plan.sensors)
     targets = []
@@ -48,7 +48,7 @@ def card(plan, sensor_name, step_deg, plot_path, as_json, width):
             Path(plot_path).with_name(f"{Path(plot_path).stem}-{_slug(s.name)}"
                                       f"{Path(plot_path).suffix}") for s in chosen]
         for target in targets:
-            check_output(target, plan)
+            prepare_output(target, plan)
     result = api.check(the_plan, remedies=False)
     made = api.deviation_cards(result, sensor_name, float(step_deg))
     if plot_path:
@@ -65,5 +65,5 @@ def card(plan, sensor_name, step_deg, plot_path, as_json, width):
 
     render_cards(made, result, console_for(width))
     if targets:
-        click.echo(f"Curves written to {targets[0]}" if len(targets) == 1 else
+        say(f"Curves written to {targets[0]}" if len(targets) == 1 else
                    "Curves written: " + ", ".join(str(t) for t in targets))

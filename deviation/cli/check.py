@@ -7,12 +7,14 @@ import sys
 import click
 
 from .common import (
+    OutputPath,
     console_for,
     echo_json,
     json_option,
     library_errors,
     main,
     plan_argument,
+    say,
     width_option,
 )
 
@@ -21,7 +23,7 @@ from .common import (
 @plan_argument
 @json_option
 @click.option("--all-runs", is_flag=True, help="List every run, not only the largest ones.")
-@click.option("--report", type=click.Path(dir_okay=False),
+@click.option("--report", type=OutputPath(),
               help="Also write a report: FILE.xlsx or FILE.html.")
 @width_option
 @library_errors
@@ -34,10 +36,6 @@ def check(plan, as_json, all_runs, report, width):
     from .. import api
 
     the_plan = api.read_plan(plan)
-    if report:
-        from ..files import check_output
-
-        check_output(report, plan)
     result = api.check(the_plan)
     if report:
         from ..render.reports import write_report
@@ -50,5 +48,5 @@ def check(plan, as_json, all_runs, report, width):
 
         render_check(result, console_for(width), all_runs=all_runs)
         if report:
-            click.echo(f"Report written to {report}")
+            say(f"Report written to {report}")
     sys.exit(0 if result.within_budget else 1)

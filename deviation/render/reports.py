@@ -17,6 +17,7 @@ from .. import __version__
 from ..budget import OVERWHELMED_DEG
 from ..card import cards
 from ..files import check_output, write_atomically
+from ..text import xlsx_value
 from ..units import LENGTH_UNITS
 from . import view, words
 from .words import CAUTIONS, degrees
@@ -108,7 +109,7 @@ def _xlsx(analysis):
     taken = set()
 
     def put(sheet, row, column, value, number_format=None, font=None):
-        cell = sheet.cell(row=row, column=column, value=value)
+        cell = sheet.cell(row=row, column=column, value=xlsx_value(value))
         if isinstance(value, str):
             cell.data_type = "s"                      # plan text stays text, never a formula
         if number_format:

@@ -3,16 +3,32 @@
 from __future__ import annotations
 
 from rich import box
-from rich.console import Console
+from rich.console import Console as _RichConsole
+from rich.segment import Segment
 from rich.table import Table
 from rich.text import Text
 
+from ..text import terminal_text
 from ..units import LENGTH_UNITS, format_length
 from . import view, words
 from .words import CAUTIONS, degrees
 
 #: Width of tables written to a file or a pipe, where no terminal says how wide it is.
 PIPED_WIDTH = 120
+
+
+class Console(_RichConsole):
+    """A rich console that shows every control character of the text it prints as U+FFFD.
+
+    Plan text (names, notes) may come from someone else; an escape sequence in it must not
+    retitle the terminal, move the cursor or hide and forge lines. Only the text is cleaned:
+    the console's own styles and cursor controls are written as rich makes them.
+    """
+
+    def _render_buffer(self, buffer):
+        return super()._render_buffer(
+            segment if segment.control else Segment(terminal_text(segment.text), segment.style)
+            for segment in buffer)
 
 
 def make_console(file=None, width=None):
