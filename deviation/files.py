@@ -4,9 +4,12 @@ written named with the reason, in one line."""
 from __future__ import annotations
 
 import errno
+import gc
 import os
 import stat
+import sys
 import tempfile
+import traceback
 from pathlib import Path
 
 from .errors import DeviationError
@@ -156,14 +159,39 @@ def write_atomically(path, save):
         os.chmod(temporary, 0o666 & ~mask)
         os.replace(temporary, path)
     except OSError as error:
+        _release(error)
         _discard(temporary)
         if isinstance(error, FileError):
             raise
         where = f" in the folder {folder}" if temporary is None else ""
-        raise FileError(path, "write", reason_of(error) + where, error.errno) from error
-    except BaseException:
+        raise FileError(path, "write", reason_of(error) + where, error.errno) from None
+    except BaseException as error:
+        _release(error)
         _discard(temporary)
         raise
+
+
+def _release(error):
+    """Let go, now and quietly, of what a failed save still holds.
+
+    A writer stopped midway (openpyxl's zip archive) keeps its temporary file open in the
+    traceback's frames; when it is collected its ``__del__`` tries to finish the archive, on the
+    same full disk, and Python prints that second failure as "Exception ignored ... Traceback".
+    The frames are cleared here, with such an OSError from a destructor set aside: the first
+    failure is the one reported.
+    """
+    previous = sys.unraisablehook
+
+    def quiet(unraisable):
+        if not isinstance(unraisable.exc_value, OSError):
+            previous(unraisable)
+
+    sys.unraisablehook = quiet
+    try:
+        traceback.clear_frames(error.__traceback__)
+        gc.collect()
+    finally:
+        sys.unraisablehook = previous
 
 
 def _discard(temporary):

@@ -8,6 +8,7 @@ from pathlib import Path
 import click
 
 from .common import (
+    OutputPath,
     console_for,
     echo_json,
     json_option,
@@ -29,7 +30,7 @@ def _slug(name):
 @click.option("--sensor", "sensor_name", default=None, help="Only this sensor (default: all).")
 @click.option("--step", "step_deg", type=click.Choice(["5", "10", "15", "30", "45"]), default="15",
               show_default=True, help="Degrees of magnetic heading between rows.")
-@click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
+@click.option("--plot", "plot_path", type=OutputPath(),
               help="Draw the deviation curves of all states (FILE.png or FILE.svg; with several "
                    "sensors, one file each, named FILE-sensor.png).")
 @json_option

@@ -3,7 +3,8 @@
 The exit status is one contract for every command (``EXIT_STATUS``): 0 within budget (or the
 command's job done), 1 over budget (or the command's own "not met"), 2 a wrong plan or command
 line, 3 a file that could not be read or written (standard output too), 130 interrupted (Ctrl-C),
-128 + the signal's number when terminated (143 for SIGTERM). It is kept here, in one place:
+128 + the signal's number when terminated (143 for SIGTERM), 70 a fault of the tool itself. It is
+kept here, in one place:
 
 - :class:`Commands` runs a command, turns every error into one line on stderr and its status,
   flushes standard output and checks that it was written whole;
@@ -27,6 +28,9 @@ from .. import __version__
 
 #: The exit statuses (see the module's docstring).
 EXIT_OK, EXIT_NOT_MET, EXIT_BAD_INPUT, EXIT_FILE, EXIT_INTERRUPTED = 0, 1, 2, 3, 130
+#: A fault of the tool itself (sysexits.h EX_SOFTWARE): never 1, which a script reads as a
+#: verdict. The traceback is shown only with DEVIATION_TRACEBACK=1.
+EXIT_INTERNAL = 70
 
 #: Appended to every command's help: the part of the exit status all commands share.
 EXIT_STATUS = ("Exit status 3: a file could not be read or written, standard output included "
@@ -88,17 +92,20 @@ class _Checked:
 
     def __init__(self, stream):
         self.stream = stream
+        self.failed = False
 
     def write(self, text):
         try:
             return self.stream.write(text)
         except OSError as error:
+            self.failed = True
             raise OutputUnwritten(error) from None
 
     def flush(self):
         try:
             self.stream.flush()
         except OSError as error:
+            self.failed = True
             raise OutputUnwritten(error) from None
 
     def __getattr__(self, name):
@@ -188,14 +195,25 @@ def _status(call):
     except OSError as error:
         _tell(f"Error: {file_error(error, action='read or write')}")
         return EXIT_FILE
+    except MemoryError:
+        _tell("Error: not enough memory for this plan; see docs/robustness.md for the limits")
+        return EXIT_INTERNAL
+    except Exception as error:
+        if os.environ.get("DEVIATION_TRACEBACK"):
+            raise
+        _tell(f"Error: an internal error of deviation ({type(error).__name__}: {error}); "
+              "please report it with the plan (DEVIATION_TRACEBACK=1 shows where)")
+        return EXIT_INTERNAL
 
 
 def _finish(stdout, status):
-    """Flush standard output; a short write turns any status into 3."""
+    """Flush standard output; a short write turns any status into 3 (told once)."""
     try:
-        stdout.flush()
+        if not stdout.failed:
+            stdout.flush()
     except OutputUnwritten as error:
         _tell(f"Error: {error}")
+    if stdout.failed:
         # Nothing more can reach it: let the interpreter's last flush go nowhere, quietly.
         with contextlib.suppress(AttributeError, OSError, ValueError, io.UnsupportedOperation):
             devnull = os.open(os.devnull, os.O_WRONLY)
@@ -305,16 +323,42 @@ class Commands(click.Group):
     def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True, **extra):
         if not standalone_mode:
             return super().main(args, prog_name, complete_var, standalone_mode=False, **extra)
-        stdout = _Checked(sys.stdout)
-        sys.stdout = stdout
-        try:
-            with _termination_raises():
-                status = _status(lambda: super(Commands, self).main(
-                    args, prog_name, complete_var, standalone_mode=False, **extra))
-                status = _finish(stdout, status)
-        finally:
-            sys.stdout = stdout.stream
+        original = sys.stdout
+        with _buffered(original) as stream:
+            stdout = _Checked(stream)
+            sys.stdout = stdout
+            try:
+                with _termination_raises():
+                    status = _status(lambda: super(Commands, self).main(
+                        args, prog_name, complete_var, standalone_mode=False, **extra))
+                    status = _finish(stdout, status)
+            finally:
+                sys.stdout = original
         sys.exit(status)
+
+
+@contextlib.contextmanager
+def _buffered(stream):
+    """``stream``, buffered if it is not (``python -u``, PYTHONUNBUFFERED).
+
+    Unbuffered, a text stream hands each write to the file once: a short write (a file-size
+    limit, a disk filling up) loses the rest without an error. A buffered writer writes the rest
+    again and so meets the error. Lines still go out one by one.
+    """
+    raw = getattr(stream, "buffer", None)
+    if not isinstance(raw, io.RawIOBase):
+        yield stream
+        return
+    wrapper = io.TextIOWrapper(io.BufferedWriter(raw), encoding=stream.encoding,
+                               errors=stream.errors, line_buffering=True)
+    try:
+        yield wrapper
+    finally:
+        with contextlib.suppress(OSError, ValueError):
+            wrapper.flush()
+        # Hand the file back open: detaching keeps the wrappers from closing it.
+        with contextlib.suppress(OSError, ValueError):
+            wrapper.detach().detach()
 
 
 def library_errors(command):
