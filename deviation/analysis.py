@@ -26,6 +26,7 @@ from .physics import heading
 from .physics.routing import Conductors, route_runs
 from .physics.total_field import total_field_error_range
 from .plan import Plan, Sensor, conductors_of, frozen_array
+from .progress import counter
 from .quantities import Status, status_of
 from .sitefield import SiteField, site_field
 
@@ -318,9 +319,13 @@ def analyse(plan: Plan) -> Analysis:
     positions = np.array([s.position_m for s in plan.sensors]).reshape(-1, 3)
     parts = parts_at(plan, positions)
     shares = _ends_shares(plan, positions, parts.unit_t)
-    sensors = tuple(evaluate_sensor(plan, sensor, site, _one(parts, i), shares[i])
-                    for i, sensor in enumerate(plan.sensors))
-    return Analysis(plan, site, sensors)
+    tick = counter("the budget of each sensor", len(plan.sensors))
+    sensors = []
+    for i, sensor in enumerate(plan.sensors):
+        sensors.append(evaluate_sensor(plan, sensor, site, _one(parts, i), shares[i]))
+        tick()
+    tick.done()
+    return Analysis(plan, site, tuple(sensors))
 
 
 def _ends_shares(plan, points, unit_t):

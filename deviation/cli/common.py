@@ -252,9 +252,10 @@ class Command(click.Command):
         try:
             for path in outputs + ([output] if output else []):
                 prepare_output(path, *inputs)
-            if not output:
-                return super().invoke(ctx)
-            return self._into(output, ctx)
+            with _progress_shown(not ctx.params.get("as_json")):
+                if not output:
+                    return super().invoke(ctx)
+                return self._into(output, ctx)
         except FileError as error:
             raise FileProblem(str(error)) from None
         except OutputError as error:
@@ -285,6 +286,25 @@ class Command(click.Command):
             raise
         save()
         return result
+
+
+@contextlib.contextmanager
+def _progress_shown(enabled):
+    """Progress lines on stderr while the command runs: only on a terminal, never with --json
+    (see :class:`deviation.render.terminal.TerminalProgress`)."""
+    stderr = sys.stderr
+    if not enabled or not (hasattr(stderr, "isatty") and stderr.isatty()):
+        yield
+        return
+    from ..progress import reporting
+    from ..render.terminal import TerminalProgress
+
+    reporter = TerminalProgress()
+    try:
+        with reporting(reporter):
+            yield
+    finally:
+        reporter.close()
 
 
 class OutputPath(click.Path):

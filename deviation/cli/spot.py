@@ -116,15 +116,11 @@ def spot(plan, sensor_name, region, step, top, plot_path, as_json, width):
     analysis = analyse(the_plan)
     started = time.perf_counter()
     if region:
-        from ..render.terminal import progress_bar
-
         unit = the_plan.site.units
         low = _triple(region[0], unit, "--region")
         high = _triple(region[1], unit, "--region")
         step_m = _step(step, the_plan)
-        with progress_bar(enabled=not as_json) as progress:
-            result = api.find_spots(the_plan, sensor, low, high, step_m, top=top,
-                                    progress=progress, analysis=analysis)
+        result = api.find_spots(the_plan, sensor, low, high, step_m, top=top, analysis=analysis)
     else:
         from dataclasses import replace
 
