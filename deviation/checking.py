@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from dataclasses import replace
 
-from .analysis import Analysis, analyse
+from .analysis import Analysis, analyse, check_ceilings
 from .plan import Plan
 
 
@@ -29,6 +29,8 @@ def check_plan(plan: Plan, *, remedies: bool = True, fixes_for=None) -> Analysis
     named = None
     if fixes_for is not None:
         named = {plan.sensor(name).name for name in fixes_for}
+    if remedies:
+        check_ceilings(plan, fixes=True)
     analysis = analyse(plan)
     if remedies:
         analysis = with_remedies(analysis, named)

@@ -87,3 +87,15 @@ FIELD_UNITS_T = {"uT": 1e-6, "nT": 1e-9, "mG": 1e-7}
 #: Deviation reported where the disturbance's horizontal part reaches H: the sensor can point
 #: anywhere (renderers say "overwhelmed", never this number).
 OVERWHELMED_DEG = 180.0
+
+#: Ceilings of a check, where the work grows faster than the plan (measured with
+#: bench/bench_limits.py; the figures are in docs/robustness.md). The worst combination of
+#: independent circuits at the worst attitude grows about as their number cubed (200: seconds and
+#: 200 MB); the remedies and the set of fixes re-check the whole budget for every candidate change
+#: in every state, so they grow as the states squared and much faster with independent circuits
+#: (100 states or 100 independent circuits: about a minute). Above the MAX_FIXES_* ceilings a
+#: check runs without them (``--no-fixes``), or is refused.
+MAX_STATES = 1000
+MAX_INDEPENDENT_CIRCUITS = 200
+MAX_FIXES_STATES = 100
+MAX_FIXES_INDEPENDENT_CIRCUITS = 100

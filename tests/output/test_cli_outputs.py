@@ -168,3 +168,57 @@ def test_a_spot_search_beyond_its_ceiling_is_refused_with_the_step_that_fits(tmp
     huge = run_cli("spot", plan, "--sensor", "compass", "--region", "-5000,-5000,-5000",
                    "5000,5000,5000", "--step", "1mm")
     assert huge.exit_code == 2 and "grid points, more than the" in huge.stderr
+
+
+def _plan_with(folder, circuits, states, independent=0):
+    """A compass beside ``circuits`` vertical runs, with ``states`` states, the first
+    ``independent`` circuits switched on their own."""
+    runs = [["run", "circuits", "route", "return"]]
+    rows = [["circuit", *[f"s{k}" for k in range(states)], "switching"]]
+    for i in range(circuits):
+        x = 1.0 + 0.01 * i
+        runs.append([f"run {i}", f"c{i}", f"{x}, 0, -0.5 > {x}, 0, 0.5", "none"])
+        rows.append([f"c{i}", *[1 + (i + k) % 3 for k in range(states)],
+                     "independent" if i < independent else ""])
+    return write_plan(folder, {
+        "site": [["setting", "value"], ["horizontal_field_ut", 20], ["vertical_field_ut", 40]],
+        "runs": runs, "states": rows,
+        "sensors": [["sensor", "at", "kind", "budget_deg"], ["compass", "0, 0, 0",
+                                                             "magnetic compass", 1]]})
+
+
+def test_states_beyond_the_ceilings_are_refused_at_the_state_past_them(tmp_path):
+    from deviation.constants import MAX_FIXES_STATES, MAX_STATES
+
+    plan = _plan_with(tmp_path / "many", 3, MAX_FIXES_STATES + 1)
+    result = run_cli("check", plan)
+    assert result.exit_code == 2
+    assert result.stderr.splitlines()[0] == (
+        f"{plan}: states row 1, s{MAX_FIXES_STATES}: {MAX_FIXES_STATES + 1} operating states is "
+        f"more than the {MAX_FIXES_STATES} the remedies and the set of fixes are worked out for; "
+        "check with --no-fixes (remedies=False), which gives the same budget and verdict")
+    assert run_cli("check", plan, "--no-fixes").exit_code in (0, 1)
+    plan = _plan_with(tmp_path / "too many", 2, MAX_STATES + 1)
+    result = run_cli("check", plan, "--no-fixes")
+    assert result.exit_code == 2
+    assert (f"states row 1, s{MAX_STATES}: {MAX_STATES + 1} operating states is more than the "
+            f"{MAX_STATES} a plan may have") in result.stderr
+
+
+def test_independent_circuits_beyond_the_ceilings_are_refused_at_the_circuit_past_them(tmp_path):
+    from deviation.constants import MAX_FIXES_INDEPENDENT_CIRCUITS, MAX_INDEPENDENT_CIRCUITS
+
+    count = MAX_FIXES_INDEPENDENT_CIRCUITS + 1
+    plan = _plan_with(tmp_path / "many", count, 2, independent=count)
+    result = run_cli("check", plan)
+    assert result.exit_code == 2
+    # The circuit past the ceiling: header row 1, the first circuit on row 2.
+    assert (f"states row {MAX_FIXES_INDEPENDENT_CIRCUITS + 2}, switching: {count} independent "
+            f"circuits is more than the {MAX_FIXES_INDEPENDENT_CIRCUITS} the remedies and the set "
+            "of fixes are worked out for") in result.stderr
+    count = MAX_INDEPENDENT_CIRCUITS + 1
+    plan = _plan_with(tmp_path / "too many", count, 2, independent=count)
+    result = run_cli("check", plan, "--no-fixes")
+    assert result.exit_code == 2
+    assert (f"states row {MAX_INDEPENDENT_CIRCUITS + 2}, switching: {count} independent circuits "
+            f"is more than the {MAX_INDEPENDENT_CIRCUITS} a plan may have") in result.stderr
