@@ -50,8 +50,9 @@ class RunContribution:
     held: float                       # what it alone makes of the held figure, budget's unit
     share_of_budget: float            # held / the budget
     return_kind: str
-    bound_t: float = 0.0              # the part of unknown direction (lie of a pair, floor)
+    bound_t: float = 0.0              # the part of unknown direction of its horizontal size
     ends_share: float | None = None   # twisted: share of its field from the untwisted ends
+    unknown_t: float = 0.0            # the 3-D size of its parts of unknown direction
 
 
 @dataclass(frozen=True)
@@ -271,7 +272,7 @@ def evaluate_sensor(plan: Plan, sensor: Sensor, site: SiteField, parts: RunParts
             None if alone.change_deg is None else float(alone.change_deg[k, r]),
             float(alone.held[k, r]), sensor.budget.share(alone.held[k, r]),
             run.geometry.return_kind, float(alone.bound_t[k, r]),
-            None if ends_share is None else ends_share[r])
+            None if ends_share is None else ends_share[r], float(alone.unknown_t[k, r]))
             for r, run in enumerate(plan.runs)]
         order = sorted(range(len(runs)), key=lambda r: (-rank[r], runs[r].name))
         on = tuple((name, int(s)) for name, s in zip(split.names, figures.combination[0, k]) if s)

@@ -59,16 +59,9 @@ MIN_LAY_PER_OUTER_DIAMETER = 12.0
 #: about 20 twists per metre, easily done by hand or bought as twisted pair.
 HINT_LAY_M = 0.05
 
-#: Interference grading of an electronic compass or magnetometer: the wiring's field at full
-#: current as a share of the Earth's total field F. Common practice in open-source
-#: flight-controller documentation, from memory: below 30 % acceptable, 30-60 % marginal (current
-#: compensation needed, check it after installation), above 60 % move the sensor.
-INTERFERENCE_ACCEPTABLE_FRACTION = 0.30
-INTERFERENCE_MOVE_FRACTION = 0.60
-
-#: Pre-arming checks of the field against the model (common practice in open-source
-#: flight-controller documentation, from memory): the measured total field within 0.2 gauss
-#: (20 µT) of the model's, and its inclination within 20 degrees of the model's.
+#: A sanity check of the field an electronic sensor's host sees against the model before use
+#: (common practice, no source; the figures from memory): its total field within 20 µT of the
+#: model's and its inclination within 20 degrees of the model's.
 MODEL_FIELD_TOLERANCE_T = 20e-6
 MODEL_INCLINATION_TOLERANCE_DEG = 20.0
 
@@ -77,7 +70,8 @@ MODEL_INCLINATION_TOLERANCE_DEG = 20.0
 SURVEY_FIGURE_OF_MERIT_NT = (1.0, 2.0)
 
 #: Independent switchings tried one by one for the total-field worst case and the compensation
-#: fit (2**12): beyond this the switching is chosen by the sign of F-hat . v_i (first order).
+#: fit (2**12): beyond this the total-field figures score the zonotope's vertices
+#: (physics.total_field.vertex_switchings) and the fit samples each circuit alone.
 MAX_SWITCHINGS_ENUMERATED = 4096
 
 #: Field units of the electronic-sensor outputs: tesla per unit (1 mG = 0.1 µT = 100 nT, since

@@ -37,9 +37,10 @@ def _slug(name):
 @width_option
 @library_errors
 def card(plan, sensor_name, step_deg, plot_path, as_json, width):
-    """The predicted deviation card: deviation at each magnetic heading, and the compass heading
-    to steer, per sensor and operating state (after adjustment, for a sensor adjusted in a
-    reference state)."""
+    """The predicted deviation card: deviation at each magnetic heading, the band that parts of
+    unknown direction allow, and the compass heading to steer, per sensor and operating state
+    (after adjustment, for a sensor adjusted in a reference state), with each state's held
+    figure. A total-field magnetometer gets its total-field error against heading in nT."""
     from .. import api
     the_plan = api.read_plan(plan)
     chosen = [the_plan.sensor(sensor_name)] if sensor_name else list(the_plan.sensors)
@@ -57,14 +58,15 @@ def card(plan, sensor_name, step_deg, plot_path, as_json, width):
 
         for target, one in zip(targets, made):
             card_curves(one, target)
+    from ..render.documents.card import cards_document
+
+    document = cards_document(result, made)
     if as_json:
-        from ..render.json_out import cards_json
-
-        echo_json(cards_json(made))
+        echo_json(document.data)
         return
-    from ..render.terminal import render_cards
+    from ..render.terminal import write_document
 
-    render_cards(made, result, console_for(width))
+    write_document(document, console_for(width))
     if targets:
         say(f"Curves written to {targets[0]}" if len(targets) == 1 else
                    "Curves written: " + ", ".join(str(t) for t in targets))

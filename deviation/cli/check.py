@@ -23,7 +23,11 @@ from .common import (
 @main.command()
 @plan_argument
 @json_option
-@click.option("--all-runs", is_flag=True, help="List every run, not only the largest ones.")
+@click.option("--detail", is_flag=True,
+              help="Every state's table, totals and remedies (default: a short account of each "
+                   "sensor).")
+@click.option("--all-runs", is_flag=True, help="List every run, not only the largest ones "
+                                                "(with --detail; reports list every run).")
 @click.option("--report", type=OutputPath(),
               help="Also write a report: FILE.xlsx or FILE.html.")
 @click.option("--no-fixes", is_flag=True,
@@ -33,7 +37,7 @@ from .common import (
               help="Remedies and the set of fixes only for this sensor (repeat for more).")
 @width_option
 @library_errors
-def check(plan, as_json, all_runs, report, no_fixes, fixes_for, width):
+def check(plan, as_json, detail, all_runs, report, no_fixes, fixes_for, width):
     """Print the deviation budget of every sensor in every operating state.
 
     Exit status: 0 every sensor within its budget in every state it is used in, 1 at least one
@@ -44,17 +48,25 @@ def check(plan, as_json, all_runs, report, no_fixes, fixes_for, width):
     if no_fixes and fixes_for:
         raise CommandProblem("give --no-fixes or --fixes-for, not both")
     the_plan = api.read_plan(plan)
+    if report:
+        from ..render.reports import check_report_path
+
+        check_report_path(report, plan)
     result = api.check(the_plan, remedies=not no_fixes, fixes_for=fixes_for or None)
+    from ..render.documents.check import check_document
+
+    document = check_document(result, all_runs=all_runs)
     if report:
         from ..render.reports import write_report
 
-        write_report(result, report)
+        # Paper holds every run; the screen only the largest unless asked.
+        write_report(check_document(result, all_runs=True), report, plan)
     if as_json:
-        echo_json(api.to_json(result))
+        echo_json(document.data)
     else:
-        from ..render.terminal import render_check
+        from ..render.terminal import write_document
 
-        render_check(result, console_for(width), all_runs=all_runs)
+        write_document(document, console_for(width), detail=detail)
         if report:
             say(f"Report written to {report}")
     sys.exit(0 if result.within_budget else 1)

@@ -6,14 +6,17 @@ import threading
 
 from rich import box
 from rich.console import Console as _RichConsole
+from rich.padding import Padding
 from rich.segment import Segment
 from rich.table import Table
 from rich.text import Text
 
 from ..text import terminal_text
 from ..units import LENGTH_UNITS, format_length
-from . import view, words
-from .words import CAUTIONS, degrees
+from . import words
+from .model import Bullets, Paragraph, Tone
+from .model import Table as DocumentTable
+from .words import CAUTIONS, site_line
 
 #: Width of tables written to a file or a pipe, where no terminal says how wide it is.
 PIPED_WIDTH = 120
@@ -52,20 +55,6 @@ def _ok(flag):
     return _style("ok" if flag else "over")
 
 
-def site_line(site):
-    parts = [f"H {site.horizontal_t * 1e6:.2f} µT", f"Z {site.vertical_t * 1e6:.2f} µT",
-             f"F {site.total_t * 1e6:.2f} µT"]
-    if site.declination_deg is not None:
-        side = "E" if site.declination_deg >= 0 else "W"
-        unc = (f" ±{site.declination_uncertainty_deg:.2f}°"
-               if site.declination_uncertainty_deg is not None else "")
-        parts.append(f"declination {abs(site.declination_deg):.2f}° {side}{unc}")
-    parts.append(f"inclination {site.inclination_deg:.1f}°")
-    source = "WMM2025" if site.source == "WMM2025" else "from the plan"
-    parts.append(f"{source}, {site.date_text}")
-    return "  ".join(parts)
-
-
 def render_site(site, console):
     """The site's field, one quantity a line."""
     side = "E" if site.declination_deg >= 0 else "W"
@@ -87,141 +76,76 @@ def render_site(site, console):
         console.print(Text(f"  {label:<14} {value}"))
 
 
-def render_check(analysis, console, *, all_runs=False, hints=True):
-    plan = analysis.plan
-    unit = plan.site.units
-    console.print(Text(f"Deviation budget · {plan.source}", style="bold"))
-    console.print(Text(f"Site  {site_line(analysis.site)}"))
-    warning = words.zone_warning(analysis.site)
-    if warning:
-        console.print(Text(warning, style="bold yellow"))
-    examples = words.example_rows(plan.skipped_examples)
-    if examples:
-        console.print(Text(examples[0].upper() + examples[1:] + ".", style="bold yellow"))
-    console.print()
+#: How each tone looks on a terminal.
+STYLE_OF = {Tone.PLAIN: "", Tone.GOOD: "green", Tone.BAD: "bold red", Tone.MUTED: "dim",
+            Tone.WARN: "bold yellow", Tone.STRONG: "bold"}
 
-    summary = Table(title=Text("Figure held against each budget (degrees; nT for a total-field "
-                               "magnetometer)"), box=_box(console),
-                    title_justify="left")
-    summary.add_column("sensor")
-    summary.add_column("budget", justify="right")
-    for state in plan.state_names:
-        summary.add_column(Text(state), justify="right")
-    summary.add_column("verdict")
-    rows = view.summary_rows(analysis)
-    for row in rows:
-        cells = [Text(row.sensor), row.budget_text]
-        for cell in row.cells:
-            text = cell.text if cell.status != "unused" else f"({cell.text})"
-            cells.append(Text(text, style=_style(cell.status)))
-        cells.append(Text(row.verdict, style=_ok(row.within_budget)))
-        summary.add_row(*cells)
-    console.print(summary)
-    if any(c.status == "unused" for row in rows for c in row.cells):
-        console.print("  (in brackets: a state the sensor is not relied on in; not held against "
-                      "its budget)")
-    for row in rows:
-        if row.adjustment_absorbs_deg is not None:
-            console.print(Text(f"  {row.sensor}: the adjustment in {row.reference_state!r} takes "
-                               f"out {words.with_degree_sign(row.adjustment_absorbs_deg)}"))
 
-    for result in analysis.sensors:
-        _render_sensor(result, analysis, console, unit, all_runs, hints)
-
-    if analysis.findings:
-        console.print(Text("Findings", style="bold"))
-        for finding in analysis.findings:
-            console.print(Text(f"  • {words.finding_text(finding)}"))
+def write_document(document, console, *, detail=False):
+    """Print a document: its heading, warnings, the sections meant for a screen (those marked
+    detail only with ``detail``), the cautions, and the verdict recapped in the last lines."""
+    console.print(Text(document.title, style="bold"))
+    for line in document.meta:
+        console.print(Text(line))
+    for warning in document.warnings:
+        console.print(Text(warning, style=STYLE_OF[Tone.WARN]))
+    for section in document.sections:
+        if not section.screen or (section.detail and not detail):
+            continue
         console.print()
+        style = STYLE_OF[section.tone] + (" underline" if section.level <= 2 else "")
+        console.print(Text(section.title, style=style.strip()))
+        for block in section.blocks:
+            _write_block(block, console)
+    console.print()
     console.print(Text("Cautions", style="bold"))
-    for caution in CAUTIONS:
-        console.print(f"  • {caution}")
-
-
-def _render_sensor(result, analysis, console, unit, all_runs, hints):
-    sensor = result.sensor
-    console.print()
-    adjusted = (f"adjusted in {sensor.reference_state!r}, so the residual after adjustment counts"
-                if sensor.reference_state else "not adjusted, so the absolute deviation counts")
-    attitude = []
-    if sensor.max_heel_deg:
-        attitude.append(f"heel ±{sensor.max_heel_deg:g}°")
-    if sensor.max_pitch_deg:
-        attitude.append(f"pitch ±{sensor.max_pitch_deg:g}°")
-    console.print(Text(f"{sensor.name}", style="bold underline"))
-    console.print(Text(f"  {sensor.kind} at {words.position(sensor.position_m, unit)}; budget "
-                       f"{words.budget_text(sensor)}; {adjusted}"
-                       + ("; " + ", ".join(attitude) if attitude else "")))
-    if sensor.used_in is not None:
-        console.print(Text("  relied on in: " + ", ".join(sensor.used_in)))
-    for st in result.states:
-        _render_state(st, sensor, analysis, console, unit, all_runs, hints)
-    lines = words.fix_set_lines(result.fixes, unit, sensor.budget.unit) if hints else []
-    if lines:
+    _bullets(document.cautions, console)
+    if document.recap:
         console.print()
-        console.print(Text(f"{sensor.name}: the set of fixes, each figure with the changes "
-                           "before it made (every state it is used in, worst attitude and "
-                           "switching)", style="bold"))
-        for line in lines:
-            console.print(Text(f"  {line}"))
+        for paragraph in document.recap:
+            _write_block(paragraph, console)
 
 
-def _render_state(st, sensor, analysis, console, unit, all_runs, hints):
-    reference = sensor.reference_state
-    status = view.STATUS_CLASS[st.status]
-    console.print()
-    console.print(Text(view.state_title(sensor, st), style=_style(status)))
+def _write_block(block, console):
+    if isinstance(block, Paragraph):
+        # Wrapped lines keep the paragraph's indent.
+        console.print(Padding(Text(block.text, style=STYLE_OF[block.tone]),
+                              (0, 0, 0, 2 * (block.indent + 1))))
+    elif isinstance(block, Bullets):
+        _bullets(block.items, console, STYLE_OF[block.tone], block.ordered)
+    elif isinstance(block, DocumentTable):
+        _table(block, console)
+    # Charts are for paper.
+
+
+def _bullets(items, console, style="", ordered=False):
+    """Wrapped lines stay indented under their bullet (or number)."""
+    grid = Table.grid(padding=(0, 1))
+    grid.add_column(width=4 if ordered else 3, justify="right")
+    grid.add_column()
+    for i, item in enumerate(items, start=1):
+        grid.add_row(f"{i}." if ordered else "•", Text(item, style=style))
+    console.print(grid)
+
+
+def _table(block, console):
+    """A table whose numbers never break and whose names wrap only between words."""
+    if block.title:
+        console.print(Text(block.title, style=STYLE_OF[block.tone]))
     table = Table(box=_box(console), padding=(0, 1), pad_edge=False)
-    table.add_column("run / item", ratio=1, overflow="fold")
-    figure_unit = sensor.budget.unit
-    degrees_shown = sensor.budget.degrees
-    for name in ("A", "nearest", "horiz µT", "vert µT") + (
-            ("alone °",) if degrees_shown else (f"alone {figure_unit.label}",)):
-        table.add_column(name, justify="right", no_wrap=True)
-    if reference and degrees_shown:
-        table.add_column("residual °", justify="right", no_wrap=True)
-    table.add_column("of budget", justify="right", no_wrap=True)
-    rows, hidden = view.budget_rows(sensor, st, all_runs=all_runs)
-    for row in rows:
-        cells = [Text(row.name + (" ≤" if row.bound else "")),
-                 "" if row.current_a is None else f"{row.current_a:g}",
-                 format_length(row.nearest_m, unit), words.microtesla(row.horizontal_t),
-                 "" if row.vertical_t is None else words.microtesla(row.vertical_t),
-                 degrees(row.max_deviation_deg) if degrees_shown
-                 else words.figure_number(row.counted, figure_unit)]
-        if reference and degrees_shown:
-            cells.append("adjusted" if row.compensated else degrees(row.change_deg))
-        cells.append(words.share(row.share_of_budget, row.counted, figure_unit))
-        table.add_row(*cells)
-    console.print(table)
-    if hidden:
-        console.print(f"  {hidden} more run(s) below {view.NEGLIGIBLE_SHARE * 100:g} % of the "
-                      "budget each (--all-runs lists them)")
-    if any(row.bound for row in rows):
-        console.print("  ≤ includes an upper bound: a labelled safe distance (IEC 60945), a magnet "
-                      "of unknown orientation, a pair whose lie the plan does not say, or a twisted "
-                      "run's floor")
-    for total in view.total_rows(sensor, st):
-        line = f"  {total.label}: {words.with_degree_sign(total.value_deg)}"
-        if total.held:
-            share = ("" if st.overwhelmed else
-                     f" ({sensor.budget.share(st.held) * 100:.0f} % of the budget)")
-            console.print(Text(f"  {total.label}: {words.held_text(sensor, st)} of "
-                               f"{words.budget_text(sensor)}{share}", style=_style(status)))
+    for c, column in enumerate(block.columns):
+        if column.numeric:
+            table.add_column(Text(column.title), justify="right", no_wrap=True)
         else:
-            console.print(Text(line))
-    for line in view.total_field_lines(sensor, st):
-        console.print(Text(f"  {line}", style=_style(status) if "held" in line else ""))
-    if sensor.kind == "magnetometer":
-        console.print(f"  disturbance {st.fraction_of_total * 100:.1f} % of the Earth's total "
-                      f"field ({analysis.site.total_t * 1e6:.1f} µT)")
-    if st.overwhelmed:
-        console.print(Text("  The disturbance is at least as strong as the Earth's horizontal "
-                           "field here: the sensor can point anywhere.", style="bold red"))
-    if hints:
-        for remedy in st.remedies:
-            text = words.remedy_text(remedy, unit, analysis.plan.source, sensor.budget.unit)
-            console.print(Text(f"  → {text}"))
+            words_in = [w for row in block.rows if c < len(row) for w in row[c].text.split()]
+            longest = max((len(w) for w in words_in), default=1)
+            table.add_column(Text(column.title), min_width=min(longest, 24),
+                             overflow="fold", ratio=1 if column.wrap else None)
+    for row in block.rows:
+        table.add_row(*(Text(c.text, style=STYLE_OF[c.tone]) for c in row))
+    console.print(table)
+    for note in block.notes:
+        console.print(Text("  " + note))
 
 
 class TerminalProgress:

@@ -1,14 +1,12 @@
 """The library as a notebook user meets it: read, check, tables, what-ifs; layers kept apart."""
 
 import dataclasses
-import json
 import math
 import subprocess
 import sys
 from pathlib import Path
 
 import pytest
-from click.testing import CliRunner
 
 import deviation
 from conftest import SAMPLES, straight_wire_plan
@@ -87,19 +85,3 @@ def test_plan_from_tables_reports_located_findings():
     lines = [str(f) for f in caught.value.findings]
     assert lines == ['<tables>: runs row 2, return: "pared" is not a return kind; expected one of '
                      'paired, twisted, separate, none; did you mean "paired"?']
-
-
-def test_json_and_terminal_show_the_same_figures():
-    from deviation.cli import main
-
-    runner = CliRunner()
-    sample = str(SAMPLES / "cruising_sailboat")
-    data = json.loads(runner.invoke(main, ["check", sample, "--json"]).output)
-    text = runner.invoke(main, ["check", sample, "--width", "200"]).output
-    for sensor in data["sensors"]:
-        for state in sensor["states"]:
-            figure = f"{state['held']:.2f}°"
-            assert f"{state['state']}: {figure} of {sensor['budget']['value']:g}°" in text
-            for total in state["totals"]:
-                if total["deg"] is not None and total["deg"] < 180:
-                    assert f"{total['figure']}: {total['deg']:.2f}°" in text.replace("\n", " ")

@@ -75,11 +75,12 @@ def _hostile_plan():
 
 
 def test_a_hostile_name_reaches_the_terminal_only_as_text():
-    from deviation.render.terminal import Console, render_check
+    from deviation.render.documents.check import check_document
+    from deviation.render.terminal import Console, write_document
 
-    result = deviation.check(_hostile_plan())
+    document = check_document(deviation.check(_hostile_plan()), all_runs=True)
     out = io.StringIO()
-    render_check(result, Console(file=out, force_terminal=True, width=200), all_runs=True)
+    write_document(document, Console(file=out, force_terminal=True, width=200), detail=True)
     text = out.getvalue()
     assert "pwned" in text and "\ufffd]0;pwned" in text    # the name is shown, disarmed
     # The only escape sequences left are the console's own colours (CSI ... m).
@@ -104,7 +105,10 @@ def test_xlsx_writers_take_names_xml_cannot_hold(tmp_path):
     from deviation.template import write_plan as write_workbook
 
     plan = _hostile_plan()
-    write_report(deviation.check(plan), tmp_path / "report.xlsx")
+    from deviation.render.documents.check import check_document
+
+    write_report(check_document(deviation.check(plan), all_runs=True), tmp_path / "report.xlsx",
+                 plan.source)
     write_test_sheet(switch_on_test(plan, "helm compass", 90.0), tmp_path / "sheet.xlsx")
     write_workbook(plan, tmp_path / "plan.xlsx")
     for name in ("report.xlsx", "sheet.xlsx", "plan.xlsx"):

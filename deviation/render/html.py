@@ -1,0 +1,112 @@
+"""A document as one self-contained html page (styles and vector pictures inline) that reads on
+a phone and prints on A4 with page numbers."""
+
+from __future__ import annotations
+
+import html
+
+from .model import Bullets, Chart, Paragraph, Table, Tone
+
+STYLE = """
+body { font: 10.5pt/1.4 system-ui, -apple-system, "Segoe UI", Roboto, Arial, sans-serif;
+       color: #1a1a1a; max-width: 190mm; margin: 12mm auto; padding: 0 3mm; }
+h1 { font-size: 17pt; margin: 0 0 2mm; }
+h2 { font-size: 13pt; margin: 8mm 0 2mm; border-bottom: 1.5px solid #345; }
+h3 { font-size: 11pt; margin: 5mm 0 1.5mm; }
+h2, h3, .caption { break-after: avoid; page-break-after: avoid; }
+.scroll { overflow-x: auto; }
+table { border-collapse: collapse; width: 100%; margin: 1mm 0 2mm; font-size: 9pt; }
+th, td { border: 1px solid #c8ced6; padding: 1.2mm 1.8mm; vertical-align: top; }
+th { background: #e4ebf3; text-align: left; } th.num, td.num { text-align: right;
+     white-space: nowrap; }
+td.pen { background: #fffde7; min-width: 18mm; height: 7mm; }
+.good { color: #1b5e20; } .bad { color: #b00020; font-weight: 700; }
+.muted { color: #777; font-style: italic; } .warn { color: #8a5300; font-weight: 700; }
+.strong { font-weight: 700; }
+.meta, .note { color: #555; font-size: 9pt; margin: 0.5mm 0; }
+.caption { font-weight: 600; margin: 3mm 0 1mm; }
+.recap { border: 1.5px solid #345; padding: 2mm 4mm; margin: 4mm 0; }
+.recap p { margin: 0.5mm 0; } .indent1 { margin-left: 5mm; }
+.caution { border: 1.5px solid #b26a00; background: #fff8ec; padding: 2mm 4mm; margin: 4mm 0; }
+figure { margin: 2mm 0; text-align: center; } figure svg { max-width: 100%; height: auto; }
+section.page { break-before: page; page-break-before: always; }
+table, figure, .caution, .recap { break-inside: avoid; }
+@page { size: A4; margin: 12mm 12mm 16mm; }
+@media print { body { margin: 0 auto; max-width: none; } a { color: inherit; } }
+"""
+
+
+def _e(value):
+    return html.escape("" if value is None else str(value), quote=True)
+
+
+def _class(tone):
+    return "" if tone is Tone.PLAIN else tone.value
+
+
+def _svg(chart):
+    """The chart as inline SVG (vector: crisp on paper), without its XML prologue."""
+    text = chart.draw("svg").decode("utf-8")
+    start = text.find("<svg")
+    return f'<figure role="img" aria-label="{_e(chart.alt)}">{text[start:]}</figure>'
+
+
+def _table(block):
+    parts = []
+    if block.title:
+        parts.append(f"<p class='caption {_class(block.tone)}'>{_e(block.title)}</p>")
+    parts.append("<div class=scroll><table><thead><tr>")
+    for column in block.columns:
+        parts.append(f"<th class={'num' if column.numeric else 'text'}>{_e(column.title)}</th>")
+    parts.append("</tr></thead><tbody>")
+    for row in block.rows:
+        cells = []
+        for c, value in enumerate(row):
+            kinds = ["pen" if c in block.pen else
+                     "num" if block.columns[c].numeric else "text", _class(value.tone)]
+            cells.append(f"<td class='{' '.join(k for k in kinds if k)}'>{_e(value.text)}</td>")
+        parts.append("<tr>" + "".join(cells) + "</tr>")
+    parts.append("</tbody></table></div>")
+    parts += [f"<p class=note>{_e(note)}</p>" for note in block.notes]
+    return "".join(parts)
+
+
+def _block(block):
+    if isinstance(block, Paragraph):
+        return f"<p class='{_class(block.tone)} indent{block.indent}'>{_e(block.text)}</p>"
+    if isinstance(block, Bullets):
+        tag = "ol" if block.ordered else "ul"
+        return (f"<{tag} class='{_class(block.tone)}'>"
+                + "".join(f"<li>{_e(item)}</li>" for item in block.items) + f"</{tag}>")
+    if isinstance(block, Table):
+        return _table(block)
+    if isinstance(block, Chart):
+        return _svg(block)
+    raise TypeError(f"not a block: {block!r}")
+
+
+def page(document) -> str:
+    """The document as one html page: the verdict first, then every section."""
+    parts = ["<!doctype html><html lang=en><head><meta charset=utf-8>"
+             "<meta name=viewport content='width=device-width, initial-scale=1'>"
+             f"<title>{_e(document.title)}: {_e(document.meta[0] if document.meta else '')}"
+             f"</title><style>{STYLE}</style></head><body>",
+             f"<h1>{_e(document.title)}</h1>"]
+    parts += [f"<p class=meta>{_e(line)}</p>" for line in document.meta]
+    if document.stamp:
+        parts.append(f"<p class=meta>{_e(document.stamp)}</p>")
+    parts += [f"<p class=warn>{_e(line)}</p>" for line in document.warnings]
+    if document.recap:
+        parts.append("<div class=recap>" + "".join(_block(p) for p in document.recap)
+                     + "</div>")
+    parts.append("<div class=caution><b>Cautions.</b> "
+                 + " ".join(_e(c) for c in document.cautions) + "</div>")
+    for section in document.sections:
+        level = min(3, max(2, section.level))
+        parts.append(f"<section class='{'page' if section.new_page else ''}'>"
+                     f"<h{level} class='{_class(section.tone)}'>{_e(section.title)}</h{level}>")
+        parts += [_block(block) for block in section.blocks]
+        parts.append("</section>")
+    parts.append("<h2>Cautions</h2><ul>" + "".join(f"<li>{_e(c)}</li>" for c in document.cautions)
+                 + "</ul></body></html>")
+    return "".join(parts)
