@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import threading
+import time
 
 from rich import box
 from rich.console import Console as _RichConsole
@@ -168,23 +169,18 @@ class TerminalProgress:
             return None
         return _TerminalStep(self, label, total)
 
-    def _add(self, label, total, completed):
+    def _add(self, label, total, completed, started):
         with self._lock:
             if self._progress is None:
-                from rich.progress import (
-                    BarColumn,
-                    MofNCompleteColumn,
-                    Progress,
-                    TextColumn,
-                    TimeElapsedColumn,
-                )
+                from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn
 
                 self._progress = Progress(TextColumn("{task.description}"), BarColumn(),
-                                          MofNCompleteColumn(), TimeElapsedColumn(),
+                                          MofNCompleteColumn(), _since_column(),
                                           console=self.console, transient=True)
                 self._progress.start()
             self._shown += 1
-            return self._progress.add_task(label, total=total, completed=completed)
+            return self._progress.add_task(label, total=total, completed=completed,
+                                           started=started)
 
     def _remove(self, task):
         with self._lock:
@@ -208,12 +204,24 @@ class TerminalProgress:
                 self._shown = 0
 
 
+def _since_column():
+    """The time since the step began (not since its line appeared)."""
+    from rich.progress import ProgressColumn
+
+    class Since(ProgressColumn):
+        def render(self, task):
+            return Text(f"{time.monotonic() - task.fields['started']:.0f} s", style="dim")
+
+    return Since()
+
+
 class _TerminalStep:
     """One step: shown once it has run ``delay_s``; advanced; taken away when done."""
 
     def __init__(self, owner, label, total):
         self.owner, self.label, self.total = owner, label, total
         self.completed = 0
+        self.started = time.monotonic()
         self.task = None
         self.finished = False
         self._lock = threading.Lock()
@@ -224,7 +232,8 @@ class _TerminalStep:
     def _show(self):
         with self._lock:
             if not self.finished:
-                self.task = self.owner._add(self.label, self.total, self.completed)
+                self.task = self.owner._add(self.label, self.total, self.completed,
+                                            self.started)
 
     def advance(self, n=1):
         with self._lock:

@@ -5,10 +5,13 @@ from __future__ import annotations
 
 import io
 import json
+import re
+import sys
 import threading
 import time
 
 import numpy as np
+import pytest
 
 import deviation
 from conftest import SAMPLES, run_cli, straight_wire_plan, write_plan
@@ -222,3 +225,35 @@ def test_independent_circuits_beyond_the_ceilings_are_refused_at_the_circuit_pas
     assert result.exit_code == 2
     assert (f"states row {MAX_INDEPENDENT_CIRCUITS + 2}, switching: {count} independent circuits "
             f"is more than the {MAX_INDEPENDENT_CIRCUITS} a plan may have") in result.stderr
+
+
+@pytest.mark.slow
+@pytest.mark.skipif(sys.platform == "win32", reason="a pseudo-terminal")
+def test_a_long_check_shows_its_progress_on_a_terminal_and_never_in_a_pipe(tmp_path):
+    import os
+    import pty
+    import subprocess
+
+    from conftest import ROOT
+
+    plan = _plan_with(tmp_path / "plan", 20, 60)
+    command = [sys.executable, "-m", "deviation.cli", "check", str(plan)]
+    leader, follower = pty.openpty()
+    process = subprocess.Popen(command, stdout=subprocess.DEVNULL, stderr=follower, cwd=ROOT)
+    os.close(follower)
+    shown = b""
+    while True:
+        try:
+            chunk = os.read(leader, 4096)
+        except OSError:                                  # the terminal's other end closed
+            break
+        if not chunk:
+            break
+        shown += chunk
+    process.wait(timeout=600)
+    os.close(leader)
+    text = re.sub(r"\x1b\[[0-9;?]*[A-Za-z]", "", shown.decode("utf-8", "replace"))
+    assert "remedies for compass, state by state" in text
+    assert re.search(r"\d+/60 \d+ s", text)              # done of total, seconds since the start
+    piped = subprocess.run(command, capture_output=True, text=True, cwd=ROOT, timeout=600)
+    assert piped.returncode == process.returncode and piped.stderr == ""
