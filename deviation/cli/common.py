@@ -263,7 +263,7 @@ class Command(click.Command):
         except OSError as error:
             from ..files import file_error
 
-            raise FileProblem(str(file_error(error, action="read or write"))) from None
+            raise FileProblem(str(file_error(error, action=_action(error, inputs)))) from None
 
     def _into(self, output, ctx):
         from pathlib import Path
@@ -288,6 +288,21 @@ class Command(click.Command):
         return result
 
 
+def _action(error, inputs):
+    """"read" for an error on one of the inputs (or a file in an input folder), else "read or
+    write"."""
+    from pathlib import Path
+
+    name = getattr(error, "filename", None)
+    if name:
+        target = Path(name).absolute()
+        for source in inputs:
+            source = Path(source).absolute()
+            if target == source or source in target.parents:
+                return "read"
+    return "read or write"
+
+
 @contextlib.contextmanager
 def _progress_shown(enabled):
     """Progress lines on stderr while the command runs: only on a terminal, never with --json
@@ -305,6 +320,14 @@ def _progress_shown(enabled):
             yield
     finally:
         reporter.close()
+
+
+class InputPath(click.Path):
+    """A file or folder the command reads. Not tested for existence or access here: the reader
+    says what is wrong with it (a finding, exit 2; a file it may not read, exit 3)."""
+
+    def __init__(self):
+        super().__init__(exists=False, dir_okay=True, readable=False)
 
 
 class OutputPath(click.Path):
@@ -441,7 +464,7 @@ def json_option(command):
     return _json_flag(_output_option(force_option(command)))
 
 
-plan_argument = click.argument("plan", type=click.Path(exists=False, dir_okay=True))
+plan_argument = click.argument("plan", type=InputPath())
 
 
 @click.group(cls=Commands, context_settings={"help_option_names": ["-h", "--help"]})

@@ -6,7 +6,7 @@ from pathlib import Path
 
 import click
 
-from .common import FORCE_KEY, CommandProblem, OutputPath, library_errors, main, remember, say
+from .common import FORCE_KEY, CommandProblem, InputPath, OutputPath, library_errors, main, remember, say
 
 
 @main.command()
@@ -15,7 +15,7 @@ from .common import FORCE_KEY, CommandProblem, OutputPath, library_errors, main,
               show_default=True, help="Length unit of bare numbers in the new plan.")
 @click.option("--force", is_flag=True, callback=remember(FORCE_KEY),
               help="Overwrite PLAN if it exists (even if it is read-only).")
-@click.option("--from", "source", type=click.Path(), default=None,
+@click.option("--from", "source", type=InputPath(), default=None,
               help="Instead of a blank plan, write this plan (e.g. a folder of .csv sheets) as a "
                    "workbook, in its own units, names and notes.")
 @library_errors

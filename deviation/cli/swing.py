@@ -5,6 +5,7 @@ from __future__ import annotations
 import click
 
 from .common import (
+    InputPath,
     OutputPath,
     console_for,
     echo_json,
@@ -20,7 +21,7 @@ from .common import (
 
 @main.command()
 @plan_argument
-@click.argument("readings", type=click.Path(exists=False, dir_okay=True))
+@click.argument("readings", type=InputPath())
 @click.option("--sensor", "sensor_name", required=True, help="The compass that was swung.")
 @click.option("--state", default=None,
               help="The state of readings whose state cell is blank (needed when the plan has "

@@ -7,6 +7,7 @@ import sys
 import click
 
 from .common import (
+    InputPath,
     OutputPath,
     console_for,
     echo_json,
@@ -22,7 +23,7 @@ from .common import (
 
 @main.command("test-results")
 @plan_argument
-@click.argument("readings", type=click.Path(exists=False, dir_okay=True))
+@click.argument("readings", type=InputPath())
 @click.option("--sensor", "sensor_name", default=None,
               help="The sensor watched (default: the sheet's settings).")
 @click.option("--heading", "heading_deg", type=click.FloatRange(0, 360), default=None,

@@ -584,3 +584,20 @@ def test_every_command_states_the_exit_statuses_in_its_help():
         text = " ".join(run_cli(name, "--help").output.split())
         assert "Exit status" in text and "3: a file could not be read or written" in text, name
         assert "130: interrupted" in text, name
+
+
+@pytest.mark.slow
+@pytest.mark.skipif(_without_override() is None, reason="root without setpriv")
+@pytest.mark.parametrize("locked", ["runs.csv", "."], ids=["a sheet", "the plan folder"])
+def test_a_plan_this_user_may_not_read_exits_3_naming_it(locked, tmp_path):
+    plan = write_plan(tmp_path / "plan", straight_wire_plan())
+    target = plan / locked
+    target.chmod(0)
+    try:
+        done = subprocess.run(_without_override() + _cli("check", plan), capture_output=True,
+                              text=True, cwd=ROOT, timeout=120)
+    finally:
+        target.chmod(0o755 if target.is_dir() else 0o644)
+    assert done.returncode == 3
+    line = _assert_one_line(done.stderr, "Error: cannot read ", ": permission denied (EACCES)")
+    assert str(plan / "runs.csv" if locked == "runs.csv" else plan) in line
