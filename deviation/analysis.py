@@ -181,6 +181,27 @@ class Analysis:
 
         return summary_frame(self)
 
+    def verdict_frame(self):
+        """One row per sensor: budget, held figure per state, status (what a notebook shows)."""
+        from .frames import verdict_frame
+
+        return verdict_frame(self)
+
+    def __repr__(self) -> str:
+        parts = []
+        for result in self.sensors:
+            worst = result.worst
+            held = f"{worst.held:.2f}{result.sensor.budget.unit.symbol}"
+            if worst.overwhelmed:
+                held = "overwhelmed"
+            parts.append(f"{result.sensor.name} {result.status.value} ({held} of "
+                         f"{result.sensor.budget} in {worst.state})")
+        verdict = "within budget" if self.within_budget else "over budget"
+        return f"<CheckResult {self.plan.source!r}: {verdict}; {'; '.join(parts)}>"
+
+    def _repr_html_(self) -> str:
+        return self.verdict_frame()._repr_html_()
+
     def runs_frame(self):
         from .frames import runs_frame
 

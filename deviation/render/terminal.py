@@ -87,7 +87,7 @@ def write_document(document, console, *, detail=False):
     detail only with ``detail``), the cautions, and the verdict recapped in the last lines."""
     console.print(Text(document.title, style="bold"))
     for line in document.meta:
-        console.print(Text(line))
+        console.print(Padding(Text(line), (0, 0, 0, 0)))
     for warning in document.warnings:
         console.print(Text(warning, style=STYLE_OF[Tone.WARN]))
     for section in document.sections:
@@ -146,7 +146,7 @@ def _table(block, console):
         table.add_row(*(Text(c.text, style=STYLE_OF[c.tone]) for c in row))
     console.print(table)
     for note in block.notes:
-        console.print(Text("  " + note))
+        console.print(Padding(Text(note), (0, 0, 0, 2)))
 
 
 class TerminalProgress:
