@@ -8,12 +8,15 @@ from pathlib import Path
 import click
 
 from .common import (
+    OutputPath,
     console_for,
     echo_json,
     json_option,
     library_errors,
     main,
     plan_argument,
+    prepare_output,
+    say,
     width_option,
 )
 
@@ -27,7 +30,7 @@ def _slug(name):
 @click.option("--sensor", "sensor_name", default=None, help="Only this sensor (default: all).")
 @click.option("--step", "step_deg", type=click.Choice(["5", "10", "15", "30", "45"]), default="15",
               show_default=True, help="Degrees of magnetic heading between rows.")
-@click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
+@click.option("--plot", "plot_path", type=OutputPath(),
               help="Draw the deviation curves of all states (FILE.png or FILE.svg; with several "
                    "sensors, one file each, named FILE-sensor.png).")
 @json_option
@@ -39,8 +42,6 @@ def card(plan, sensor_name, step_deg, plot_path, as_json, width):
     (after adjustment, for a sensor adjusted in a reference state), with each state's held
     figure. A total-field magnetometer gets its total-field error against heading in nT."""
     from .. import api
-    from ..files import check_output
-
     the_plan = api.read_plan(plan)
     chosen = [the_plan.sensor(sensor_name)] if sensor_name else list(the_plan.sensors)
     targets = []
@@ -49,7 +50,7 @@ def card(plan, sensor_name, step_deg, plot_path, as_json, width):
             Path(plot_path).with_name(f"{Path(plot_path).stem}-{_slug(s.name)}"
                                       f"{Path(plot_path).suffix}") for s in chosen]
         for target in targets:
-            check_output(target, plan)
+            prepare_output(target, plan)
     result = api.check(the_plan, remedies=False)
     made = api.deviation_cards(result, sensor_name, float(step_deg))
     if plot_path:
@@ -67,5 +68,5 @@ def card(plan, sensor_name, step_deg, plot_path, as_json, width):
 
     write_document(document, console_for(width))
     if targets:
-        click.echo(f"Curves written to {targets[0]}" if len(targets) == 1 else
+        say(f"Curves written to {targets[0]}" if len(targets) == 1 else
                    "Curves written: " + ", ".join(str(t) for t in targets))

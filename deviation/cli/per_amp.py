@@ -5,6 +5,7 @@ from __future__ import annotations
 import click
 
 from .common import (
+    OutputPath,
     canonical_unit,
     console_for,
     echo_json,
@@ -13,6 +14,7 @@ from .common import (
     library_errors,
     main,
     plan_argument,
+    say,
     sensor_option,
     unit_option,
     width_option,
@@ -23,7 +25,7 @@ from .common import (
 @plan_argument
 @sensor_option
 @unit_option
-@click.option("--csv", "csv_path", type=click.Path(dir_okay=False),
+@click.option("--csv", "csv_path", type=OutputPath(),
               help="Also write the table as FILE.csv (columns in docs/electronic-sensors.md).")
 @json_option
 @width_option
@@ -42,10 +44,6 @@ def per_amp(plan, sensor_name, unit, csv_path, as_json, width):
     from ..render.electronic import per_ampere_csv, per_ampere_json, render_per_ampere
 
     unit = canonical_unit(unit)
-    if csv_path:
-        from ..files import check_output
-
-        check_output(csv_path, plan)
     analysis, reports = electronic_reports(plan, sensor_name)
     if csv_path:
         from pathlib import Path
@@ -60,4 +58,4 @@ def per_amp(plan, sensor_name, unit, csv_path, as_json, width):
         return
     render_per_ampere(analysis, reports, console_for(width), unit)
     if csv_path:
-        click.echo(f"Table written to {csv_path}")
+        say(f"Table written to {csv_path}")

@@ -6,12 +6,12 @@ import sys
 
 import click
 
-from .common import console_for, echo_json, json_option, library_errors, main, width_option
+from .common import InputPath, console_for, echo_json, json_option, library_errors, main, width_option
 
 
 @main.command()
-@click.argument("old", type=click.Path(exists=False, dir_okay=True))
-@click.argument("new", type=click.Path(exists=False, dir_okay=True))
+@click.argument("old", type=InputPath())
+@click.argument("new", type=InputPath())
 @click.option("--threshold", "threshold_deg", type=click.FloatRange(0, 90), default=1.0,
               show_default=True,
               help="Advise a new swing where the deviation card changes by more than this, "

@@ -7,6 +7,8 @@ import sys
 import click
 
 from .common import (
+    InputPath,
+    OutputPath,
     console_for,
     echo_json,
     json_option,
@@ -14,13 +16,14 @@ from .common import (
     main,
     plan_argument,
     readings_errors,
+    say,
     width_option,
 )
 
 
 @main.command("test-results")
 @plan_argument
-@click.argument("readings", type=click.Path(exists=False, dir_okay=True))
+@click.argument("readings", type=InputPath())
 @click.option("--sensor", "sensor_name", default=None,
               help="The sensor watched (default: the sheet's settings).")
 @click.option("--heading", "heading_deg", type=click.FloatRange(0, 360), default=None,
@@ -35,7 +38,7 @@ from .common import (
               help="Reading resolution of the card, degrees (common practice, no source).")
 @click.option("--fraction", type=click.FloatRange(0, 1), default=0.25, show_default=True,
               help="Share of the predicted change allowed (common practice, no source).")
-@click.option("--report", type=click.Path(dir_okay=False),
+@click.option("--report", type=OutputPath(),
               help="Also write the comparison: FILE.xlsx or FILE.html.")
 @json_option
 @width_option
@@ -58,11 +61,6 @@ def test_results(plan, readings, sensor_name, heading_deg, start_state, adjusted
     from ..aftercare import read_switch_on_results
 
     the_plan = api.read_plan(plan)
-    if report:
-        from ..files import check_output
-
-        check_output(report, plan)
-        check_output(report, readings)
     results = read_switch_on_results(the_plan, readings, sensor=sensor_name,
                                      heading_deg=heading_deg, start_state=start_state,
                                      adjusted=adjusted, resolution_deg=resolution_deg,
@@ -80,5 +78,5 @@ def test_results(plan, readings, sensor_name, heading_deg, start_state, adjusted
 
         render_test_results(results, console_for(width))
         if report:
-            click.echo(f"Report written to {report}")
+            say(f"Report written to {report}")
     sys.exit(0 if results.agrees else 1)

@@ -5,12 +5,14 @@ from __future__ import annotations
 import click
 
 from .common import (
+    OutputPath,
     console_for,
     echo_json,
     json_option,
     library_errors,
     main,
     plan_argument,
+    say,
     width_option,
 )
 
@@ -27,7 +29,7 @@ from .common import (
 @click.option("--adjusted", is_flag=True,
               help="The compass already has its correctors set (or is calibrated) in its "
                    "reference state.")
-@click.option("--sheet", "sheet_path", type=click.Path(dir_okay=False),
+@click.option("--sheet", "sheet_path", type=OutputPath(),
               help="Also write the printable sheet: FILE.xlsx (fill it in and read it back with "
                    "test-results) or FILE.html (to print).")
 @json_option
@@ -48,10 +50,6 @@ def test_sheet(plan, sensor_name, heading_deg, start_state, adjusted, sheet_path
     from ..aftercare import switch_on_test
 
     the_plan = api.read_plan(plan)
-    if sheet_path:
-        from ..files import check_output
-
-        check_output(sheet_path, plan)
     test = switch_on_test(the_plan, sensor_name, heading_deg, start_state, adjusted)
     if sheet_path:
         from ..render.aftercare import write_test_sheet
@@ -66,4 +64,4 @@ def test_sheet(plan, sensor_name, heading_deg, start_state, adjusted, sheet_path
 
     render_test_sheet(test, console_for(width))
     if sheet_path:
-        click.echo(f"Sheet written to {sheet_path}")
+        say(f"Sheet written to {sheet_path}")

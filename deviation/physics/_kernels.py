@@ -12,24 +12,61 @@ operation of a pair after the division) are then kept from the previous segment 
 computed again: the same numbers from the same operands, so the result is bit for bit the one
 of computing them afresh, at one square root per pair instead of two.
 
-The first call in a process without numba's cache for this machine compiles the kernels (several
-seconds); :func:`announce_compiling` says so on a terminal first.
+The first call of a kernel without numba's cache for this machine compiles it (several seconds);
+that call is reported as a step of the library's progress (:mod:`deviation.progress`), which the
+command line shows as one line on a terminal, and nowhere else.
+
+The kernels may be called from several Python threads at once (a server, a notebook running
+searches side by side). numba's ``workqueue`` threading layer, the one it falls back to when
+neither OpenMP nor TBB is installed, aborts the whole process when two threads enter it together
+(numba documentation, "The Threading Layers": only ``tbb`` and ``omp`` are threadsafe), so the
+launches are serialised under that layer and run side by side under the others.
 """
 
-import sys
+import threading
 
+import numba
 import numpy as np
 from numba import njit, prange
+
+from ..progress import step
 
 #: Observers per tile: their coordinates, the kept vertex and the field accumulators stay in the
 #: first-level cache.
 _TILE = 256
 
-#: Said once on a terminal before the kernels are compiled.
-COMPILING_MESSAGE = ("deviation: compiling the field and search kernels for this machine "
-                     "(once, some seconds; later runs load them)...")
+#: The progress step a compiling call is reported as.
+COMPILING_LABEL = "compiling the field and search kernels for this machine (once)"
 
-_announced = False
+_checked: set = set()               # kernels whose cache was looked at in this process
+
+#: numba's threading layers that may be entered from several threads at once.
+THREADSAFE_LAYERS = ("tbb", "omp")
+_LAUNCH = threading.Lock()
+_layer = None                       # the layer numba chose, known after the first launch
+
+
+def _launch(kernel, *args):
+    """Run a parallel kernel; one thread at a time unless numba's layer is threadsafe. The
+    first call of a kernel that will compile it is reported as a progress step."""
+    if kernel not in _checked:
+        _checked.add(kernel)
+        if _needs_compiling(kernel):
+            with step(COMPILING_LABEL, 1) as tick:
+                _run(kernel, *args)
+                tick()
+            return
+    _run(kernel, *args)
+
+
+def _run(kernel, *args):
+    global _layer
+    if _layer in THREADSAFE_LAYERS:
+        kernel(*args)
+        return
+    with _LAUNCH:
+        kernel(*args)
+        _layer = numba.threading_layer()
 
 
 @njit(inline="always", fastmath=False)
@@ -175,9 +212,8 @@ def _kernel(start, end, current, radius2, length2, points, field, inside):  # pr
 
 def segment_field(start, end, current, radius2, length2, points, field, inside):
     """Accumulate the unscaled field (without mu0/4pi) into ``field`` (P, K, 3); set ``inside``."""
-    announce_compiling()
     hit = np.zeros(len(points), dtype=np.bool_)
-    _kernel(start, end, current, radius2, length2, points, field, hit)
+    _launch(_kernel, start, end, current, radius2, length2, points, field, hit)
     inside |= hit
 
 
@@ -230,8 +266,7 @@ def _group_kernel(start, end, weight, group, radius2, length2, points, field,
 
 def segment_field_by_group(start, end, weight, group, radius2, length2, points, field, inside):
     """Accumulate each group's unscaled field into ``field`` (P, G, 3); set ``inside`` (P, G)."""
-    announce_compiling()
-    _group_kernel(start, end, weight, group, radius2, length2, points, field, inside)
+    _launch(_group_kernel, start, end, weight, group, radius2, length2, points, field, inside)
 
 
 # --- the worst switching with heel and pitch: the circle walk of worst_case, compiled -----------
@@ -376,11 +411,10 @@ def _walk_kernel(base, generators, heel, pitch, tolerance, margin, picked):  # p
 
 def best_attitude(base, generators, heel_rad, pitch_rad, tolerance, margin):
     """(B, n) bool: the switching of worst_case._best_attitude, found by the compiled walk."""
-    announce_compiling()
     picked = np.zeros(generators.shape[:2], dtype=np.bool_)
-    _walk_kernel(np.ascontiguousarray(base, dtype=np.float64),
-                 np.ascontiguousarray(generators, dtype=np.float64), float(heel_rad),
-                 float(pitch_rad), float(tolerance), float(margin), picked)
+    _launch(_walk_kernel, np.ascontiguousarray(base, dtype=np.float64),
+            np.ascontiguousarray(generators, dtype=np.float64), float(heel_rad),
+            float(pitch_rad), float(tolerance), float(margin), picked)
     return picked
 
 
@@ -393,22 +427,3 @@ def _needs_compiling(dispatcher) -> bool:
     except Exception:                  # another numba's internals: say nothing rather than wrong
         return False
     return not any(key[1] == magic for key in index)
-
-
-def announce_compiling(stream=None) -> bool:
-    """Say on one line of ``stream`` (standard error) that the kernels are about to be compiled,
-    once per process, and only when it is a terminal: never into a pipe, a file or JSON, and
-    never on standard output. Returns whether it said so."""
-    global _announced
-    stream = sys.stderr if stream is None else stream
-    if _announced:
-        return False
-    _announced = True
-    if not (getattr(stream, "isatty", None) and stream.isatty()):
-        return False
-    if not any(_needs_compiling(kernel) for kernel in (_kernel, _group_kernel,
-                                                        _walk_kernel)):
-        return False
-    stream.write(COMPILING_MESSAGE + "\n")
-    stream.flush()
-    return True

@@ -18,6 +18,7 @@ import numpy as np
 from .. import __version__
 from ..aftercare import NO_VISIBLE_CHANGE_DEG, SETTINGS_SHEET, TEST_SHEET
 from ..physics.swing import COEFFICIENTS
+from ..text import xlsx_value
 from .words import CAUTIONS
 
 #: What the read-back thresholds rest on, said on every sheet that uses them.
@@ -96,12 +97,12 @@ def _xlsx(title, meta, blocks, settings=None):
         first = False
         sheet.title = block.sheet[:31]
         for c, name in enumerate(block.headers, start=1):
-            cell = sheet.cell(row=1, column=c, value=name)
+            cell = sheet.cell(row=1, column=c, value=xlsx_value(name))
             cell.font, cell.fill, cell.border = bold, fill, box
             cell.alignment = Alignment(wrap_text=True, vertical="top")
         for r, values in enumerate(block.rows, start=2):
             for c, value in enumerate(values, start=1):
-                cell = sheet.cell(row=r, column=c, value=value)
+                cell = sheet.cell(row=r, column=c, value=xlsx_value(value))
                 if isinstance(value, str):
                     cell.data_type = "s"             # names stay text, never a formula
                 cell.border = box
@@ -115,27 +116,27 @@ def _xlsx(title, meta, blocks, settings=None):
             sheet.column_dimensions[sheet.cell(row=1, column=c).column_letter].width = min(
                 max(10, longest + 2), 60)
         sheet.freeze_panes = "A2"
-        sheet.oddHeader.center.text = f"{title}: {block.title}"
+        sheet.oddHeader.center.text = xlsx_value(f"{title}: {block.title}")
         sheet.page_setup.orientation = "landscape"
         sheet.page_setup.fitToWidth = 1
         sheet.print_title_rows = "1:1"
     if settings:
         sheet = book.create_sheet(SETTINGS_SHEET[:31])
         for c, name in enumerate(("setting", "value"), start=1):
-            cell = sheet.cell(row=1, column=c, value=name)
+            cell = sheet.cell(row=1, column=c, value=xlsx_value(name))
             cell.font, cell.fill = bold, fill
         for r, (name, value) in enumerate(settings, start=2):
-            sheet.cell(row=r, column=1, value=name).data_type = "s"
-            cell = sheet.cell(row=r, column=2, value=value)
+            sheet.cell(row=r, column=1, value=xlsx_value(name)).data_type = "s"
+            cell = sheet.cell(row=r, column=2, value=xlsx_value(value))
             if isinstance(value, str):
                 cell.data_type = "s"
         sheet.column_dimensions["A"].width = 24
         sheet.column_dimensions["B"].width = 60
     notes = book.create_sheet("notes")
-    notes.cell(row=1, column=1, value=title).font = Font(bold=True, size=13)
+    notes.cell(row=1, column=1, value=xlsx_value(title)).font = Font(bold=True, size=13)
     lines = list(meta) + [""] + [n for b in blocks for n in b.notes] + [""] + list(CAUTIONS)
     for r, line in enumerate(lines, start=2):
-        cell = notes.cell(row=r, column=1, value=line)
+        cell = notes.cell(row=r, column=1, value=xlsx_value(line))
         cell.data_type = "s"
         cell.alignment = Alignment(wrap_text=True)
     notes.column_dimensions["A"].width = 110

@@ -97,12 +97,15 @@ def per_ampere_records(reports, unit):
 
 
 def per_ampere_csv(reports, unit) -> str:
-    """The per-ampere table as CSV text (header CSV_COLUMNS)."""
+    """The per-ampere table as CSV text (header CSV_COLUMNS); text that a spreadsheet would run
+    as a formula gets a leading ' (:func:`deviation.text.csv_cell`), numbers stay numbers."""
+    from ..text import csv_cell
+
     out = io.StringIO()
     writer = csv.DictWriter(out, fieldnames=CSV_COLUMNS, lineterminator="\n")
     writer.writeheader()
     for record in per_ampere_records(reports, unit):
-        writer.writerow({k: "" if v is None else v for k, v in record.items()})
+        writer.writerow({k: "" if v is None else csv_cell(v) for k, v in record.items()})
     return out.getvalue()
 
 
@@ -195,9 +198,11 @@ def electronic_json(analysis, reports, unit):
         else:
             grade = report.grade
             item["grade"] = None if grade is None else {
-                "grade": grade.grade, "percent_of_total_field": _round(grade.fraction * 100, 4),
-                "state": grade.state,
-                "words": words.interference_words(grade.grade, grade.fraction, grade.state)}
+                "standing": grade.standing.value, "held_deg": _round(grade.held, 4),
+                "state": grade.state, "compensated_deg": _round(grade.compensated, 4),
+                "compensated_state": grade.compensated_state,
+                "percent_of_total_field": _round(grade.fraction * 100, 4),
+                "loudest_state": grade.fraction_state, "words": words.standing_words(grade)}
             item["states"] = [{
                 "state": s.state, "used": s.used,
                 "interference": _round(_in(s.interference_t, unit), 6),
@@ -232,10 +237,10 @@ def render_electronic(analysis, reports, console, unit):
             continue
         grade = report.grade
         if grade is not None:
-            style = {"acceptable": "green", "marginal": "yellow", "move": "bold red"}[grade.grade]
-            console.print(f"[{style}]{grade.grade.upper()}[/{style}]: "
-                          + escape(words.interference_words(grade.grade, grade.fraction,
-                                                            grade.state)))
+            style = {"within": "green", "within compensated": "yellow",
+                     "over": "bold red"}[grade.standing.value]
+            console.print(f"[{style}]{escape(grade.standing.value.upper())}[/{style}]: "
+                          + escape(words.standing_words(grade)))
         comp = report.compensation
         table = Table(box=_box(console))
         columns = ["state", f"interference [{label}]", "% of F"]
@@ -265,7 +270,7 @@ def render_electronic(analysis, reports, console, unit):
                       f"{', compensated' if comp is not None else ''}) within "
                       f"{_in(MODEL_FIELD_TOLERANCE_T, unit):g} {label} of the model's total field "
                       f"and {MODEL_INCLINATION_TOLERANCE_DEG:g}° of its inclination, over every "
-                      "heading and attitude (common practice, from memory).")
+                      "heading and attitude (rule of thumb, no published source).")
     console.print()
     for caution in CAUTIONS:
         console.print(f"[dim]{caution}[/dim]")

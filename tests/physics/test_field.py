@@ -364,38 +364,45 @@ def test_a_vertex_kept_from_the_segment_before_gives_the_same_bits_as_computed_a
     np.testing.assert_allclose(summed, together.sum(axis=1), rtol=1e-12, atol=1e-20)
 
 
-class _Terminal:
-    """A stream that says it is a terminal, keeping what is written."""
+class _Reporter:
+    """A progress reporter (deviation.progress) keeping the steps started and finished."""
 
-    def __init__(self, tty=True):
-        self.tty, self.text = tty, ""
+    def __init__(self):
+        self.steps = []
 
-    def isatty(self):
-        return self.tty
+    def start(self, label, total):
+        self.steps.append([label, total, 0, False])
+        record = self.steps[-1]
 
-    def write(self, text):
-        self.text += text
+        class Handle:
+            def advance(self, n=1):
+                record[2] += n
 
-    def flush(self):
-        pass
+            def done(self):
+                record[3] = True
+
+        return Handle()
 
 
 @pytest.mark.compiled
-def test_the_first_compile_is_said_once_on_one_line_on_a_terminal_only(monkeypatch):
+def test_a_call_that_compiles_is_reported_once_as_a_progress_step(monkeypatch, capsys):
+    # The library never prints: a compiling call is a progress step (which the command line
+    # draws as one line on a terminal only), reported once per kernel and process.
+    from deviation import progress
     from deviation.physics import _kernels
 
     monkeypatch.setattr(_kernels, "_needs_compiling", lambda kernel: True)
-    for tty, said in ((False, ""), (True, _kernels.COMPILING_MESSAGE + "\n")):
-        monkeypatch.setattr(_kernels, "_announced", False)
-        stream = _Terminal(tty)
-        _kernels.announce_compiling(stream)
-        _kernels.announce_compiling(stream)                 # once per process
-        assert stream.text == said
-    assert said.count("\n") == 1
-    # Nothing is said when numba's cache already holds the kernels for this machine.
-    monkeypatch.setattr(_kernels, "_announced", False)
-    monkeypatch.undo()
+    monkeypatch.setattr(_kernels, "_checked", set())
+    reporter = _Reporter()
+    with progress.reporting(reporter):
+        for _ in range(2):
+            segment_field([[0, 0, 0.0]], [[1, 0, 0.0]], [1.0], [[0, 1, 0.0]], backend="compiled")
+    assert reporter.steps == [[_kernels.COMPILING_LABEL, 1, 1, True]]
+    monkeypatch.setattr(_kernels, "_checked", set())
     segment_field([[0, 0, 0.0]], [[1, 0, 0.0]], [1.0], [[0, 1, 0.0]], backend="compiled")
+    assert capsys.readouterr() == ("", "")                 # no reporter: nothing anywhere
+    # Nothing is reported when numba's cache already holds the kernels for this machine.
+    monkeypatch.undo()
     assert not _kernels._needs_compiling(_kernels._kernel)
 
 
