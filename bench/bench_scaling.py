@@ -26,11 +26,16 @@ from synthetic import write_plan  # noqa: E402
 
 
 def segments_of(folder):
-    """Routed segments of a plan, run by run (so counting never holds the whole plan)."""
+    """Routed segments of a plan, run by run (so counting never holds the whole plan); None
+    when the reader refuses the plan (the check will say why)."""
     from deviation.physics.routing import route_runs
+    from deviation.plan import PlanError
     from deviation.reader import read_plan
 
-    plan = read_plan(folder)
+    try:
+        plan = read_plan(folder)
+    except PlanError:
+        return None
     return sum(len(route_runs([run.geometry])) for run in plan.runs)
 
 
@@ -53,9 +58,12 @@ def main():
             segments = segments_of(folder)
             cpu, wall, peak, code, _, err = run_child(
                 [sys.executable, "-m", "deviation.cli", "check", str(folder), "--json"])
-            note = "" if code in (0, 1) else "  refused: " + (err.strip().splitlines() or [""])[-1]
-            print(f"{n:>6}{segments:>12,}{cpu:>9.2f}{wall:>9.2f}{peak:>9.0f}{code:>6}{note}")
-            if code in (0, 1):
+            lines = err.strip().splitlines() or [""]
+            note = "" if code in (0, 1) else "  refused: " + next(
+                (line.strip() for line in lines if "segments" in line), lines[-1])
+            shown = "-" if segments is None else f"{segments:,}"
+            print(f"{n:>6}{shown:>12}{cpu:>9.2f}{wall:>9.2f}{peak:>9.0f}{code:>6}{note}")
+            if code in (0, 1) and segments is not None:
                 ran.append((n, segments, cpu, peak))
     if len(ran) >= 2:
         runs, segments, cpu, peak = (np.array(v, float) for v in zip(*ran))
