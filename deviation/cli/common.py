@@ -68,6 +68,30 @@ width_option = click.option("--width", type=click.IntRange(60, 400), default=Non
 json_option = click.option("--json", "as_json", is_flag=True,
                            help="Print the result as JSON on stdout, and nothing else.")
 plan_argument = click.argument("plan", type=click.Path(exists=False, dir_okay=True))
+report_option = click.option("--report", type=click.Path(dir_okay=False),
+                             help="Also write a printable report: FILE.xlsx, FILE.html or "
+                                  "FILE.pdf.")
+
+
+def write_outputs(document, report, plan_path, as_json, width, written=()):
+    """The end of a command: the report written (if asked for), then the document as JSON or on
+    the terminal, and a line for each file written.
+
+    ``written`` lists further (path, what) pairs the command wrote itself.
+    """
+    if report:
+        from ..render.reports import write_report
+
+        write_report(document, report, plan_path)
+    if as_json:
+        echo_json(document.data)
+        return
+    from ..render.terminal import write_document
+
+    write_document(document, console_for(width))
+    for target, what in (*written, (report, "Report")):
+        if target:
+            click.echo(f"{what} written to {target}")
 
 
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})

@@ -48,14 +48,17 @@ class Cell:
     tone: Tone = Tone.PLAIN
     prefix: str = ""
     suffix: str = ""
+    signed: bool = False             # "+" before a positive number, as a change is written
 
     @property
     def numeric(self) -> bool:
         return isinstance(self.value, (int, float)) and not isinstance(self.value, bool)
 
 
-def cell(value, digits=None, *, tone=Tone.PLAIN, prefix="", suffix="", text=None) -> Cell:
-    """A cell for a number shown with ``digits`` decimals (or a text), never "-0.00"."""
+def cell(value, digits=None, *, tone=Tone.PLAIN, prefix="", suffix="", text=None,
+         signed=False) -> Cell:
+    """A cell for a number shown with ``digits`` decimals (or a text), never "-0.00";
+    ``signed``: a positive number shown with "+" (a change)."""
     if value is None:
         return Cell(text if text is not None else "", None, None, tone)
     if isinstance(value, str):
@@ -64,8 +67,12 @@ def cell(value, digits=None, *, tone=Tone.PLAIN, prefix="", suffix="", text=None
         shown = f"{value:.{digits}f}" if digits is not None else f"{value:g}"
         if shown.startswith("-") and float(shown) == 0:
             shown = shown[1:]
+        if signed and float(shown) == 0:
+            value = 0.0                   # a spreadsheet then shows it unsigned too
+        elif signed and not shown.startswith("-"):
+            shown = "+" + shown
         text = f"{prefix}{shown}{suffix}"
-    return Cell(text, float(value), digits, tone, prefix, suffix)
+    return Cell(text, float(value), digits, tone, prefix, suffix, signed)
 
 
 @dataclass(frozen=True)
@@ -152,6 +159,7 @@ class Document:
     cautions : what the figures cannot replace, on every report
     data : the machine-readable result, as ``--json`` prints it
     stamp : when and by what it was made, printed on paper only
+    landscape : its tables are wide: paper prints it turned sideways
     """
 
     kind: str
@@ -163,3 +171,4 @@ class Document:
     recap: tuple[Paragraph, ...] = ()
     data: dict = field(default_factory=dict, compare=False)
     stamp: str = ""                   # when and by what it was made (paper only)
+    landscape: bool = False           # wide tables: paper turned sideways

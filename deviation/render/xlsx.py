@@ -4,6 +4,7 @@ print them, and every sheet prints on paper (landscape, fit to width, header row
 from __future__ import annotations
 
 import re
+from dataclasses import replace
 
 from .model import Bullets, Chart, Paragraph, Table, Tone
 
@@ -41,6 +42,9 @@ def number_format(cell) -> str | None:
     def literal(text):
         return f'"{text}"' if text else ""
 
+    if cell.signed:                       # +1.20, -1.20, and zero unsigned
+        return ";".join(f"{literal(cell.prefix)}{sign}{body}{literal(cell.suffix)}"
+                        for sign in ("+", "-", ""))
     return f"{literal(cell.prefix)}{body}{literal(cell.suffix)}"
 
 
@@ -116,15 +120,23 @@ def workbook(document):
             line(note, Tone.MUTED)
         state["row"] += 1
 
-    line(document.title, Tone.STRONG, size=14)
-    for text in document.meta + ((document.stamp,) if document.stamp else ()):
-        line(text)
-    for warning in document.warnings:
-        line(warning, Tone.WARN, bold=True)
-    state["row"] += 1
-    for paragraph in document.recap:
-        line(("    " * paragraph.indent) + paragraph.text, paragraph.tone)
-    state["row"] += 1
+    def heading():
+        line(document.title, Tone.STRONG, size=14)
+        for text in document.meta + ((document.stamp,) if document.stamp else ()):
+            line(text)
+        for warning in document.warnings:
+            line(warning, Tone.WARN, bold=True)
+        state["row"] += 1
+        for paragraph in document.recap:
+            line(("    " * paragraph.indent) + paragraph.text, paragraph.tone)
+        state["row"] += 1
+
+    # A workbook that opens on a sheet to fill in or read back (a table, header in row 1) keeps
+    # its heading, notes and cautions on a last sheet; any other opens on its heading.
+    opens_on_data = bool(document.sections) and is_data_sheet(document.sections[0])
+    if not opens_on_data:
+        heading()
+    later: list[str] = []
     first = True
     for section in document.sections:
         if section.sheet and first:
@@ -132,11 +144,17 @@ def workbook(document):
         elif section.sheet:
             new_sheet(section.sheet)
         first = False
-        data_sheet = (section.sheet and len(section.blocks) == 1
-                      and isinstance(section.blocks[0], Table) and not section.blocks[0].title)
-        if not data_sheet:      # a sheet of one untitled table starts with its header row
-            line(section.title, section.tone, bold=True,
-                 size=12 if section.level <= 2 else 11)
+        if is_data_sheet(section):
+            sheet = state["sheet"]
+            sheet.oddHeader.center.text = f"{document.title}: {section.title}"
+            block = section.blocks[0]
+            if opens_on_data:         # its notes go to the last sheet, below nothing to read
+                table(replace(block, notes=()))
+                later += block.notes
+            else:
+                table(block)
+            continue
+        line(section.title, section.tone, bold=True, size=12 if section.level <= 2 else 11)
         for block in section.blocks:
             if isinstance(block, Paragraph):
                 line(("    " * block.indent) + block.text, block.tone)
@@ -148,7 +166,13 @@ def workbook(document):
             elif isinstance(block, Chart):
                 continue                              # pictures are in the html and pdf
         state["row"] += 1
-    new_sheet("cautions")
+    new_sheet("notes" if opens_on_data else "cautions")
+    if opens_on_data:
+        heading()
+        for note in later:
+            put(1, note, wrap=True)
+            state["row"] += 1
+        state["row"] += 1
     line("Cautions", Tone.STRONG, size=12)
     for caution in document.cautions:
         put(1, caution, wrap=True)
@@ -156,6 +180,13 @@ def workbook(document):
     state["widths"][1] = 110
     _finish(state)
     return book
+
+
+def is_data_sheet(section) -> bool:
+    """A worksheet holding one untitled table, its header in row 1 (a sheet to fill in, or one a
+    program reads back)."""
+    return bool(section.sheet and len(section.blocks) == 1
+                and isinstance(section.blocks[0], Table) and not section.blocks[0].title)
 
 
 def _finish(state):
