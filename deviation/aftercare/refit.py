@@ -82,6 +82,19 @@ class Refit:
         return any(s.swing_advised for s in self.states) or any(n.advises_swing
                                                                   for n in self.notes)
 
+    def to_frame(self):
+        """One row per sensor and state: the held figures before and after (in the budget's
+        unit, named in ``unit``), the level deviation before and after and the card change
+        [deg], and whether a new swing is advised."""
+        import pandas
+
+        return pandas.DataFrame([{
+            "sensor": st.sensor, "state": st.state, "used": st.used,
+            "held_before": st.held_before, "held_after": st.held_after, "unit": st.unit.value,
+            "level_before_deg": st.level_before_deg, "level_after_deg": st.level_after_deg,
+            "card_change_deg": st.card_change_deg, "swing_advised": st.swing_advised}
+            for st in self.states])
+
 
 def _level_deg(st, seen_t, horizontal_t):
     """The level deviation a state shows, largest over headings: the residual's where the

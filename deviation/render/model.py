@@ -67,8 +67,8 @@ def cell(value, digits=None, *, tone=Tone.PLAIN, prefix="", suffix="", text=None
         shown = f"{value:.{digits}f}" if digits is not None else f"{value:g}"
         if shown.startswith("-") and float(shown) == 0:
             shown = shown[1:]
-        if signed and float(shown) == 0:
-            value = 0.0                   # a spreadsheet then shows it unsigned too
+        if float(shown) == 0:
+            value = 0.0                   # a spreadsheet shows it as the text does: no "-0.00"
         elif signed and not shown.startswith("-"):
             shown = "+" + shown
         text = f"{prefix}{shown}{suffix}"

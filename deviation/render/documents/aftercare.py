@@ -352,11 +352,6 @@ CHANGE_WORDS = {
 }
 
 
-def _arrow(before, after, unit, digits=2):
-    return cell(after, digits, text=f"{words.figure_text(before, unit)} → "
-                                    f"{words.figure_text(after, unit)}")
-
-
 def refit_document(result) -> Document:
     """``deviation refit``: per sensor and state how the figures and the card change, what
     causes it, and whether a new swing is advised."""
@@ -366,12 +361,14 @@ def refit_document(result) -> Document:
         tone = Tone.BAD if st.swing_advised else (Tone.GOOD if st.used else Tone.MUTED)
         advised = "ADVISED" if st.swing_advised else "no"
         rows.append((cell(st.sensor), cell(st.state + ("" if st.used else " (not used)")),
-                     _arrow(st.held_before, st.held_after, unit),
-                     _arrow(st.level_before_deg, st.level_after_deg, Unit.DEGREES),
+                     figure(st.held_before, unit), figure(st.held_after, unit),
+                     figure(st.level_before_deg, Unit.DEGREES),
+                     figure(st.level_after_deg, Unit.DEGREES),
                      cell(st.card_change_deg, 2, suffix="°", tone=tone),
                      Cell(advised, advised, None, tone)))
     columns = (Column("sensor", wrap=True), Column("state", wrap=True),
-               Column("held", numeric=True), Column("level", numeric=True),
+               Column("held before", numeric=True), Column("held after", numeric=True),
+               Column("level before", numeric=True), Column("level after", numeric=True),
                Column("card change", numeric=True), Column("new swing"))
     blocks: list = [Paragraph(
         "held: each plan's own figure held against the budget (the new one as if adjusted "

@@ -58,7 +58,7 @@ def _total_field_blocks(report):
     sensor = report.sensor
     low_fom, high_fom = SURVEY_FIGURE_OF_MERIT_NT
     columns = (Column("state", wrap=True), Column("largest nT", numeric=True),
-               Column("smallest nT", numeric=True), Column("held |error| nT", numeric=True),
+               Column("smallest nT", numeric=True), Column("held nT", numeric=True),
                Column("heading peak to peak nT", numeric=True),
                Column("of which bounds nT", numeric=True), Column("verdict"))
     rows = []
@@ -92,7 +92,7 @@ def _vector_blocks(report, unit):
     columns = [Column("state", wrap=True), Column(f"interference {label}", numeric=True),
                Column("% of F", numeric=True)]
     if comp is not None:
-        columns += [Column(f"compensated |b_h| {label}", numeric=True),
+        columns += [Column(f"compensated horizontal {label}", numeric=True),
                     Column("compensated °", numeric=True),
                     Column("compensated % of F", numeric=True),
                     Column(f"± unknown {label}", numeric=True)]
@@ -135,7 +135,7 @@ def electronic_verdict(report):
         used = [s for s in report.state_results if s.used] or list(report.state_results)
         worst = max(used, key=lambda s: s.held)
         figure = cell(worst.held, 2, suffix=" nT", tone=TONE_OF[worst.status])
-        what = f"held |error| in {worst.state}"
+        what = f"held in {worst.state}"
     else:
         grade = report.grade
         tone = GRADE_TONE[grade.grade] if grade is not None else Tone.PLAIN
@@ -143,7 +143,10 @@ def electronic_verdict(report):
                   else Cell("—", None))
         what = f"interference in {grade.state}, {grade.grade}" if grade is not None else ""
     status = Status.WITHIN if is_acceptable(report) else Status.OVER
-    verdict = "acceptable" if status is Status.WITHIN else "not acceptable"
+    if sensor.kind == TOTAL_FIELD_KIND:
+        verdict = "within budget" if status is Status.WITHIN else "over budget"
+    else:
+        verdict = "acceptable" if status is Status.WITHIN else "not acceptable"
     return figure, what, status, verdict
 
 
@@ -169,9 +172,10 @@ def _recap(reports, noun="sensor"):
             bad.append(report.sensor.name)
         lines.append(Paragraph(f"{report.sensor.name}: {verdict} — {figure.text}"
                                + (f" ({what})" if what else ""), TONE_OF[status], indent=1))
-    head = (f"Verdict: every electronic {noun} acceptable." if not bad else
+    head = (f"Verdict: every electronic {noun} acceptable (a total-field magnetometer: within "
+            "its budget)." if not bad else
             f"Verdict: {len(bad)} of {len(reports)} electronic {noun}"
-            f"{'s' if len(reports) != 1 else ''} not acceptable.")
+            f"{'s' if len(reports) != 1 else ''} not acceptable or over budget.")
     return (Paragraph(head, Tone.GOOD if not bad else Tone.BAD), *lines)
 
 
