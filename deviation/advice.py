@@ -13,7 +13,7 @@ import numpy as np
 
 from .budget import RunParts, circuit_currents, equipment_fields, parts_of_runs, sensor_figures
 from .constants import ISO25862_BIPOLAR_RADIUS_M
-from .electronic import electronic_states, interference_grade
+from .electronic import Standing, electronic_sensor
 from .physics.routing import hint_lay_m
 from .schema import VECTOR_ELECTRONIC_KINDS
 from .spot import search_box_around
@@ -83,7 +83,8 @@ class RuleFinding:
 
     ``rule`` is the finding's id; ``subject`` the run or item it is about; ``distance_m`` how far
     it is from the sensor; ``limit_m`` the distance the rule or label asks for; ``fraction`` a
-    share of the Earth's field where the rule is about that.
+    share of the Earth's field where the rule is about that; ``figure`` and ``within`` a
+    computed figure (budget's unit) and whether it is within the sensor's budget.
     """
 
     sensor: str | None
@@ -94,6 +95,8 @@ class RuleFinding:
     limit_m: float | None = None
     fraction: float | None = None
     label: str | None = None
+    figure: float | None = None
+    within: bool | None = None
 
 
 # Rule findings ------------------------------------------------------------------------------------
@@ -105,9 +108,8 @@ RULE_SOURCES = {
     "unknown-safe-distance": "ISO 25862 Annex E: items of unknown safe distance kept at least "
                              "5 m away",
     "inside-safe-distance": "IEC 60945 compass safe distance",
-    "magnetometer-share": "common practice in open-source flight-controller documentation, from "
-                          "memory: under 30 % of the Earth's field acceptable, 30-60 % marginal, "
-                          "over 60 % move the sensor",
+    "compensation": "computed: the least-squares current compensation the host can learn from "
+                    "the currents the plan says it measures",
 }
 
 
@@ -134,12 +136,14 @@ def rule_findings(analysis) -> tuple[RuleFinding, ...]:
                 found.append(RuleFinding(sensor.name, None, "inside-safe-distance", item.name,
                                          distance, item.safe_distance_m,
                                          label=item.safe_distance_for))
-        if sensor.kind in VECTOR_ELECTRONIC_KINDS:
-            # The interference at full current graded as a share of F (electronic.grade_of).
-            grade = interference_grade(electronic_states(plan, result, analysis.site, None))
-            if grade is not None and grade.grade != "acceptable":
-                found.append(RuleFinding(sensor.name, grade.state, "magnetometer-share",
-                                         fraction=grade.fraction, label=grade.grade))
+        if sensor.kind in VECTOR_ELECTRONIC_KINDS and sensor.measured_currents and \
+                not result.within_budget:
+            # Over as installed: would the host's current compensation bring it within?
+            grade = electronic_sensor(analysis, result).grade
+            if grade is not None and grade.compensated is not None:
+                found.append(RuleFinding(sensor.name, grade.compensated_state, "compensation",
+                                         figure=grade.compensated,
+                                         within=grade.standing is Standing.WITHIN_COMPENSATED))
     return tuple(found)
 
 

@@ -22,10 +22,11 @@ from .budget import (
     run_fields_at,
     sensor_figures,
 )
+from .errors import Problem
 from .physics import heading
 from .physics.routing import Conductors, route_runs
 from .physics.total_field import total_field_error_range
-from .plan import Plan, Sensor, conductors_of, frozen_array
+from .plan import Finding, Plan, PlanError, Sensor, conductors_of, frozen_array
 from .quantities import Status, status_of
 from .sitefield import SiteField, site_field
 
@@ -174,6 +175,27 @@ class Analysis:
 
         return summary_frame(self)
 
+    def verdict_frame(self):
+        """One row per sensor: budget, held figure per state, status (what a notebook shows)."""
+        from .frames import verdict_frame
+
+        return verdict_frame(self)
+
+    def __repr__(self) -> str:
+        parts = []
+        for result in self.sensors:
+            worst = result.worst
+            held = f"{worst.held:.2f}{result.sensor.budget.unit.symbol}"
+            if worst.overwhelmed:
+                held = "overwhelmed"
+            parts.append(f"{result.sensor.name} {result.status.value} ({held} of "
+                         f"{result.sensor.budget} in {worst.state})")
+        verdict = "within budget" if self.within_budget else "over budget"
+        return f"<CheckResult {self.plan.source!r}: {verdict}; {'; '.join(parts)}>"
+
+    def _repr_html_(self) -> str:
+        return self.verdict_frame()._repr_html_()
+
     def runs_frame(self):
         from .frames import runs_frame
 
@@ -313,8 +335,47 @@ def _one(parts: RunParts, i: int) -> RunParts:
                     parts.nearest_m[i:i + 1], parts.inside[i:i + 1])
 
 
+def check_sensors_outside_conductors(plan: Plan) -> None:
+    """A sensor inside a conductor of the plan as routed is a modelling error, reported as a
+    located finding (the field there is not the field of a line current).
+
+    Raises
+    ------
+    PlanError
+        With one finding per such sensor, at its row and ``at`` column.
+    """
+    from .physics.field import point_segment_distance
+
+    conductors = conductors_of(plan)
+    if not len(conductors) or not plan.sensors:
+        return
+    positions = np.array([s.position_m for s in plan.sensors])
+    distance = point_segment_distance(conductors.start_m, conductors.end_m, positions)
+    inside = distance <= conductors.radius_m[None, :]
+    findings = []
+    for i, sensor in enumerate(plan.sensors):
+        if not inside[i].any():
+            continue
+        s = int(np.argmax(inside[i]))
+        run = plan.runs[conductors.run_index[s]]
+        findings.append(Finding(
+            plan.source, "sensors", sensor.row, "at", f'sensor "{sensor.name}" lies inside run '
+            f'"{run.name}" ({distance[i, s] * 1000:.1f} mm from a conductor\'s axis, radius '
+            f"{conductors.radius_m[s] * 1000:.1f} mm); move the sensor or the run",
+            Problem.INCONSISTENT))
+    if findings:
+        raise PlanError(findings)
+
+
 def analyse(plan: Plan) -> Analysis:
-    """Compute the deviation budget of every sensor in every state."""
+    """Compute the deviation budget of every sensor in every state.
+
+    Raises
+    ------
+    PlanError
+        A sensor lies inside a conductor (:func:`check_sensors_outside_conductors`).
+    """
+    check_sensors_outside_conductors(plan)
     site = site_field(plan.site)
     positions = np.array([s.position_m for s in plan.sensors]).reshape(-1, 3)
     parts = parts_at(plan, positions)

@@ -120,6 +120,25 @@ def site_field(latitude_deg: float, longitude_deg: float, date=None,
     return model_field(latitude_deg, longitude_deg, date, altitude_m)
 
 
+def electronic_figures(plan_or_result: Plan | Analysis, sensor: str | None = None):
+    """Every electronic compass's and magnetometer's figures (per ampere, compensation, grade,
+    model check; total-field error for a scalar one), each with ``to_frame()`` and
+    ``per_ampere_frame()``; ``sensor`` limits them to one."""
+    from .electronic import electronic_report
+
+    analysis = (plan_or_result if isinstance(plan_or_result, Analysis)
+                else check(plan_or_result, remedies=False))
+    return electronic_report(analysis, sensor)
+
+
+def operating_area(plan: Plan):
+    """The plan at every place of its operating area (the site sheet's place rows), with
+    ``to_frame()``: where each sensor's figure is worst."""
+    from .area import area_check
+
+    return area_check(plan)
+
+
 def to_json(result: CheckResult) -> dict:
     """A check's result as the JSON document ``check --json`` prints (docs/plan-format.md)."""
     from .render.json_out import analysis_json

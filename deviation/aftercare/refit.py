@@ -9,6 +9,7 @@ import numpy as np
 
 from .. import checking
 from ..budget import asin_deg, item_effect
+from ..errors import InputError, Problem
 from ..physics import heading
 from ..plan import Plan, frozen_array, name_key
 from ..quantities import Unit
@@ -140,6 +141,32 @@ def _item_differences(old, new):
     return how
 
 
+def _check_comparable(old: Plan, new: Plan) -> None:
+    """Two plans with no sensor or no state in common have nothing to compare: saying "no new
+    swing is needed" of them would be a figure that flatters. Raises :class:`InputError`."""
+    shared = {what: {name_key(n) for n in a} & {name_key(n) for n in b} for what, a, b in (
+        ("sensor", [s.name for s in old.sensors], [s.name for s in new.sensors]),
+        ("state", old.state_names, new.state_names))}
+    if all(shared.values()):
+        return
+    lacking = " and no ".join(what for what, common in shared.items() if not common)
+    listed = "; ".join(f"{what}s earlier: {', '.join(earlier) or 'none'}, now: "
+                       f"{', '.join(now) or 'none'}"
+                       for what, earlier, now in (
+                           ("sensor", [s.name for s in old.sensors], [s.name for s in new.sensors]),
+                           ("state", old.state_names, new.state_names))
+                       if not shared[what])
+    sites = ""
+    a, b = old.site, new.site
+    if None not in (a.latitude_deg, a.longitude_deg, b.latitude_deg, b.longitude_deg) and (
+            abs(a.latitude_deg - b.latitude_deg) > 1 or abs(a.longitude_deg - b.longitude_deg) > 1):
+        sites = (f", and their sites lie apart ({a.latitude_deg:g}, {a.longitude_deg:g} and "
+                 f"{b.latitude_deg:g}, {b.longitude_deg:g})")
+    raise InputError(f"the two plans share no {lacking} ({listed}){sites}: they look like two "
+                     "different installations, and a refit compares a plan with its own earlier "
+                     "version; nothing was compared", kind=Problem.INCONSISTENT)
+
+
 def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> Refit:
     """Compare a plan with its earlier version: per sensor and state, how the figures and the
     deviation card change, which runs and items cause it, and whether a new swing is due.
@@ -156,6 +183,12 @@ def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> R
     -------
     Refit
 
+    Raises
+    ------
+    InputError
+        The two plans have no sensor, or no operating state, in common (names compared case- and
+        space-insensitively): there is nothing to compare.
+
     Notes
     -----
     The compass keeps the correctors set for the old installation: it still cancels the old
@@ -167,6 +200,7 @@ def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> R
     is the size of the change of its own field at the sensor, asin(|Delta b_h|/H): the
     changes add as vectors, so the largest is the main cause, not a share of the total.
     """
+    _check_comparable(old, new)
     before = checking.check_plan(old, remedies=False)
     after = checking.check_plan(new, remedies=False)
     h = after.site.horizontal_t

@@ -29,17 +29,16 @@ from .common import (
 @width_option
 @library_errors
 def electronic(plan, sensor_name, unit, report, as_json, width):
-    """How an electronic compass or magnetometer fares: the interference at full current as a
-    share of the Earth's field, graded acceptable (under 30 %), marginal (30-60 %) or move
-    (over 60 %); what current compensation from the measured currents leaves in each state,
-    in degrees and % of F; and whether the field the sensor sees passes the check against the
-    model (total field and inclination) that flight controllers make before arming. For a
-    total-field magnetometer: its total-field error in nT over headings and attitude, and its
-    heading peak to peak, against budget_nt.
+    """How an electronic compass or magnetometer fares against its own budget: within as
+    installed, within only with the current compensation its host can learn from the currents
+    it measures, or over; the interference as a share of the Earth's field, as a plain number;
+    what compensation leaves in each state, in degrees and % of F; and whether the field the
+    sensor sees stays near the model's (total field and inclination) as a sanity check before
+    use. For a total-field magnetometer: its total-field error in nT over headings and
+    attitude, and its heading peak to peak, against its budget in nT.
 
-    Exit status: 0 no sensor graded "move", every model check passed and every total-field
-    magnetometer within budget in the states it is used in; 1 otherwise; 2 the plan or the
-    command line is wrong.
+    Exit status: 0 every sensor within its budget (compensated where its host measures
+    currents), every model check passed; 1 otherwise; 2 the plan or the command line is wrong.
     """
     from ..electronic import is_acceptable
     from ..render.documents.electronic import electronic_document

@@ -134,9 +134,11 @@ def electronic_json(analysis, reports, unit):
         else:
             grade = report.grade
             item["grade"] = None if grade is None else {
-                "grade": grade.grade, "percent_of_total_field": _round(grade.fraction * 100, 4),
-                "state": grade.state,
-                "words": words.interference_words(grade.grade, grade.fraction, grade.state)}
+                "standing": grade.standing.value, "held_deg": _round(grade.held, 4),
+                "state": grade.state, "compensated_deg": _round(grade.compensated, 4),
+                "compensated_state": grade.compensated_state,
+                "percent_of_total_field": _round(grade.fraction * 100, 4),
+                "loudest_state": grade.fraction_state, "words": words.standing_words(grade)}
             item["states"] = [{
                 "state": s.state, "used": s.used,
                 "interference": _round(_in(s.interference_t, unit), 6),

@@ -70,7 +70,7 @@ def write_document(document, console, *, detail=False):
     detail only with ``detail``), the cautions, and the verdict recapped in the last lines."""
     console.print(Text(document.title, style="bold"))
     for line in document.meta:
-        console.print(Text(line))
+        console.print(Padding(Text(line), (0, 0, 0, 0)))
     for warning in document.warnings:
         console.print(Text(warning, style=STYLE_OF[Tone.WARN]))
     for section in document.sections:

@@ -211,26 +211,30 @@ def finding_message(finding) -> str:
     if rule == "inside-safe-distance":
         return (f'"{finding.subject}" is {finding.distance_m:.2f} m from the sensor, inside its '
                 f"labelled {finding.label} compass safe distance of {finding.limit_m:.2f} m")
-    if rule == "magnetometer-share":
-        return interference_words(finding.label, finding.fraction, finding.state)
+    if rule == "compensation":
+        outcome = ("within its budget: give the host the current measurement and learn the "
+                   "compensation after installation, then check the residual"
+                   if finding.within else "still over its budget: move the sensor "
+                   "(deviation spot) or reroute the culprit runs")
+        return (f"with the current compensation its host can learn from the currents it "
+                f"measures, {with_degree_sign(finding.figure)} would remain: {outcome}")
     raise ValueError(f"unknown finding {rule!r}")
 
 
-#: What each interference grade asks of the installer.
-GRADE_ADVICE = {
-    "acceptable": "fine as planned; calibrate in the final installation",
-    "marginal": "usable only with current compensation: give the host a current measurement, "
-                "learn the compensation after installation and check the residual",
-    "move": "too close to the wiring for compensation to be trusted: find the sensor a quieter "
-            "place (deviation spot) or reroute the culprit runs",
-}
+#: How an electronic sensor's standing reads.
+STANDING_WORDS = {"within": "within its budget as installed",
+                  "within compensated": "within its budget only with current compensation",
+                  "over": "over its budget, even with the compensation its host can learn"}
 
 
-def interference_words(grade, fraction, state) -> str:
-    """The interference grade of an electronic sensor, in words."""
-    where = f" (worst in {state!r})" if state else ""
-    return (f"at full current the wiring and equipment put {fraction * 100:.0f} % of the Earth's "
-            f"field at the sensor{where}: {grade}, {GRADE_ADVICE[grade]}")
+def standing_words(grade) -> str:
+    """An electronic sensor's grade, in words, with the share of F beside it as a number."""
+    text = (f"{STANDING_WORDS[grade.standing.value]} (held {with_degree_sign(grade.held)} in "
+            f"{grade.state!r}")
+    if grade.compensated is not None:
+        text += f"; {with_degree_sign(grade.compensated)} after compensation"
+    return (text + f"); the interference reaches {grade.fraction * 100:.0f} % of the Earth's "
+            f"field in {grade.fraction_state!r}")
 
 
 def finding_source(finding) -> str:

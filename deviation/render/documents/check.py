@@ -22,7 +22,7 @@ from ..model import (
     Tone,
     cell,
 )
-from .common import Lengths, amperes, figure, microtesla, share, stamp
+from .common import Lengths, amperes, field_cell, figure, share, stamp
 
 #: Runs below this share of the budget are summed on one line unless all runs are asked for.
 NEGLIGIBLE_SHARE = 0.005
@@ -148,10 +148,13 @@ def budget_table(sensor, st, lengths, all_runs=True, title=""):
     unit = sensor.budget.unit
     degrees = unit is Unit.DEGREES
     adjusted = bool(sensor.reference_state) and degrees
+    field_unit = "nT" if unit is Unit.NANOTESLA else "µT"
     columns = [Column("run / item", wrap=True), Column("A", numeric=True),
                Column(f"nearest {lengths.unit}", numeric=True),
-               Column("horiz µT", numeric=True), Column("vert µT", numeric=True),
-               Column("alone °" if degrees else "alone nT", numeric=True)]
+               Column(f"horiz {field_unit}", numeric=True),
+               Column(f"vert {field_unit}", numeric=True),
+               Column("alone °" if degrees else
+                      "residual nT" if sensor.reference_state else "alone nT", numeric=True)]
     if adjusted:
         columns.append(Column("residual °", numeric=True))
     columns.append(Column("of budget", numeric=True))
@@ -162,7 +165,7 @@ def budget_table(sensor, st, lengths, all_runs=True, title=""):
         horizontal = float(np.hypot(r.field_t[0], r.field_t[1])) + r.bound_t
         vertical = abs(float(r.field_t[2])) + r.unknown_t if bound else float(r.field_t[2])
         row = [cell(r.name), amperes(r.current_a), lengths.cell(r.nearest_m),
-               microtesla(horizontal, bound=bound), microtesla(vertical, bound=bound),
+               field_cell(horizontal, unit, bound=bound), field_cell(vertical, unit, bound=bound),
                figure(r.max_deviation_deg, unit, sign=False) if degrees else
                figure(r.held, unit, sign=False)]
         if adjusted:
@@ -174,8 +177,8 @@ def budget_table(sensor, st, lengths, all_runs=True, title=""):
         horizontal = float(np.hypot(*item.field_t[:2])) if oriented else item.bound_t
         vertical = float(item.field_t[2]) if oriented else item.bound_t
         row = [cell(item.name), cell(None), lengths.cell(item.distance_m),
-               microtesla(horizontal, bound=not oriented),
-               microtesla(vertical, bound=not oriented),
+               field_cell(horizontal, unit, bound=not oriented),
+               field_cell(vertical, unit, bound=not oriented),
                figure(item.max_deviation_deg, unit, sign=False) if degrees else
                figure(item.held, unit, sign=False)]
         if adjusted:

@@ -55,6 +55,16 @@ def microtesla(value_t, *, bound=False, tone=Tone.PLAIN) -> Cell:
     return cell(value, significant_digits(value), tone=tone, prefix="≤ " if bound else "")
 
 
+def field_cell(value_t, unit, *, bound=False, tone=Tone.PLAIN) -> Cell:
+    """A field in the unit a sensor's figures are read in: nT beside a budget in nT (a survey
+    magnetometer resolves fractions of a nT), else µT; three significant figures."""
+    if unit is Unit.NANOTESLA:
+        value = value_t * 1e9
+        return cell(value, significant_digits(value, most=3), tone=tone,
+                    prefix="≤ " if bound else "")
+    return microtesla(value_t, bound=bound, tone=tone)
+
+
 def amperes(value_a) -> Cell:
     """A current: two significant figures under 1 A, one decimal under 100 A, whole above."""
     if value_a is None:

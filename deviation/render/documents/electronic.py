@@ -18,6 +18,7 @@ from ...schema import TOTAL_FIELD_KIND
 from .. import words
 from ..model import TONE_OF, Cell, Column, Document, Paragraph, Section, Table, Tone, cell
 from .common import amperes, stamp
+from .common import figure as figure_cell
 
 #: How each field unit is written.
 UNIT_LABEL = {"uT": "µT", "nT": "nT", "mG": "mG"}
@@ -77,8 +78,8 @@ def _total_field_blocks(report):
                       f"{low_fom:g}-{high_fom:g} nT (common practice, no published source).")]
 
 
-#: The grades in the words of the summary.
-GRADE_TONE = {"acceptable": Tone.GOOD, "marginal": Tone.WARN, "move": Tone.BAD}
+#: How each standing is toned.
+STANDING_TONE = {"within": Tone.GOOD, "within compensated": Tone.WARN, "over": Tone.BAD}
 
 
 def _vector_blocks(report, unit):
@@ -86,8 +87,8 @@ def _vector_blocks(report, unit):
     blocks = []
     grade = report.grade
     if grade is not None:
-        blocks.append(Paragraph(f"{grade.grade.upper()}: " + words.interference_words(
-            grade.grade, grade.fraction, grade.state), GRADE_TONE[grade.grade]))
+        blocks.append(Paragraph(f"{grade.standing.value.upper()}: " + words.standing_words(grade),
+                                STANDING_TONE[grade.standing.value]))
     comp = report.compensation
     columns = [Column("state", wrap=True), Column(f"interference {label}", numeric=True),
                Column("% of F", numeric=True)]
@@ -138,15 +139,25 @@ def electronic_verdict(report):
         what = f"held in {worst.state}"
     else:
         grade = report.grade
-        tone = GRADE_TONE[grade.grade] if grade is not None else Tone.PLAIN
-        figure = (cell(grade.fraction * 100, 1, suffix=" % of F", tone=tone) if grade is not None
-                  else Cell("—", None))
-        what = f"interference in {grade.state}, {grade.grade}" if grade is not None else ""
-    status = Status.WITHIN if is_acceptable(report) else Status.OVER
+        figure = (figure_cell(grade.held, sensor.budget.unit,
+                              tone=STANDING_TONE[grade.standing.value])
+                  if grade is not None else Cell("—", None))
+        what = ""
+        if grade is not None:
+            what = f"held in {grade.state}"
+            if grade.compensated is not None:
+                what += (f"; {words.with_degree_sign(grade.compensated)} after compensation in "
+                         f"{grade.compensated_state}")
+    acceptable = is_acceptable(report)
+    status = Status.WITHIN if acceptable else Status.OVER
     if sensor.kind == TOTAL_FIELD_KIND:
-        verdict = "within budget" if status is Status.WITHIN else "over budget"
+        verdict = "within budget" if acceptable else "over budget"
+    elif report.grade is None:
+        verdict = "within" if acceptable else "model check fails"
+    elif not acceptable and report.grade.standing.value != "over":
+        verdict = "model check fails"
     else:
-        verdict = "acceptable" if status is Status.WITHIN else "not acceptable"
+        verdict = report.grade.standing.value
     return figure, what, status, verdict
 
 
@@ -172,10 +183,9 @@ def _recap(reports, noun="sensor"):
             bad.append(report.sensor.name)
         lines.append(Paragraph(f"{report.sensor.name}: {verdict} — {figure.text}"
                                + (f" ({what})" if what else ""), TONE_OF[status], indent=1))
-    head = (f"Verdict: every electronic {noun} acceptable (a total-field magnetometer: within "
-            "its budget)." if not bad else
+    head = (f"Verdict: every electronic {noun} within its budget." if not bad else
             f"Verdict: {len(bad)} of {len(reports)} electronic {noun}"
-            f"{'s' if len(reports) != 1 else ''} not acceptable or over budget.")
+            f"{'s' if len(reports) != 1 else ''} over budget or failing the model check.")
     return (Paragraph(head, Tone.GOOD if not bad else Tone.BAD), *lines)
 
 
