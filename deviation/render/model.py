@@ -122,6 +122,7 @@ class Chart:
 
     alt: str
     draw: Callable[[str], bytes] = field(repr=False, compare=False)
+    shrink: float = 0.5               # on paper: the least scale it may take to fit a page
 
 
 Block = Paragraph | Bullets | Table | Chart
@@ -133,7 +134,8 @@ class Section:
 
     ``screen``: shown on the terminal (False for what only paper carries: charts, cards in a
     check report); ``detail``: on the terminal only with --detail; ``sheet``: a workbook starts
-    a new worksheet of this name for it; ``new_page``: paper starts a new page for it.
+    a new worksheet of this name for it; ``new_page``: paper starts a new page for it;
+    ``workbook``: False for what only paper and the html carry.
     """
 
     title: str
@@ -144,6 +146,7 @@ class Section:
     detail: bool = False
     sheet: str | None = None
     new_page: bool = False
+    workbook: bool = True             # False: paper and html only (a first page of particulars)
 
 
 @dataclass(frozen=True)
@@ -160,6 +163,7 @@ class Document:
     data : the machine-readable result, as ``--json`` prints it
     stamp : when and by what it was made, printed on paper only
     landscape : its tables are wide: paper prints it turned sideways
+    paper : the sheet it prints on: "A4", "Letter" (an imperial plan's), "A5" or "A6"
     """
 
     kind: str
@@ -172,3 +176,4 @@ class Document:
     data: dict = field(default_factory=dict, compare=False)
     stamp: str = ""                   # when and by what it was made (paper only)
     landscape: bool = False           # wide tables: paper turned sideways
+    paper: str = "A4"                 # A4 or Letter (by the plan's units), A5 or A6 (a card)

@@ -178,7 +178,8 @@ def _table(block, console):
         console.print(Text(block.title, style=STYLE_OF[block.tone]))
     chunks, mins = _chunks(block, console.width)
     for part, columns in enumerate(chunks):
-        table = Table(box=_box(console), padding=(0, 1), pad_edge=False)
+        table = Table(box=_box(console), padding=(0, 1), pad_edge=False,
+                      show_header=any(c.title for c in block.columns))
         for c in columns:
             column = block.columns[c]
             header = Text(column.title, overflow="fold")

@@ -63,7 +63,7 @@ def workbook(document):
         return Font(name=FONT, size=size, bold=bold or tone in (Tone.BAD, Tone.STRONG),
                     italic=tone is Tone.MUTED, color=colour)
 
-    state = {"sheet": book.active, "row": 1, "widths": {}}
+    state = {"sheet": book.active, "row": 1, "widths": {}, "paper": document.paper}
     state["sheet"].title = sheet_name(document.kind, taken)
 
     def put(column, value, *, tone=Tone.PLAIN, bold=False, size=10, fmt=None, wrap=False):
@@ -97,16 +97,18 @@ def workbook(document):
         if block.title:
             line(block.title, block.tone, bold=True)
         first = state["row"]
-        for c, column in enumerate(block.columns, start=1):
+        headed = any(column.title for column in block.columns)
+        for c, column in enumerate(block.columns if headed else (), start=1):
             cell = put(c, column.title, bold=True, wrap=True)
             cell.fill = PatternFill("solid", fgColor=HEADER_FILL)
             cell.border = box
             width(c, column.title)
         sheet = state["sheet"]
-        if sheet.freeze_panes is None:            # the first table's header stays in view
+        if headed and sheet.freeze_panes is None:  # the first table's header stays in view
             sheet.freeze_panes = f"A{first + 1}"
             sheet.print_title_rows = f"{first}:{first}"
-        state["row"] += 1
+        if headed:
+            state["row"] += 1
         for values in block.rows:
             for c, value in enumerate(values, start=1):
                 stored = value.value if value.numeric else value.text
@@ -139,6 +141,8 @@ def workbook(document):
     later: list[str] = []
     first = True
     for section in document.sections:
+        if not section.workbook:
+            continue
         if section.sheet and first:
             state["sheet"].title = sheet_name(section.sheet, taken - {document.kind})
         elif section.sheet:
@@ -197,7 +201,8 @@ def _finish(state):
     if 1 not in state["widths"]:
         sheet.column_dimensions["A"].width = 40
     sheet.page_setup.orientation = "landscape"
-    sheet.page_setup.paperSize = sheet.PAPERSIZE_A4
+    sheet.page_setup.paperSize = (sheet.PAPERSIZE_LETTER if state.get("paper") == "Letter"
+                                  else sheet.PAPERSIZE_A4)
     sheet.page_setup.fitToWidth = 1
     sheet.page_setup.fitToHeight = 0
     sheet.sheet_properties.pageSetUpPr.fitToPage = True

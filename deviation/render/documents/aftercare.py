@@ -32,7 +32,7 @@ from ..model import (
     Tone,
     cell,
 )
-from .common import amperes, figure, stamp
+from .common import amperes, figure, paper_for, stamp
 
 # The switch-on test -------------------------------------------------------------------------------
 
@@ -110,7 +110,7 @@ def test_sheet_document(test) -> Document:
     return Document("test-sheet", "Switch-on test", (f"plan {test.plan.source}",
                                                      _test_line(test)),
                     sections, words.CAUTIONS, data=test_json(test), stamp=stamp(),
-                    landscape=True)
+                    landscape=True, paper=paper_for(test.plan))
 
 
 # Reading the test back ----------------------------------------------------------------------------
@@ -178,7 +178,7 @@ def test_results_document(results) -> Document:
                     (Section("Observed beside predicted", tuple(blocks),
                              sheet="switch-on results"),),
                     words.CAUTIONS, recap=recap, data=results_json(results), stamp=stamp(),
-                    landscape=True)
+                    landscape=True, paper=paper_for(test.plan))
 
 
 # The swing ----------------------------------------------------------------------------------------
@@ -310,7 +310,8 @@ def swing_state_document(choices, plan) -> Document:
     sections[0:1] = [Section(first.title, (explain, *first.blocks), sheet=first.sheet)]
     return Document("swing-state", "Which state to adjust and swing in",
                     (f"plan {plan.source}",), tuple(sections), words.CAUTIONS,
-                    recap=(head, *recap), data=choices_json(choices), stamp=stamp())
+                    recap=(head, *recap), data=choices_json(choices), stamp=stamp(),
+                    paper=paper_for(plan))
 
 
 # Deflection ---------------------------------------------------------------------------------------

@@ -17,7 +17,7 @@ from ...quantities import Status
 from ...schema import TOTAL_FIELD_KIND
 from .. import words
 from ..model import TONE_OF, Cell, Column, Document, Paragraph, Section, Table, Tone, cell
-from .common import amperes, stamp
+from .common import amperes, paper_for, stamp
 from .common import figure as figure_cell
 
 #: How each field unit is written.
@@ -213,7 +213,7 @@ def electronic_document(analysis, reports, unit="uT") -> Document:
     return Document("electronic", "Electronic compasses and magnetometers",
                     _site_meta(analysis, unit), tuple(sections), words.CAUTIONS,
                     recap=_recap(reports), data=electronic_json(analysis, reports, unit),
-                    stamp=stamp())
+                    stamp=stamp(), paper=paper_for(analysis.plan), landscape=True)
 
 
 # per-amp ------------------------------------------------------------------------------------------
@@ -283,7 +283,8 @@ def per_ampere_document(analysis, reports, unit="uT") -> Document:
         "installation."),)))
     return Document("per-amp", "Field per ampere at the electronic sensors",
                     (f"plan {analysis.plan.source}", f"unit {label}/A"), tuple(sections),
-                    words.CAUTIONS, data=per_ampere_json(analysis, reports, unit), stamp=stamp())
+                    words.CAUTIONS, data=per_ampere_json(analysis, reports, unit), stamp=stamp(),
+                    paper=paper_for(analysis.plan), landscape=True)
 
 
 # area ---------------------------------------------------------------------------------------------
@@ -330,4 +331,4 @@ def area_document(area, unit="uT") -> Document:
     recap = (line,)
     return Document("area", "The plan over its operating area", (f"plan {area.plan.source}",),
                     sections, words.CAUTIONS, recap=recap, data=area_json(area, unit),
-                    stamp=stamp())
+                    stamp=stamp(), paper=paper_for(area.plan))

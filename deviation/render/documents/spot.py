@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from .. import words
 from ..model import Cell, Column, Document, Paragraph, Section, Table, Tone, cell
-from .common import Lengths, figure, stamp
+from .common import Lengths, figure, paper_for, stamp
 
 #: The faces of a searched box in the words of a vessel's plan (x forward, y port, z up).
 FACE_WORDS = {"x low": "aft", "x high": "forward", "y low": "starboard", "y high": "port",
@@ -107,7 +107,7 @@ def spots_document(search, plan, seconds=None) -> Document:
                                     f"sensor {sensor.name}: {sensor.kind}, budget "
                                     f"{sensor.budget}; {words.held_figure(sensor)}"),
                     (section,), words.CAUTIONS, recap=_recap(search, lengths),
-                    data=spots_data(search), stamp=stamp())
+                    data=spots_data(search), stamp=stamp(), paper=paper_for(plan))
 
 
 def _recap(search, lengths):
