@@ -22,7 +22,7 @@ th { background: #e4ebf3; text-align: left; } th.num, td.num { text-align: right
 td.pen { background: #fffde7; min-width: 18mm; height: 7mm; }
 .good { color: #1b5e20; } .bad { color: #b00020; font-weight: 700; }
 .muted { color: #777; font-style: italic; } .warn { color: #8a5300; font-weight: 700; }
-.strong { font-weight: 700; }
+.strong { font-weight: 700; } td.long, .meta { overflow-wrap: anywhere; }
 .meta, .note { color: #555; font-size: 9pt; margin: 0.5mm 0; }
 .caption { font-weight: 600; margin: 3mm 0 1mm; }
 .recap { border: 1.5px solid #345; padding: 2mm 4mm; margin: 4mm 0; }
@@ -30,13 +30,12 @@ td.pen { background: #fffde7; min-width: 18mm; height: 7mm; }
 .caution { border: 1.5px solid #b26a00; background: #fff8ec; padding: 2mm 4mm; margin: 4mm 0; }
 figure { margin: 2mm 0; text-align: center; } figure svg { max-width: 100%; height: auto; }
 section.page { break-before: page; page-break-before: always; }
-table, figure, .caution, .recap { break-inside: avoid; }
+table, figure, .caution, .recap, .keep { break-inside: avoid; }
 @media print { body { margin: 0 auto; max-width: none; } a { color: inherit; } }
 @media (max-width: 640px) {
   body { font-size: 10pt; margin: 3mm auto; padding: 0 2mm; }
   table { font-size: 8pt; } th, td { padding: 0.8mm 1mm; }
-  th { white-space: normal; word-break: normal; } td.num { white-space: nowrap; }
-  .scroll { overflow-x: visible; } h1 { font-size: 14pt; }
+  th, th.num { white-space: normal; } h1 { font-size: 14pt; }
 }
 """
 
@@ -80,7 +79,9 @@ def _table(block):
         cells = []
         for c, value in enumerate(row):
             kinds = ["pen" if c in block.pen else
-                     "num" if block.columns[c].numeric else "text", _class(value.tone)]
+                     "num" if block.columns[c].numeric else "text", _class(value.tone),
+                     # A long unbroken token (a digest) may break anywhere on a narrow screen.
+                     "long" if any(len(w) > 30 for w in value.text.split()) else ""]
             cells.append(f"<td class='{' '.join(k for k in kinds if k)}'>{_e(value.text)}</td>")
         parts.append("<tr>" + "".join(cells) + "</tr>")
     parts.append("</tbody></table></div>")
@@ -135,9 +136,12 @@ def page(document) -> str:
                      + " ".join(_e(c) for c in document.cautions) + "</div>")
     for section in document.sections:
         level = min(3, max(2, section.level))
-        parts.append(f"<section class='{'page' if section.new_page else ''}'>"
-                     f"<h{level} class='{_class(section.tone)}'>{_e(section.title)}</h{level}>")
-        parts += [_block(block) for block in section.blocks]
+        # The heading and what follows it stay on one page: never a heading alone at the foot.
+        blocks = [_block(block) for block in section.blocks]
+        parts.append(f"<section class='{'page' if section.new_page else ''}'><div class=keep>"
+                     f"<h{level} class='{_class(section.tone)}'>{_e(section.title)}</h{level}>"
+                     + (blocks[0] if blocks else "") + "</div>")
+        parts += blocks[1:]
         parts.append("</section>")
     if document.cautions:
         parts.append("<h2>Cautions</h2><ul>" + "".join(f"<li>{_e(c)}</li>"

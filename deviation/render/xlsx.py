@@ -14,6 +14,10 @@ FONT = "Arial"
 #: Colours of the tones (text, and the header fill).
 COLOUR = {Tone.GOOD: "1B5E20", Tone.BAD: "B00020", Tone.MUTED: "777777", Tone.WARN: "9A5B00"}
 HEADER_FILL = "DCE6F0"
+#: Characters of 10-point text a column of the usual width holds (about 11), and the fewest
+#: columns a long line wraps across.
+CHARS_PER_COLUMN = 11
+MIN_SPAN = 6
 PEN_FILL = "FFFDE7"
 
 #: Characters a worksheet cell cannot hold (XML 1.0 forbids them); shown as U+FFFD.
@@ -90,7 +94,18 @@ def workbook(document):
         state["row"], state["widths"] = 1, {}
 
     def line(text, tone=Tone.PLAIN, bold=False, size=10):
-        put(1, text, tone=tone, bold=bold, size=size)
+        """A line of text; a long one wraps within the width of the section's tables (merged
+        cells), so it never widens what prints."""
+        span = state.get("span", 0)
+        cell = put(1, text, tone=tone, bold=bold, size=size)
+        capacity = span * CHARS_PER_COLUMN
+        if span > 1 and len(str(text)) > capacity:
+            sheet = state["sheet"]
+            sheet.merge_cells(start_row=state["row"], start_column=1, end_row=state["row"],
+                              end_column=span)
+            cell.alignment = Alignment(wrap_text=True, vertical="top")
+            lines = -(-len(str(text)) // capacity)
+            sheet.row_dimensions[state["row"]].height = 13.5 * lines
         state["row"] += 1
 
     def table(block):
@@ -100,6 +115,8 @@ def workbook(document):
         headed = any(column.title for column in block.columns)
         for c, column in enumerate(block.columns if headed else (), start=1):
             cell = put(c, column.title, bold=True, wrap=True)
+            cell.alignment = Alignment(wrap_text=True, vertical="top",
+                                       horizontal="right" if column.numeric else "left")
             cell.fill = PatternFill("solid", fgColor=HEADER_FILL)
             cell.border = box
             width(c, column.title)
@@ -158,6 +175,9 @@ def workbook(document):
             else:
                 table(block)
             continue
+        # Text wraps across the widest table of the section (at least a few columns).
+        state["span"] = max([len(b.columns) for b in section.blocks if isinstance(b, Table)]
+                            + [MIN_SPAN])
         line(section.title, section.tone, bold=True, size=12 if section.level <= 2 else 11)
         for block in section.blocks:
             if isinstance(block, Paragraph):
