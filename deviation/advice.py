@@ -15,6 +15,7 @@ from .budget import RunParts, circuit_currents, equipment_fields, parts_of_runs,
 from .constants import ISO25862_BIPOLAR_RADIUS_M
 from .electronic import Standing, electronic_sensor
 from .physics.routing import hint_lay_m
+from .progress import counter
 from .schema import VECTOR_ELECTRONIC_KINDS
 from .spot import search_box_around
 from .units import conductor_size
@@ -305,7 +306,9 @@ def remedies_for(analysis, result) -> dict[str, tuple[Remedy, ...]]:
     evaluator = _Evaluator(analysis, result)
     by_name = {r.name: i for i, r in enumerate(plan.runs)}
     out = {}
+    tick = counter(f"remedies for {sensor.name}, state by state", len(result.states))
     for k, st in enumerate(result.states):
+        tick()
         if not st.used:
             out[st.state] = ()
             continue
@@ -346,6 +349,7 @@ def remedies_for(analysis, result) -> dict[str, tuple[Remedy, ...]]:
             chosen.append(Remedy(sensor.name, st.state, "move sensor", None, st.held,
                                  box_low_m=low, box_high_m=high))
         out[st.state] = tuple(chosen)
+    tick.done()
     return out
 
 
@@ -400,13 +404,23 @@ def fix_set(analysis, result) -> FixSet:
     ranked = sorted((name for name, share in largest.items() if share >= FIX_SET_SHARE),
                     key=lambda name: (-largest[name], name))[:FIX_SET_RUNS]
     runs = [by_name[name] for name in ranked]
-    changed, steps, figure = {}, [], before
     target = sensor.budget.value * CLEARANCE_MARGIN
 
     def held_of(figures):
         return evaluator.held(figures)[0]
 
+    tick = counter(f"the set of fixes for {sensor.name}, change by change", MAX_FIX_STEPS)
+    try:
+        return _grow_fix_set(evaluator, plan, sensor, runs, before, target, held_of, tick)
+    finally:
+        tick.done()
+
+
+def _grow_fix_set(evaluator, plan, sensor, runs, before, target, held_of, tick):
+    """The greedy loop of :func:`fix_set`; ``tick`` counts the changes."""
+    changed, steps, figure = {}, [], before
     while True:
+        tick()
         options = []                       # (finishes, held, run index, changed run, step)
         for r in runs:
             if r in changed:
@@ -442,11 +456,14 @@ def fix_set(analysis, result) -> FixSet:
             return FixSet(before, tuple(steps), False)
 
 
-def with_remedies(analysis):
+def with_remedies(analysis, sensors_named=None):
     """The analysis with every state's remedies and each sensor's set of fixes attached (a new
-    value)."""
+    value); with ``sensors_named``, only for the sensors of those names (the others keep none)."""
     sensors = []
     for result in analysis.sensors:
+        if sensors_named is not None and result.sensor.name not in sensors_named:
+            sensors.append(result)
+            continue
         remedies = remedies_for(analysis, result)
         states = tuple(replace(st, remedies=remedies[st.state]) for st in result.states)
         fixes = None if result.within_budget else fix_set(analysis, result)

@@ -22,11 +22,18 @@ from .budget import (
     run_fields_at,
     sensor_figures,
 )
+from .constants import (
+    MAX_FIXES_INDEPENDENT_CIRCUITS,
+    MAX_FIXES_STATES,
+    MAX_INDEPENDENT_CIRCUITS,
+    MAX_STATES,
+)
 from .errors import Problem
 from .physics import heading
 from .physics.routing import Conductors, route_runs
 from .physics.total_field import total_field_error_range
 from .plan import Finding, Plan, PlanError, Sensor, conductors_of, frozen_array
+from .progress import counter
 from .quantities import Status, status_of
 from .sitefield import SiteField, site_field
 
@@ -367,22 +374,52 @@ def check_sensors_outside_conductors(plan: Plan) -> None:
         raise PlanError(findings)
 
 
+def check_ceilings(plan: Plan, *, fixes: bool = False) -> None:
+    """Refuse a plan beyond what a check is made for (constants.MAX_*): a :class:`PlanError`
+    whose finding is at the first state or independent circuit past the ceiling. With
+    ``fixes``, the lower ceilings of the remedies and the set of fixes apply."""
+    states = MAX_FIXES_STATES if fixes else MAX_STATES
+    independent = MAX_FIXES_INDEPENDENT_CIRCUITS if fixes else MAX_INDEPENDENT_CIRCUITS
+    what = "the remedies and the set of fixes are worked out for" if fixes else "a plan may have"
+    instead = ("; check with --no-fixes (remedies=False), which gives the same budget and "
+               "verdict" if fixes else "")
+    findings = []
+    if len(plan.state_names) > states:
+        findings.append(Finding(plan.source, "states", 1, plan.state_names[states],
+                                f"{len(plan.state_names)} operating states is more than the "
+                                f"{states} {what}{instead}"))
+    switched = [c for c in plan.circuits if c.independent]
+    if len(switched) > independent:
+        findings.append(Finding(plan.source, "states", switched[independent].row, "switching",
+                                f"{len(switched)} independent circuits is more than the "
+                                f"{independent} {what} (their worst combination grows about as "
+                                f"their number cubed){instead}"))
+    if findings:
+        raise PlanError(findings)
+
+
 def analyse(plan: Plan) -> Analysis:
     """Compute the deviation budget of every sensor in every state.
 
     Raises
     ------
     PlanError
-        A sensor lies inside a conductor (:func:`check_sensors_outside_conductors`).
+        A sensor lies inside a conductor (:func:`check_sensors_outside_conductors`), or the
+        plan is beyond the ceilings (:func:`check_ceilings`).
     """
+    check_ceilings(plan)
     check_sensors_outside_conductors(plan)
     site = site_field(plan.site)
     positions = np.array([s.position_m for s in plan.sensors]).reshape(-1, 3)
     parts = parts_at(plan, positions)
     shares = _ends_shares(plan, positions, parts.unit_t)
-    sensors = tuple(evaluate_sensor(plan, sensor, site, _one(parts, i), shares[i])
-                    for i, sensor in enumerate(plan.sensors))
-    return Analysis(plan, site, sensors)
+    tick = counter("the budget of each sensor", len(plan.sensors))
+    sensors = []
+    for i, sensor in enumerate(plan.sensors):
+        sensors.append(evaluate_sensor(plan, sensor, site, _one(parts, i), shares[i]))
+        tick()
+    tick.done()
+    return Analysis(plan, site, tuple(sensors))
 
 
 def _ends_shares(plan, points, unit_t):

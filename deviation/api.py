@@ -54,14 +54,17 @@ def plan_from_tables(tables: Mapping[str, object], source: str = "<tables>") -> 
     return make(tables, source)
 
 
-def check(plan: Plan, *, remedies: bool = True) -> CheckResult:
+def check(plan: Plan, *, remedies: bool = True,
+          fixes_for: Sequence[str] | None = None) -> CheckResult:
     """The deviation budget of every sensor in every state, with remedies and rule findings.
 
     Parameters
     ----------
     plan : Plan
     remedies : bool
-        Compute the rerouting remedies (the slowest part on big plans).
+        Compute the rerouting remedies and the set of fixes (the slowest part on big plans).
+    fixes_for : sequence of str, optional
+        Compute them only for these sensors (names in the plan).
 
     Returns
     -------
@@ -71,7 +74,7 @@ def check(plan: Plan, *, remedies: bool = True) -> CheckResult:
     """
     from .checking import check_plan
 
-    return check_plan(plan, remedies=remedies)
+    return check_plan(plan, remedies=remedies, fixes_for=fixes_for)
 
 
 def _sensor(plan: Plan, sensor: str | Sensor) -> Sensor:

@@ -99,3 +99,14 @@ MAX_MOMENT_AM2 = 1e6
 #: Largest current of a circuit, a run or a reading [A]: a large DC system's main bus carries
 #: some thousands of amperes.
 MAX_CURRENT_A = 100_000.0
+#: Ceilings of a check, where the work grows faster than the plan (measured with
+#: bench/bench_limits.py; the figures are in docs/robustness.md). The worst combination of
+#: independent circuits at the worst attitude grows about as their number cubed (200: seconds and
+#: 200 MB); the remedies and the set of fixes re-check the whole budget for every candidate change
+#: in every state, so they grow as the states squared and much faster with independent circuits
+#: (100 states or 100 independent circuits: about a minute). Above the MAX_FIXES_* ceilings a
+#: check runs without them (``--no-fixes``), or is refused.
+MAX_STATES = 1000
+MAX_INDEPENDENT_CIRCUITS = 200
+MAX_FIXES_STATES = 100
+MAX_FIXES_INDEPENDENT_CIRCUITS = 100

@@ -8,6 +8,7 @@ from decimal import Decimal
 from .files import write_atomically
 from .plan import name_key
 from .schema import SCHEMA, SITE_SETTINGS
+from .text import xlsx_value
 from .units import IMPERIAL, LENGTH_UNITS, UnitError, conductor_size
 
 #: The mark that begins the first cell of every worked example row (see reader.is_example_row).
@@ -89,7 +90,7 @@ def write_template(path, units="m"):
     for name, columns in SHEET_COLUMNS.items():
         sheet = book.create_sheet(name)
         for c, (column, explanation) in enumerate(columns, start=1):
-            cell = sheet.cell(row=1, column=c, value=column)
+            cell = sheet.cell(row=1, column=c, value=xlsx_value(column))
             cell.font, cell.fill = header_font, header_fill
             note = explanation + (EXAMPLE_NOTE if c == 1 and name != "site" else "")
             cell.comment = Comment(note, "deviation")
@@ -100,7 +101,7 @@ def write_template(path, units="m"):
                 example = {**example, "value": units}
             row = [example.get(column) for column in order]
             for c, value in enumerate(row, start=1):
-                cell = sheet.cell(row=r, column=c, value=value)
+                cell = sheet.cell(row=r, column=c, value=xlsx_value(value))
                 if isinstance(value, str):
                     cell.data_type = "s"          # text stays text, never a formula
         sheet.freeze_panes = "A2"
@@ -339,7 +340,7 @@ def write_plan(plan, path):
         sheet = book.create_sheet(name)
         for r, row in enumerate(rows, start=1):
             for c, value in enumerate(row, start=1):
-                cell = sheet.cell(row=r, column=c, value=value)
+                cell = sheet.cell(row=r, column=c, value=xlsx_value(value))
                 if isinstance(value, str):
                     cell.data_type = "s"
                 if r == 1:

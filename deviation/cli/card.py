@@ -9,12 +9,15 @@ import click
 
 from .common import (
     CommandProblem,
+    OutputPath,
     console_for,
     echo_json,
     json_option,
     library_errors,
     main,
     plan_argument,
+    prepare_output,
+    say,
     width_option,
 )
 
@@ -28,10 +31,10 @@ def _slug(name):
 @click.option("--sensor", "sensor_name", default=None, help="Only this sensor (default: all).")
 @click.option("--step", "step_deg", type=click.Choice(["5", "10", "15", "30", "45"]), default="15",
               show_default=True, help="Degrees of magnetic heading between rows.")
-@click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
+@click.option("--plot", "plot_path", type=OutputPath(),
               help="Draw the deviation curves of all states (FILE.png or FILE.svg; with several "
                    "sensors, one file each, named FILE-sensor.png).")
-@click.option("--sheet", "sheet_path", type=click.Path(dir_okay=False),
+@click.option("--sheet", "sheet_path", type=OutputPath(),
               help="Also write a card to post beside each compass: FILE.pdf or FILE.html "
                    "(deviation E/W to half a degree, the course to steer, per state).")
 @click.option("--paper", type=click.Choice(["A5", "A6"], case_sensitive=False), default="A5",
@@ -47,8 +50,6 @@ def card(plan, sensor_name, step_deg, plot_path, sheet_path, paper, as_json, wid
     (after adjustment, for a sensor adjusted in a reference state), with each state's held
     figure. A total-field magnetometer gets its total-field error against heading in nT."""
     from .. import api
-    from ..files import check_output
-
     the_plan = api.read_plan(plan)
     chosen = [the_plan.sensor(sensor_name)] if sensor_name else list(the_plan.sensors)
     targets = []
@@ -57,7 +58,7 @@ def card(plan, sensor_name, step_deg, plot_path, sheet_path, paper, as_json, wid
             Path(plot_path).with_name(f"{Path(plot_path).stem}-{_slug(s.name)}"
                                       f"{Path(plot_path).suffix}") for s in chosen]
         for target in targets:
-            check_output(target, plan)
+            prepare_output(target, plan)
     if sheet_path:
         from ..render.reports import check_report_path
 
@@ -93,5 +94,5 @@ def card(plan, sensor_name, step_deg, plot_path, sheet_path, paper, as_json, wid
     if sheet_path:
         click.echo(f"Card written to {sheet_path}")
     if targets:
-        click.echo(f"Curves written to {targets[0]}" if len(targets) == 1 else
+        say(f"Curves written to {targets[0]}" if len(targets) == 1 else
                    "Curves written: " + ", ".join(str(t) for t in targets))

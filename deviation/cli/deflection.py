@@ -6,6 +6,7 @@ import click
 
 from .common import (
     CommandProblem,
+    InputPath,
     json_option,
     library_errors,
     main,
@@ -25,7 +26,7 @@ from .common import (
                    "broadside: due north or south, its axis east-west.")
 @click.option("--field-ut", "field_ut", type=click.FloatRange(0.1, 100), default=None,
               help="The horizontal field H where the test was made, µT.")
-@click.option("--plan", "plan_path", type=click.Path(), default=None,
+@click.option("--plan", "plan_path", type=InputPath(), default=None,
               help="Take H from this plan's site instead.")
 @click.option("--item", default="item", show_default=True, help="Name for the equipment row.")
 @click.option("--at", "at", default="", help="Where it will be mounted: a point name or x, y, z.")

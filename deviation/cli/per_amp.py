@@ -5,6 +5,7 @@ from __future__ import annotations
 import click
 
 from .common import (
+    OutputPath,
     canonical_unit,
     electronic_reports,
     json_option,
@@ -23,7 +24,7 @@ from .common import (
 @plan_argument
 @sensor_option
 @unit_option
-@click.option("--csv", "csv_path", type=click.Path(dir_okay=False),
+@click.option("--csv", "csv_path", type=OutputPath(),
               help="Also write the table as FILE.csv (columns in docs/electronic-sensors.md).")
 @report_option
 @json_option
@@ -44,10 +45,6 @@ def per_amp(plan, sensor_name, unit, csv_path, report, as_json, width):
     from ..render.electronic import per_ampere_csv
 
     unit = canonical_unit(unit)
-    if csv_path:
-        from ..files import check_output
-
-        check_output(csv_path, plan)
     if report:
         from ..render.reports import check_report_path
 

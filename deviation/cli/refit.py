@@ -7,6 +7,7 @@ import sys
 import click
 
 from .common import (
+    InputPath,
     json_option,
     library_errors,
     main,
@@ -17,8 +18,8 @@ from .common import (
 
 
 @main.command()
-@click.argument("old", type=click.Path(exists=False, dir_okay=True))
-@click.argument("new", type=click.Path(exists=False, dir_okay=True))
+@click.argument("old", type=InputPath())
+@click.argument("new", type=InputPath())
 @click.option("--threshold", "threshold_deg", type=click.FloatRange(0, 90), default=1.0,
               show_default=True,
               help="Advise a new swing where the deviation card changes by more than this, "
@@ -43,11 +44,9 @@ def refit(old, new, threshold_deg, report, as_json, width):
     old_plan = api.read_plan(old)
     new_plan = api.read_plan(new)
     if report:
-        from ..files import check_output
         from ..render.reports import check_report_path
 
         check_report_path(report, new)
-        check_output(report, old)
     result = compare(old_plan, new_plan, threshold_deg)
     from ..render.documents.aftercare import refit_document
 

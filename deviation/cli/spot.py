@@ -9,12 +9,14 @@ import click
 
 from .common import (
     CommandProblem,
+    OutputPath,
     console_for,
     echo_json,
     json_option,
     library_errors,
     main,
     plan_argument,
+    say,
     width_option,
 )
 
@@ -75,10 +77,10 @@ def _no_spot(plan, sensor, result, region):
                    "imperial plan).")
 @click.option("--top", type=click.IntRange(1, 100), default=10, show_default=True,
               help="Spots listed.")
-@click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
+@click.option("--plot", "plot_path", type=OutputPath(),
               help="Draw a map of the worst case over the region at the best spot's height "
                    "(FILE.png or FILE.svg).")
-@click.option("--report", type=click.Path(dir_okay=False),
+@click.option("--report", type=OutputPath(),
               help="Also write the ranking: FILE.xlsx, FILE.html or FILE.pdf.")
 @json_option
 @width_option
@@ -98,7 +100,6 @@ def spot(plan, sensor_name, region, step, top, plot_path, report, as_json, width
     """
     from .. import api
     from ..analysis import analyse
-    from ..files import check_output
     from ..spot import spots_for
 
     the_plan = api.read_plan(plan)
@@ -106,7 +107,6 @@ def spot(plan, sensor_name, region, step, top, plot_path, report, as_json, width
     if plot_path:
         if not region:
             raise CommandProblem("--plot needs --region (a map of a box)")
-        check_output(plot_path, plan)
     if report:
         from ..render.reports import check_report_path
 
@@ -122,15 +122,11 @@ def spot(plan, sensor_name, region, step, top, plot_path, report, as_json, width
     analysis = analyse(the_plan)
     started = time.perf_counter()
     if region:
-        from ..render.terminal import progress_bar
-
         unit = the_plan.site.units
         low = _triple(region[0], unit, "--region")
         high = _triple(region[1], unit, "--region")
         step_m = _step(step, the_plan)
-        with progress_bar(enabled=not as_json) as progress:
-            result = api.find_spots(the_plan, sensor, low, high, step_m, top=top,
-                                    progress=progress, analysis=analysis)
+        result = api.find_spots(the_plan, sensor, low, high, step_m, top=top, analysis=analysis)
     else:
         from dataclasses import replace
 
@@ -162,5 +158,5 @@ def spot(plan, sensor_name, region, step, top, plot_path, report, as_json, width
         write_document(document, console_for(width))
         for target, what in ((plot_path, "Map"), (report, "Report")):
             if target:
-                click.echo(f"{what} written to {target}")
+                say(f"{what} written to {target}")
     sys.exit(0 if result.within_budget else 1)

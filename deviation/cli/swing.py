@@ -5,6 +5,8 @@ from __future__ import annotations
 import click
 
 from .common import (
+    InputPath,
+    OutputPath,
     json_option,
     library_errors,
     main,
@@ -17,7 +19,7 @@ from .common import (
 
 @main.command()
 @plan_argument
-@click.argument("readings", type=click.Path(exists=False, dir_okay=True))
+@click.argument("readings", type=InputPath())
 @click.option("--sensor", "sensor_name", required=True, help="The compass that was swung.")
 @click.option("--state", default=None,
               help="The state of readings whose state cell is blank (needed when the plan has "
@@ -31,9 +33,9 @@ from .common import (
                    "sensor's reference state in the plan).")
 @click.option("--not-adjusted", is_flag=True,
               help="No correctors were set: compare with the whole field of the wiring.")
-@click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
+@click.option("--plot", "plot_path", type=OutputPath(),
               help="Draw readings, fitted and predicted curves: FILE.png or FILE.svg.")
-@click.option("--report", type=click.Path(dir_okay=False),
+@click.option("--report", type=OutputPath(),
               help="Also write the fit: FILE.xlsx, or FILE.html or FILE.pdf (with the curves).")
 @json_option
 @width_option
@@ -54,7 +56,6 @@ def swing(plan, readings, sensor_name, state, on, adjusted_in, not_adjusted, plo
     """
     from .. import api
     from ..aftercare import read_swing, swing_comparison
-    from ..files import check_output
     from .common import CommandProblem
 
     if not_adjusted and adjusted_in:
@@ -65,10 +66,6 @@ def swing(plan, readings, sensor_name, state, on, adjusted_in, not_adjusted, plo
         from ..render.reports import check_report_path
 
         check_report_path(report, plan)
-    for target in (plot_path, report):
-        if target:
-            check_output(target, plan)
-            check_output(target, readings)
     data = read_swing(readings, the_plan, state)
     comparison = swing_comparison(the_plan, sensor, data, on=on,
                                   adjusted_in=None if not_adjusted else adjusted_in or "reference")

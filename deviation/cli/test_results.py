@@ -7,6 +7,8 @@ import sys
 import click
 
 from .common import (
+    InputPath,
+    OutputPath,
     json_option,
     library_errors,
     main,
@@ -19,7 +21,7 @@ from .common import (
 
 @main.command("test-results")
 @plan_argument
-@click.argument("readings", type=click.Path(exists=False, dir_okay=True))
+@click.argument("readings", type=InputPath())
 @click.option("--sensor", "sensor_name", default=None,
               help="The sensor watched (default: the sheet's settings).")
 @click.option("--heading", "heading_deg", type=click.FloatRange(0, 360), default=None,
@@ -34,7 +36,7 @@ from .common import (
               help="Reading resolution of the card, degrees (common practice, no source).")
 @click.option("--fraction", type=click.FloatRange(0, 1), default=0.25, show_default=True,
               help="Share of the predicted change allowed (common practice, no source).")
-@click.option("--report", type=click.Path(dir_okay=False),
+@click.option("--report", type=OutputPath(),
               help="Also write the comparison: FILE.xlsx, FILE.html or FILE.pdf.")
 @json_option
 @width_option
@@ -58,11 +60,9 @@ def test_results(plan, readings, sensor_name, heading_deg, start_state, adjusted
 
     the_plan = api.read_plan(plan)
     if report:
-        from ..files import check_output
         from ..render.reports import check_report_path
 
         check_report_path(report, plan)
-        check_output(report, readings)
     results = read_switch_on_results(the_plan, readings, sensor=sensor_name,
                                      heading_deg=heading_deg, start_state=start_state,
                                      adjusted=adjusted, resolution_deg=resolution_deg,

@@ -5,6 +5,7 @@ from __future__ import annotations
 import click
 
 from .common import (
+    OutputPath,
     json_option,
     library_errors,
     main,
@@ -26,7 +27,7 @@ from .common import (
 @click.option("--adjusted", is_flag=True,
               help="The compass already has its correctors set (or is calibrated) in its "
                    "reference state.")
-@click.option("--sheet", "sheet_path", type=click.Path(dir_okay=False),
+@click.option("--sheet", "sheet_path", type=OutputPath(),
               help="Also write the printable sheet: FILE.xlsx (fill it in and read it back with "
                    "test-results), FILE.html or FILE.pdf (to print).")
 @json_option

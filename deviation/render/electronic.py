@@ -93,12 +93,15 @@ def per_ampere_records(reports, unit):
 
 
 def per_ampere_csv(reports, unit) -> str:
-    """The per-ampere table as CSV text (header CSV_COLUMNS)."""
+    """The per-ampere table as CSV text (header CSV_COLUMNS); text that a spreadsheet would run
+    as a formula gets a leading ' (:func:`deviation.text.csv_cell`), numbers stay numbers."""
+    from ..text import csv_cell
+
     out = io.StringIO()
     writer = csv.DictWriter(out, fieldnames=CSV_COLUMNS, lineterminator="\n")
     writer.writeheader()
     for record in per_ampere_records(reports, unit):
-        writer.writerow({k: "" if v is None else v for k, v in record.items()})
+        writer.writerow({k: "" if v is None else csv_cell(v) for k, v in record.items()})
     return out.getvalue()
 
 

@@ -2,14 +2,18 @@
 
 from __future__ import annotations
 
+import threading
+import time
 from dataclasses import replace
 
 from rich import box
-from rich.console import Console
+from rich.console import Console as _RichConsole
 from rich.padding import Padding
+from rich.segment import Segment
 from rich.table import Table
 from rich.text import Text
 
+from ..text import terminal_text
 from ..units import LENGTH_UNITS, format_length
 from . import words
 from .model import Bullets, Paragraph, Tone
@@ -18,6 +22,20 @@ from .words import CAUTIONS, site_line
 
 #: Width of tables written to a file or a pipe, where no terminal says how wide it is.
 PIPED_WIDTH = 120
+
+
+class Console(_RichConsole):
+    """A rich console that shows every control character of the text it prints as U+FFFD.
+
+    Plan text (names, notes) may come from someone else; an escape sequence in it must not
+    retitle the terminal, move the cursor or hide and forge lines. Only the text is cleaned:
+    the console's own styles and cursor controls are written as rich makes them.
+    """
+
+    def _render_buffer(self, buffer):
+        return super()._render_buffer(
+            segment if segment.control else Segment(terminal_text(segment.text), segment.style)
+            for segment in buffer)
 
 
 def make_console(file=None, width=None):
@@ -198,32 +216,105 @@ def _table(block, console):
         console.print(Padding(Text(note), (0, 0, 0, 2)))
 
 
-class progress_bar:
-    """A context giving the spot search a progress callback; draws only on a terminal."""
+class TerminalProgress:
+    """Shows the library's progress (:mod:`deviation.progress`) as lines on stderr.
 
-    def __init__(self, enabled=True, minimum=200_000):
-        self.enabled = enabled
-        self.minimum = minimum
-        self.progress = None
+    Only on a terminal, only for a step still running after ``delay_s`` (one second), and the
+    lines go away when the step ends: short commands, pipes, files and JSON never see one.
+    """
 
-    def __enter__(self):
-        def start(total):
-            console = Console(stderr=True)
-            if not (self.enabled and console.is_terminal and total >= self.minimum):
-                return None
-            from rich.progress import Progress
+    def __init__(self, enabled=True, delay_s=1.0, console=None):
+        self.console = console or Console(stderr=True)
+        self.enabled = enabled and self.console.is_terminal
+        self.delay_s = delay_s
+        self._lock = threading.Lock()
+        self._progress = None
+        self._shown = 0
 
-            self.progress = Progress(console=console, transient=True)
-            self.progress.start()
-            task = self.progress.add_task("searching", total=total)
-            return lambda n: self.progress.advance(task, n)
+    def start(self, label, total):
+        if not self.enabled or total <= 0:
+            return None
+        return _TerminalStep(self, label, total)
 
-        return start
+    def _add(self, label, total, completed, started):
+        with self._lock:
+            if self._progress is None:
+                from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn
 
-    def __exit__(self, *exc):
-        if self.progress is not None:
-            self.progress.stop()
-        return False
+                self._progress = Progress(TextColumn("{task.description}"), BarColumn(),
+                                          MofNCompleteColumn(), _since_column(),
+                                          console=self.console, transient=True)
+                self._progress.start()
+            self._shown += 1
+            return self._progress.add_task(label, total=total, completed=completed,
+                                           started=started)
+
+    def _remove(self, task):
+        with self._lock:
+            self._progress.remove_task(task)
+            self._shown -= 1
+            if not self._shown:
+                self._progress.stop()
+                self._progress = None
+
+    def _update(self, task, completed):
+        with self._lock:
+            if self._progress is not None:
+                self._progress.update(task, completed=completed)
+
+    def close(self):
+        """Take every line away (a command ending, or interrupted)."""
+        with self._lock:
+            if self._progress is not None:
+                self._progress.stop()
+                self._progress = None
+                self._shown = 0
+
+
+def _since_column():
+    """The time since the step began (not since its line appeared)."""
+    from rich.progress import ProgressColumn
+
+    class Since(ProgressColumn):
+        def render(self, task):
+            return Text(f"{time.monotonic() - task.fields['started']:.0f} s", style="dim")
+
+    return Since()
+
+
+class _TerminalStep:
+    """One step: shown once it has run ``delay_s``; advanced; taken away when done."""
+
+    def __init__(self, owner, label, total):
+        self.owner, self.label, self.total = owner, label, total
+        self.completed = 0
+        self.started = time.monotonic()
+        self.task = None
+        self.finished = False
+        self._lock = threading.Lock()
+        self._timer = threading.Timer(owner.delay_s, self._show)
+        self._timer.daemon = True
+        self._timer.start()
+
+    def _show(self):
+        with self._lock:
+            if not self.finished:
+                self.task = self.owner._add(self.label, self.total, self.completed,
+                                            self.started)
+
+    def advance(self, n=1):
+        with self._lock:
+            self.completed += n
+            if self.task is not None:
+                self.owner._update(self.task, self.completed)
+
+    def done(self):
+        with self._lock:
+            self.finished = True
+            self._timer.cancel()
+            if self.task is not None:
+                self.owner._remove(self.task)
+                self.task = None
 
 
 def render_spots(search, plan, console, seconds):

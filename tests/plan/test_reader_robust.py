@@ -348,8 +348,7 @@ def test_on_a_case_insensitive_file_system_plan_xlsx_in_capitals_is_the_plan(tmp
     monkeypatch.setattr(files, "_case_insensitive", lambda folder: True)
     with pytest.raises(OutputError) as caught:
         check_output(tmp_path / "plan.XLSX", plan)
-    assert str(caught.value) == f"{tmp_path / 'plan.XLSX'} is the input plan; write the report to " \
-                                "another file"
+    assert str(caught.value) == f"{tmp_path / 'plan.XLSX'} is the input plan; write to another file"
     monkeypatch.setattr(files, "_case_insensitive", lambda folder: False)
     check_output(tmp_path / "plan.XLSX", plan)      # another file where case matters
 
