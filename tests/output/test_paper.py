@@ -229,3 +229,17 @@ def test_the_checklist_ticks_each_fix_with_what_to_achieve(tmp_path):
     assert "Installer's checklist of the fixes" in text
     assert "☐" in text and "twist with the return" in text and "50 mm" in text
     assert "Words used in this report" in text and "residual after adjustment" in text
+
+
+@pytest.mark.parametrize("value, posted_deg", [
+    # Nearest half degree, halves away from zero (common practice, no source): a tie goes up in
+    # size, never to the even half as Python's round() would take it.
+    (0.24, 0.0), (0.25, 0.5), (0.74, 0.5), (0.75, 1.0), (1.25, 1.5), (2.75, 3.0),
+    (-0.25, -0.5), (-1.74, -1.5), (-1.75, -2.0), (0.0, 0.0)])
+def test_a_deviation_is_posted_to_the_nearest_half_degree(value, posted_deg):
+    from deviation.render.documents.card import east_west_half, half_degrees
+
+    assert half_degrees(value) == posted_deg
+    text = east_west_half(value).text
+    assert text == posted(value)                  # the test's own writing of it (above)
+    assert text.endswith("E" if posted_deg > 0 else "W" if posted_deg < 0 else "°")
