@@ -53,6 +53,7 @@ from .schema import (
     SENSOR_KINDS,
     SHEETS,
     SITE_SETTINGS,
+    SITE_TEXT_SETTINGS,
     STATES_TEXT_COLUMNS,
     SWITCHING,
     TOTAL_FIELD_KIND,
@@ -331,8 +332,10 @@ def _read_site(sheet, collector):
                       "instead", Problem.OUT_OF_RANGE)
     places = tuple(p for p in (_place(number, value, note, collector)
                                for number, value, note in place_rows) if p is not None)
+    text = {name: str(values[name]).strip() or None for name in SITE_TEXT_SETTINGS
+            if values.get(name) is not None}
     return Site(unit, latitude, longitude, year, date_text, altitude, horizontal, vertical,
-                tuple(notes), places=places)
+                tuple(notes), places=places, **text)
 
 
 def _place(number, value, note, collector):

@@ -38,7 +38,12 @@ SITE_ROWS = [{"setting": "units", "value": "m",
              {"setting": "altitude_m", "note": "height above the WGS-84 ellipsoid, m (blank: 0)"},
              {"setting": "horizontal_field_ut",
               "note": "optional: measured H in µT, overrides the model"},
-             {"setting": "vertical_field_ut", "note": "optional: measured Z in µT, positive down"}]
+             {"setting": "vertical_field_ut", "note": "optional: measured Z in µT, positive down"},
+             {"setting": "vessel", "note": "optional: the vessel or vehicle, for the reports' "
+                                           "first page and the deviation card"},
+             {"setting": "owner", "note": "optional: its owner, for the reports' first page"},
+             {"setting": "installer", "note": "optional: who installs the wiring, for the "
+                                              "reports' first page"}]
 
 #: Worked examples, by column; the template writes them under each sheet's header. Each one's
 #: first cell begins with EXAMPLE, so the reader skips it and ``check`` says it is still there.
@@ -238,7 +243,8 @@ def _site_rows(site):
               # Written where the model is used (it needs the height), or where it is not 0.
               "altitude_m": site.altitude_m if site.altitude_m or site.latitude_deg is not None
               else None,
-              "horizontal_field_ut": site.horizontal_ut, "vertical_field_ut": site.vertical_ut}
+              "horizontal_field_ut": site.horizontal_ut, "vertical_field_ut": site.vertical_ut,
+              "vessel": site.vessel, "owner": site.owner, "installer": site.installer}
     for name in SITE_SETTINGS[1:]:
         if name == "place":
             continue
