@@ -26,6 +26,7 @@ import numpy as np
 from .analysis import Analysis, analyse
 from .card import Card, cards
 from .plan import Plan, Sensor
+from .plan import at_voltage as _at_voltage
 from .sitefield import SiteField, model_field
 from .spot import SpotSearch, rank_positions, search_box
 
@@ -75,6 +76,19 @@ def check(plan: Plan, *, remedies: bool = True,
     from .checking import check_plan
 
     return check_plan(plan, remedies=remedies, fixes_for=fixes_for)
+
+
+def at_voltage(plan: Plan, voltage_v: float) -> Plan:
+    """The plan with every load given in watts drawn at the DC voltage ``voltage_v`` [V]
+    ("what if we went to 24 V?"); loads given in amperes stay as they are. Check the plan it
+    returns: ``deviation.check(deviation.at_voltage(plan, 24))``.
+
+    Raises
+    ------
+    InputError
+        The voltage is not more than 0 and at most 1 500 V, or no load is given in watts.
+    """
+    return _at_voltage(plan, voltage_v)
 
 
 def _sensor(plan: Plan, sensor: str | Sensor) -> Sensor:

@@ -126,6 +126,25 @@ def finding_json(finding):
             "message": words.finding_message(finding), "source": words.finding_source(finding)}
 
 
+def _number_or_null(value):
+    return None if value is None or not math.isfinite(value) else round(float(value), 6)
+
+
+def loads_json(plan):
+    """Every circuit's load per state: the watts as given (null where given in A or blank) and
+    the DC current the budget counts, with its voltage and supply."""
+    return [{
+        "circuit": c.name, "voltage_v": c.voltage_v,
+        "supply": "via inverter" if c.inverter is not None else "DC",
+        "efficiency": c.efficiency if c.inverter is not None else None,
+        "idle_w": _number_or_null(c.idle_w) if c.inverter is not None else None,
+        "states": [{"state": state,
+                    "power_w": None if c.power_w is None else _number_or_null(c.power_w[k]),
+                    "current_a": round(float(c.currents_a[k]), 6)}
+                   for k, state in enumerate(plan.state_names)]}
+        for c in plan.circuits]
+
+
 def analysis_json(analysis):
     """The whole result as a JSON-ready dict."""
     plan = analysis.plan
@@ -154,6 +173,7 @@ def analysis_json(analysis):
             "states": [state_json(s.sensor, st, plan.site.units, plan.source) for st in s.states],
             "fix_set": fix_set_json(s.fixes, plan.site.units),
         } for s in analysis.sensors],
+        "loads": loads_json(plan),
         "findings": [finding_json(f) for f in analysis.findings],
         "skipped_examples": [{"sheet": sheet, "row": row}
                              for sheet, row in plan.skipped_examples],

@@ -304,8 +304,9 @@ def _site_section(site):
     return Section("Site", (table,), screen=False, sheet="site")
 
 
-def check_document(analysis, *, all_runs=False) -> Document:
-    """The check of a plan as one document (see :mod:`deviation.render.model`)."""
+def check_document(analysis, *, all_runs=False, voltage_v=None) -> Document:
+    """The check of a plan as one document (see :mod:`deviation.render.model`); ``voltage_v``
+    says the plan is the what-if of its loads in watts at that DC voltage [V]."""
     from ...card import cards
     from ..json_out import analysis_json
 
@@ -323,6 +324,9 @@ def check_document(analysis, *, all_runs=False) -> Document:
                                     tuple(_state_blocks(sensor, st, analysis, lengths, all_runs)),
                                     tone=TONE_OF[st.status], level=3, detail=True))
         sections.append(_card_section(one_card))
+    loads = loads_section(plan)
+    if loads is not None:
+        sections.insert(1, loads)
     sections.append(_site_section(analysis.site))
     per_ampere = _per_ampere_section(analysis)
     if per_ampere is not None:
@@ -331,9 +335,60 @@ def check_document(analysis, *, all_runs=False) -> Document:
         sections.append(Section("Findings", (Bullets(tuple(words.finding_text(f)
                                                           for f in analysis.findings)),),
                                 sheet="findings"))
-    return Document("check", "Deviation budget", _meta(analysis), tuple(sections),
+    meta = _meta(analysis)
+    if voltage_v is not None:
+        meta += (f"what-if: every load given in watts drawn at {voltage_v:g} V, not at the "
+                 "plan's own voltages",)
+    return Document("check", "Deviation budget", meta, tuple(sections),
                     words.CAUTIONS, _warnings(analysis), _recap(rows), analysis_json(analysis),
                     stamp())
+
+
+def _watts(value_w) -> Cell:
+    """A power in W: whole watts from 100 W up, one decimal below."""
+    return cell(value_w, 0 if abs(value_w) >= 100 or value_w == 0 else 1)
+
+
+def loads_section(plan):
+    """The load list, W and A side by side per state, where the plan gives any circuit a voltage
+    or a load in watts: the watts as given (or V × I for a current with a voltage) and the DC
+    current the budget counts."""
+    shown = [c for c in plan.circuits if c.voltage_v is not None or c.in_watts]
+    if not shown:
+        return None
+    columns = [Column("circuit", wrap=True), Column("V", numeric=True), Column("supply")]
+    for state in plan.state_names:
+        columns += [Column(f"{state} W", numeric=True), Column(f"{state} A", numeric=True)]
+    rows = []
+    for c in shown:
+        row = [cell(c.name), cell(c.voltage_v, 0 if float(c.voltage_v).is_integer() else 1),
+               cell("via inverter" if c.inverter else "DC")]
+        for k, amps in enumerate(c.currents_a):
+            given = c.power_w is not None and np.isfinite(c.power_w[k])
+            if given:
+                power = _watts(float(c.power_w[k]))
+            elif c.inverter is None and amps:
+                power = _watts(c.voltage_v * float(amps))
+                power = Cell(power.text, power.value, power.digits, Tone.MUTED)
+            else:
+                power = cell(None)
+            row += [power, amperes(float(amps)) if amps or given else cell(None)]
+        rows.append(tuple(row))
+    notes = ["W as the plan gives it; in grey, V × A for a current given in amperes. A is the "
+             "DC current the budget counts."]
+    for c in shown:
+        if c.inverter is not None:
+            efficiency = (f"{c.efficiency:g}" + (" (default: rule of thumb, no published source; "
+                                                 "below NREL's PVWatts curve)"
+                                                 if c.inverter.efficiency is None else ""))
+            idle = (f"{c.idle_w:.1f} W" + (" (default: the PVWatts curve's draw at no output, "
+                                           "0.62 % of the largest load)"
+                                           if c.inverter.idle_w is None else ""))
+            notes.append(f"{c.name}: via inverter, A = W / (V × efficiency) + idle / V with "
+                         f"efficiency {efficiency} and idle draw {idle}, counted wherever a "
+                         "power is given (blank: the inverter off).")
+    return Section("Loads", (Table(tuple(columns), tuple(rows), "Loads in W and A",
+                                   notes=tuple(notes)),), sheet="loads")
 
 
 def _per_ampere_section(analysis):
