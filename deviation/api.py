@@ -123,9 +123,11 @@ def rank_spots(plan: Plan, sensor: str | Sensor, positions_m=None, names=None, *
 
 
 def deviation_cards(plan_or_result: Plan | Analysis, sensor: str | None = None,
-                    step_deg: float = 15.0) -> tuple[Card, ...]:
+                    step_deg: float | None = None) -> tuple[Card, ...]:
     """Predicted deviation cards (deviation and the compass heading to steer at each magnetic
-    heading), per sensor and state; ``sensor`` limits them to one."""
+    heading), per sensor and state; ``sensor`` limits them to one. ``step_deg`` defaults to 15°,
+    or 30° in the aviation profile (which refuses more than 45°, 14 CFR 25.1547(d)); there each
+    card carries its placard lines and the 10° limit (``Card.placard``, ``CardState.limit``)."""
     analysis = (plan_or_result if isinstance(plan_or_result, Analysis)
                 else analyse(plan_or_result))
     return cards(analysis, step_deg, sensor)

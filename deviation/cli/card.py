@@ -28,8 +28,9 @@ def _slug(name):
 @main.command()
 @plan_argument
 @click.option("--sensor", "sensor_name", default=None, help="Only this sensor (default: all).")
-@click.option("--step", "step_deg", type=click.Choice(["5", "10", "15", "30", "45"]), default="15",
-              show_default=True, help="Degrees of magnetic heading between rows.")
+@click.option("--step", "step_deg", type=click.Choice(["5", "10", "15", "30", "45"]), default=None,
+              help="Degrees of magnetic heading between rows (default 15; 30 in the aviation "
+                   "profile).")
 @click.option("--plot", "plot_path", type=OutputPath(),
               help="Draw the deviation curves of all states (FILE.png or FILE.svg; with several "
                    "sensors, one file each, named FILE-sensor.png).")
@@ -52,7 +53,7 @@ def card(plan, sensor_name, step_deg, plot_path, as_json, width):
         for target in targets:
             prepare_output(target, plan)
     result = api.check(the_plan, remedies=False)
-    made = api.deviation_cards(result, sensor_name, float(step_deg))
+    made = api.deviation_cards(result, sensor_name, None if step_deg is None else float(step_deg))
     if plot_path:
         from ..render.plots import card_curves
 

@@ -43,8 +43,9 @@ from .common import (
 def check(plan, as_json, detail, all_runs, report, no_fixes, fixes_for, voltage_v, width):
     """Print the deviation budget of every sensor in every operating state.
 
-    Exit status: 0 every sensor within its budget in every state it is used in, 1 at least one
-    over budget, 2 the plan or the command line is wrong.
+    Exit status: 0 every sensor within its budget in every state it is used in (and, in the
+    aviation profile, every direction indicator within 10° on any heading in level flight), 1 at
+    least one over, 2 the plan or the command line is wrong.
     """
     from .. import api
 
@@ -79,4 +80,6 @@ def check(plan, as_json, detail, all_runs, report, no_fixes, fixes_for, voltage_
         write_document(document, console_for(width), detail=detail)
         if report:
             say(f"Report written to {report}")
-    sys.exit(0 if result.within_budget else 1)
+    from ..card import within_aviation_limit
+
+    sys.exit(0 if result.within_budget and within_aviation_limit(result) else 1)

@@ -19,6 +19,7 @@ from .. import __version__
 from ..aftercare import NO_VISIBLE_CHANGE_DEG, SETTINGS_SHEET, TEST_SHEET
 from ..physics.swing import COEFFICIENTS
 from ..text import xlsx_value
+from . import words
 from .words import CAUTIONS
 
 #: What the read-back thresholds rest on, said on every sheet that uses them.
@@ -647,6 +648,9 @@ def render_refit(result, console):
                   f"advised above {result.threshold_deg:g}° (common practice, no source).")
     for note in result.notes:
         console.print(Text(f"  • {note}", style="yellow"))
+    for found in result.triggers:
+        console.print(Text(f"  • {words.trigger_text(found)}",
+                           style="yellow" if result.profile == "aviation" else ""))
     table = _console_table(console, "", [("sensor", "left"), ("state", "left"),
                                          ("held", "right"), ("level", "right"),
                                          ("card change", "right"), ("new swing", "left")])
@@ -679,6 +683,19 @@ def refit_json(result):
     return {"old": result.old_source, "new": result.new_source,
             "threshold_deg": result.threshold_deg, "swing_advised": result.swing_advised,
             "notes": list(result.notes),
+            "profile": result.profile,
+            "triggers": [{"trigger": t.trigger.value, "paragraph": t.paragraph,
+                          "runs": list(t.runs), "circuits": list(t.circuits),
+                          "items": list(t.items),
+                          "horizontal_before_ut": None if t.horizontal_before_t is None
+                          else round(t.horizontal_before_t * 1e6, 4),
+                          "horizontal_after_ut": None if t.horizontal_after_t is None
+                          else round(t.horizontal_after_t * 1e6, 4),
+                          "field_change": None if t.field_change is None
+                          else round(t.field_change, 4),
+                          "card_change_deg": None if t.card_change_deg is None
+                          else round(t.card_change_deg, 4),
+                          "text": words.trigger_text(t)} for t in result.triggers],
             "states": [{"sensor": st.sensor, "state": st.state, "used": st.used,
                         "held_before": round(st.held_before, 4),
                         "held_after": round(st.held_after, 4),

@@ -5,7 +5,19 @@ from __future__ import annotations
 
 from ...quantities import Unit
 from .. import words
-from ..model import TONE_OF, Cell, Chart, Column, Document, Paragraph, Section, Table, cell
+from ..model import (
+    TONE_OF,
+    Bullets,
+    Cell,
+    Chart,
+    Column,
+    Document,
+    Paragraph,
+    Section,
+    Table,
+    Tone,
+    cell,
+)
 from .common import microtesla, stamp
 
 
@@ -66,12 +78,32 @@ def card_blocks(card):
             if st.unadjusted_deg is not None:
                 row.append(east_west(float(st.unadjusted_deg[i])))
             rows.append(tuple(row))
-        title = st.state + ("" if st.status.value != "not used" else
-                            " (the sensor is not relied on in this state)")
+        conditions = words.condition_words(st.condition)
+        title = (st.state + (f" — {conditions}" if conditions else "")
+                 + ("" if st.status.value != "not used" else
+                    " (the sensor is not relied on in this state)"))
         blocks.append(Table(tuple(columns), tuple(rows), title, TONE_OF[st.status]))
         blocks.append(_held_line(card, st))
+        if st.limit is not None:
+            blocks.append(Paragraph(f"{words.limit_text(st.limit)} ({words.LIMIT_SOURCE}).",
+                                    Tone.GOOD if st.limit.within else Tone.BAD))
+    if card.placard:
+        blocks += placard_blocks(card)
     blocks.append(Chart(f"{'total-field error' if scalar else 'deviation'} curves of "
                         f"{card.sensor.name}", lambda fmt: plots.card_curves(card, fmt=fmt)))
+    return blocks
+
+
+def placard_blocks(card):
+    """The placard's lines (aviation profile), with where each requirement comes from."""
+    lines = card.placard
+    stated = all(line.radios_stated for line in lines)
+    blocks = [Paragraph(f"Placard lines for {card.sensor.name} ({words.PLACARD_SOURCE}):",
+                        Tone.STRONG),
+              Bullets(tuple(words.placard_text(line) for line in lines))]
+    if any(line.limit is not None and not line.limit.within for line in lines):
+        blocks.append(Paragraph(f"Over the limit: {words.OVER_LIMIT_SOURCE}.", Tone.BAD))
+    blocks.append(Paragraph(words.PLACARD_CAUTION, Tone.PLAIN if stated else Tone.WARN))
     return blocks
 
 

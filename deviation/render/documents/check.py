@@ -314,7 +314,7 @@ def check_document(analysis, *, all_runs=False, voltage_v=None) -> Document:
     lengths = Lengths(plan)
     rows = summary_rows(analysis)
     sections = [_summary_section(analysis, rows)]
-    for result, one_card in zip(analysis.sensors, cards(analysis, 15.0)):
+    for result, one_card in zip(analysis.sensors, cards(analysis)):
         sensor = result.sensor
         tone = TONE_OF[result.status]
         sections.append(Section(sensor.name, tuple(_short_blocks(result, analysis, lengths)),
@@ -327,6 +327,9 @@ def check_document(analysis, *, all_runs=False, voltage_v=None) -> Document:
     loads = loads_section(plan)
     if loads is not None:
         sections.insert(1, loads)
+    aviation = aviation_section(analysis)
+    if aviation is not None:
+        sections.insert(1, aviation)
     sections.append(_site_section(analysis.site))
     per_ampere = _per_ampere_section(analysis)
     if per_ampere is not None:
@@ -340,8 +343,51 @@ def check_document(analysis, *, all_runs=False, voltage_v=None) -> Document:
         meta += (f"what-if: every load given in watts drawn at {voltage_v:g} V, not at the "
                  "plan's own voltages",)
     return Document("check", "Deviation budget", meta, tuple(sections),
-                    words.CAUTIONS, _warnings(analysis), _recap(rows), analysis_json(analysis),
+                    words.CAUTIONS, _warnings(analysis), _recap(rows) + _aviation_recap(analysis),
+                    analysis_json(analysis),
                     stamp())
+
+
+def aviation_section(analysis):
+    """The aviation profile's verdict: every direction indicator in every state against 10° on
+    any heading in level flight, beside (not instead of) its own budget."""
+    from ...card import aviation_verdicts
+
+    verdicts = aviation_verdicts(analysis)
+    if not verdicts:
+        return None
+    columns = (Column("sensor", wrap=True), Column("state", wrap=True),
+               Column("conditions", wrap=True), Column("level, worst heading", numeric=True),
+               Column("limit", numeric=True), Column("verdict"))
+    rows = []
+    for v in verdicts:
+        tone = (Tone.MUTED if not v.used else Tone.GOOD if v.limit.within else Tone.BAD)
+        verdict = ("not relied on" if not v.used else "within" if v.limit.within else "OVER")
+        rows.append((cell(v.sensor), cell(v.state),
+                     cell(words.condition_words(v.condition) or "not stated"),
+                     figure(v.limit.level_deg, Unit.DEGREES, tone=tone),
+                     cell(v.limit.limit_deg, 0, suffix="°"), Cell(verdict, verdict, None, tone)))
+    notes = (f"{words.LIMIT_SOURCE}. The compensated installation: the residual after "
+             "adjustment where the sensor is adjusted in a reference state, else the absolute "
+             "deviation; with the worst switching of the independent loads and every part of "
+             "unknown direction.",)
+    return Section("Aviation: 10° on any heading, level",
+                   (Table(columns, tuple(rows), "Direction indicators against 10°", notes=notes),),
+                   sheet="aviation")
+
+
+def _aviation_recap(analysis):
+    from ...card import aviation_verdicts
+
+    over = [v for v in aviation_verdicts(analysis) if v.used and not v.limit.within]
+    if not aviation_verdicts(analysis):
+        return ()
+    if not over:
+        return (Paragraph("Aviation: every direction indicator within 10° on any heading in "
+                          "level flight.", Tone.GOOD),)
+    return (Paragraph("Aviation: over 10° in level flight — " + "; ".join(
+        f"{v.sensor} in {v.state} ({words.with_degree_sign(v.limit.level_deg)})" for v in over)
+        + ".", Tone.BAD),)
 
 
 def _watts(value_w) -> Cell:
