@@ -252,3 +252,30 @@ def _case_insensitive(folder):
         return os.path.exists(os.path.join(folder, os.path.basename(probe).upper()))
     finally:
         os.unlink(probe)
+
+
+def plan_digest(path) -> str | None:
+    """The SHA-256 of a plan as hex, to tie a printed report to the file it came from.
+
+    A workbook is hashed as its bytes (``sha256sum plan.xlsx`` gives the same). A folder of CSV
+    sheets is hashed over its ``.csv`` files in name order, each as its name, a NUL byte, its
+    size in decimal, a NUL byte and its bytes, so renaming, adding or changing a sheet changes
+    the digest. None where the plan is not a file or folder (built from tables in Python).
+    """
+    import hashlib
+
+    path = Path(path)
+    digest = hashlib.sha256()
+    if path.is_file():
+        with open(path, "rb") as handle:
+            for block in iter(lambda: handle.read(1 << 20), b""):
+                digest.update(block)
+        return digest.hexdigest()
+    if path.is_dir():
+        for sheet in sorted(p for p in path.iterdir() if p.suffix.lower() == ".csv"
+                            and p.is_file()):
+            data = sheet.read_bytes()
+            digest.update(sheet.name.encode("utf-8") + b"\0" + str(len(data)).encode() + b"\0")
+            digest.update(data)
+        return digest.hexdigest()
+    return None

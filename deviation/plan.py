@@ -101,6 +101,10 @@ class Site:
     # Further places of the operating area: (name, latitude_deg, longitude_deg), from the site
     # sheet's "place" rows; the area command evaluates the plan at each of them too.
     places: tuple[tuple[str, float, float], ...] = ()
+    # Who and what the reports are for (the site sheet's vessel, owner and installer rows).
+    vessel: str | None = None
+    owner: str | None = None
+    installer: str | None = None
     # What the plan is for (schema.PROFILES): "general", or "aviation" (the card in 30 degree
     # steps with the placard's conditions, the 10 degree limit, the swing triggers of aircraft).
     profile: str = "general"

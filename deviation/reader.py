@@ -60,6 +60,7 @@ from .schema import (
     SENSOR_KINDS,
     SHEETS,
     SITE_SETTINGS,
+    SITE_TEXT_SETTINGS,
     SUPPLIES,
     SWITCHING,
     TOTAL_FIELD_KIND,
@@ -340,8 +341,10 @@ def _read_site(sheet, collector):
                                for number, value, note in place_rows) if p is not None)
     profile = _choice(values.get("profile"), PROFILES, "general", collector, "site",
                       rows.get("profile"), "value", "a profile")
+    text = {name: str(values[name]).strip() or None for name in SITE_TEXT_SETTINGS
+            if values.get(name) is not None}
     return Site(unit, latitude, longitude, year, date_text, altitude, horizontal, vertical,
-                tuple(notes), places=places, profile=profile)
+                tuple(notes), places=places, profile=profile, **text)
 
 
 def _place(number, value, note, collector):

@@ -41,6 +41,11 @@ SITE_ROWS = [{"setting": "units", "value": "m",
              {"setting": "horizontal_field_ut",
               "note": "optional: measured H in µT, overrides the model"},
              {"setting": "vertical_field_ut", "note": "optional: measured Z in µT, positive down"},
+             {"setting": "vessel", "note": "optional: the vessel or vehicle, for the reports' "
+                                           "first page and the deviation card"},
+             {"setting": "owner", "note": "optional: its owner, for the reports' first page"},
+             {"setting": "installer", "note": "optional: who installs the wiring, for the "
+                                              "reports' first page"},
              {"setting": "profile", "note": "optional: general (blank) or aviation (the card "
                                             "in 30° steps with the placard's conditions, the "
                                             "10° limit on any heading)"}]
@@ -249,7 +254,8 @@ def _site_rows(site):
               # Written where the model is used (it needs the height), or where it is not 0.
               "altitude_m": site.altitude_m if site.altitude_m or site.latitude_deg is not None
               else None,
-              "horizontal_field_ut": site.horizontal_ut, "vertical_field_ut": site.vertical_ut}
+              "horizontal_field_ut": site.horizontal_ut, "vertical_field_ut": site.vertical_ut,
+              "vessel": site.vessel, "owner": site.owner, "installer": site.installer}
     if site.profile != "general":
         values["profile"] = site.profile
     for name in SITE_SETTINGS[1:]:

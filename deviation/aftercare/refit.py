@@ -12,6 +12,7 @@ from ..budget import asin_deg, item_effect
 from ..errors import InputError, Problem
 from ..physics import heading
 from ..plan import Plan, frozen_array, name_key
+from ..quantities import Unit
 from .common import LOCATION_FIELD_CHANGE, SWING_THRESHOLD_DEG
 
 
@@ -38,6 +39,33 @@ class StateRefit:
     card_change_deg: float             # largest change of the deviation card over headings
     swing_advised: bool
     differences: tuple[Difference, ...]
+    unit: Unit = Unit.DEGREES          # the budget's: of held_before and held_after
+
+
+class Change(str, enum.Enum):
+    """What a refit did to a sensor or a state as a whole."""
+
+    SENSOR_REMOVED = "sensor removed"      # only in the earlier plan
+    SENSOR_ADDED = "sensor added"          # new: it needs adjusting and swinging
+    SENSOR_MOVED = "sensor moved"          # it needs adjusting and swinging again
+    STATE_REMOVED = "state removed"
+    STATE_ADDED = "state added"            # no earlier figures to compare
+
+
+#: Changes after which the sensor itself must be adjusted and swung (anew or again).
+SWING_CHANGES = (Change.SENSOR_ADDED, Change.SENSOR_MOVED)
+
+
+@dataclass(frozen=True)
+class RefitNote:
+    """A sensor or state only in one version of the plan, or a sensor that moved."""
+
+    change: Change
+    name: str                          # the sensor's or the state's
+
+    @property
+    def advises_swing(self) -> bool:
+        return self.change in SWING_CHANGES
 
 
 class SwingTrigger(str, enum.Enum):
@@ -89,17 +117,31 @@ class Refit:
     new_source: str
     threshold_deg: float
     states: tuple[StateRefit, ...]
-    notes: tuple[str, ...]             # sensors or states only in one version, moved sensors
+    notes: tuple[RefitNote, ...]       # sensors or states only in one version, moved sensors
     triggers: tuple[TriggerFound, ...] = ()   # occasions for a swing the refit meets
     profile: str = "general"           # the new plan's: in "aviation" every trigger calls a swing
 
     @property
     def swing_advised(self) -> bool:
-        """A new swing is due: the card of a used state moves beyond the threshold, a sensor
-        moved, or (aviation profile) the refit meets an occasion of AC 43.13-1B par. 12-37a."""
+        """A new swing is due: the card of a used state moves beyond the threshold, a sensor is
+        new or has moved, or (aviation profile) the refit meets an occasion of AC 43.13-1B
+        par. 12-37a."""
         return any(s.swing_advised for s in self.states) or any(
-            n.startswith("sensor") and "moved" in n for n in self.notes) or (
-            self.profile == "aviation" and bool(self.triggers))
+            n.advises_swing for n in self.notes) or (self.profile == "aviation"
+                                                     and bool(self.triggers))
+
+    def to_frame(self):
+        """One row per sensor and state: the held figures before and after (in the budget's
+        unit, named in ``unit``), the level deviation before and after and the card change
+        [deg], and whether a new swing is advised."""
+        import pandas
+
+        return pandas.DataFrame([{
+            "sensor": st.sensor, "state": st.state, "used": st.used,
+            "held_before": st.held_before, "held_after": st.held_after, "unit": st.unit.value,
+            "level_before_deg": st.level_before_deg, "level_after_deg": st.level_after_deg,
+            "card_change_deg": st.card_change_deg, "swing_advised": st.swing_advised}
+            for st in self.states])
 
 
 def _level_deg(st, seen_t, horizontal_t):
@@ -285,15 +327,15 @@ def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> R
     old_sensors = {name_key(s.sensor.name): s for s in before.sensors}
     new_sensors = {name_key(s.sensor.name): s for s in after.sensors}
     for key in old_sensors.keys() - new_sensors.keys():
-        notes.append(f'sensor "{old_sensors[key].sensor.name}" is only in the earlier plan')
+        notes.append(RefitNote(Change.SENSOR_REMOVED, old_sensors[key].sensor.name))
     for key in new_sensors.keys() - old_sensors.keys():
-        notes.append(f'sensor "{new_sensors[key].sensor.name}" is new: adjust and swing it')
+        notes.append(RefitNote(Change.SENSOR_ADDED, new_sensors[key].sensor.name))
     old_states = {name_key(s): s for s in old.state_names}
     new_states = {name_key(s): s for s in new.state_names}
     for key in old_states.keys() - new_states.keys():
-        notes.append(f'state "{old_states[key]}" is only in the earlier plan')
+        notes.append(RefitNote(Change.STATE_REMOVED, old_states[key]))
     for key in new_states.keys() - old_states.keys():
-        notes.append(f'state "{new_states[key]}" is new: no earlier figures to compare')
+        notes.append(RefitNote(Change.STATE_ADDED, new_states[key]))
     old_runs = {name_key(r.name): i for i, r in enumerate(old.runs)}
     new_runs = {name_key(r.name): i for i, r in enumerate(new.runs)}
     old_items = {name_key(e.name): e for e in old.equipment}
@@ -306,7 +348,7 @@ def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> R
             continue
         sensor = new_result.sensor
         if not _same_array(old_result.sensor.position_m, sensor.position_m):
-            notes.append(f'sensor "{sensor.name}" moved: adjust and swing it again')
+            notes.append(RefitNote(Change.SENSOR_MOVED, sensor.name))
         reference = old_result.sensor.reference_state
         b_ref = (np.asarray(old_result.state(reference).field_t) if reference
                  and reference in old.state_names else np.zeros(3))
@@ -367,6 +409,7 @@ def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> R
             states.append(StateRefit(
                 sensor.name, state, st_new.used, st_old.held, st_new.held,
                 float(level[0]), float(level[1]), card,
-                bool(st_new.used and card > threshold_deg), tuple(differences)))
+                bool(st_new.used and card > threshold_deg), tuple(differences),
+                sensor.budget.unit))
     return Refit(old.source, new.source, float(threshold_deg), tuple(states), tuple(notes),
                  swing_triggers(old, new, before, after, threshold_deg), new.site.profile)

@@ -29,7 +29,10 @@ from .common import (
 @click.option("--all-runs", is_flag=True, help="List every run, not only the largest ones "
                                                 "(with --detail; reports list every run).")
 @click.option("--report", type=OutputPath(),
-              help="Also write a report: FILE.xlsx or FILE.html.")
+              help="Also write a report: FILE.xlsx, FILE.html or FILE.pdf.")
+@click.option("--paper", type=click.Choice(["A4", "Letter"], case_sensitive=False),
+              default=None, help="Paper of the report (default: Letter for a plan in feet or "
+                                 "inches, else A4).")
 @click.option("--no-fixes", is_flag=True,
               help="Leave out the remedies and the set of fixes (the slowest part on big plans; "
                    "the budget, the verdict and the exit status are the same).")
@@ -40,7 +43,8 @@ from .common import (
                    "(what if the system were 24 V?); loads in amperes stay as they are.")
 @width_option
 @library_errors
-def check(plan, as_json, detail, all_runs, report, no_fixes, fixes_for, voltage_v, width):
+def check(plan, as_json, detail, all_runs, report, paper, no_fixes, fixes_for, voltage_v,
+          width):
     """Print the deviation budget of every sensor in every operating state.
 
     Exit status: 0 every sensor within its budget in every state it is used in (and, in the
@@ -71,7 +75,13 @@ def check(plan, as_json, detail, all_runs, report, no_fixes, fixes_for, voltage_
         from ..render.reports import write_report
 
         # Paper holds every run; the screen only the largest unless asked.
-        write_report(check_document(result, all_runs=True, voltage_v=voltage_v), report, plan)
+        paper_document = check_document(result, all_runs=True, voltage_v=voltage_v)
+        if paper:
+            from dataclasses import replace
+
+            paper_document = replace(paper_document,
+                                     paper="Letter" if paper.lower() == "letter" else "A4")
+        write_report(paper_document, report, plan)
     if as_json:
         echo_json(document.data)
     else:

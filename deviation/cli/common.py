@@ -465,6 +465,30 @@ def json_option(command):
 
 
 plan_argument = click.argument("plan", type=InputPath())
+report_option = click.option("--report", type=OutputPath(),
+                             help="Also write a printable report: FILE.xlsx, FILE.html or "
+                                  "FILE.pdf.")
+
+
+def write_outputs(document, report, plan_path, as_json, width, written=()):
+    """The end of a command: the report written (if asked for), then the document as JSON or on
+    the terminal, and a line for each file written.
+
+    ``written`` lists further (path, what) pairs the command wrote itself.
+    """
+    if report:
+        from ..render.reports import write_report
+
+        write_report(document, report, plan_path)
+    if as_json:
+        echo_json(document.data)
+        return
+    from ..render.terminal import write_document
+
+    write_document(document, console_for(width))
+    for target, what in (*written, (report, "Report")):
+        if target:
+            say(f"{what} written to {target}")
 
 
 @click.group(cls=Commands, context_settings={"help_option_names": ["-h", "--help"]})

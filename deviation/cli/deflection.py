@@ -7,12 +7,11 @@ import click
 from .common import (
     CommandProblem,
     InputPath,
-    console_for,
-    echo_json,
     json_option,
     library_errors,
     main,
     width_option,
+    write_outputs,
 )
 
 
@@ -68,12 +67,7 @@ def deflection(deflection_deg, distance, position, field_ut, plan_path, item, at
 
     moment = moment_from_deflection_am2(deflection_deg, distance_m, horizontal_t, position)
     row = deflection_item(item, at, deflection_deg, distance_m, horizontal_t, position)
-    if as_json:
-        from ..render.aftercare import deflection_json
+    from ..render.documents.aftercare import deflection_document
 
-        echo_json(deflection_json(row, moment, deflection_deg, distance_m, position, horizontal_t))
-        return
-    from ..render.aftercare import render_deflection
-
-    render_deflection(row, moment, deflection_deg, distance_m, position, horizontal_t,
-                      console_for(width))
+    write_outputs(deflection_document(row, moment, deflection_deg, distance_m, position,
+                                      horizontal_t), None, None, as_json, width)

@@ -80,10 +80,12 @@ def _no_spot(plan, sensor, result, region):
 @click.option("--plot", "plot_path", type=OutputPath(),
               help="Draw a map of the worst case over the region at the best spot's height "
                    "(FILE.png or FILE.svg).")
+@click.option("--report", type=OutputPath(),
+              help="Also write the ranking: FILE.xlsx, FILE.html or FILE.pdf.")
 @json_option
 @width_option
 @library_errors
-def spot(plan, sensor_name, region, step, top, plot_path, as_json, width):
+def spot(plan, sensor_name, region, step, top, plot_path, report, as_json, width):
     """Find the mounting spot where a sensor's budget figure is smallest.
 
     Searches a box coarse to fine (the figure is the one held against the budget: the worst
@@ -105,6 +107,10 @@ def spot(plan, sensor_name, region, step, top, plot_path, as_json, width):
     if plot_path:
         if not region:
             raise CommandProblem("--plot needs --region (a map of a box)")
+    if report:
+        from ..render.reports import check_report_path
+
+        check_report_path(report, plan)
     candidates = spots_for(the_plan, sensor)
     if not region and not candidates:
         if the_plan.spots:
@@ -137,20 +143,20 @@ def spot(plan, sensor_name, region, step, top, plot_path, as_json, width):
         z = result.spots[0].position_m[2]
         x, y, figure = slice_map(the_plan, analysis, sensor, result.region[0], result.region[1], z)
         spot_map(the_plan, result, x, y, figure, plot_path, z_m=z)
+    from ..render.documents.spot import spots_document
+
+    document = spots_document(result, the_plan, seconds)
+    if report:
+        from ..render.reports import write_report
+
+        write_report(document, report, plan)
     if as_json:
-        from ..render.json_out import spots_json
-
-        document = spots_json(result)
-        document.update({
-            "within_budget": result.within_budget, "best_on_edge": result.best_on_edge,
-            "edge_faces": list(result.edge_faces),
-            "volumes": [{"volume": v.name, "kind": v.kind} for v in result.volumes],
-            "excluded": [{"spot": name, "reason": why} for name, why in result.excluded]})
-        echo_json(document)
+        echo_json(document.data)
     else:
-        from ..render.terminal import render_spots
+        from ..render.terminal import write_document
 
-        render_spots(result, the_plan, console_for(width), seconds)
-        if plot_path:
-            say(f"Map written to {plot_path}")
+        write_document(document, console_for(width))
+        for target, what in ((plot_path, "Map"), (report, "Report")):
+            if target:
+                say(f"{what} written to {target}")
     sys.exit(0 if result.within_budget else 1)

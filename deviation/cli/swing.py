@@ -7,15 +7,13 @@ import click
 from .common import (
     InputPath,
     OutputPath,
-    console_for,
-    echo_json,
     json_option,
     library_errors,
     main,
     plan_argument,
     readings_errors,
-    say,
     width_option,
+    write_outputs,
 )
 
 
@@ -38,7 +36,7 @@ from .common import (
 @click.option("--plot", "plot_path", type=OutputPath(),
               help="Draw readings, fitted and predicted curves: FILE.png or FILE.svg.")
 @click.option("--report", type=OutputPath(),
-              help="Also write the fit: FILE.xlsx or FILE.html (with the curves).")
+              help="Also write the fit: FILE.xlsx, or FILE.html or FILE.pdf (with the curves).")
 @json_option
 @width_option
 @library_errors
@@ -64,6 +62,10 @@ def swing(plan, readings, sensor_name, state, on, adjusted_in, not_adjusted, plo
         raise CommandProblem("give --adjusted-in or --not-adjusted, not both")
     the_plan = api.read_plan(plan)
     sensor = the_plan.sensor(sensor_name)
+    if report:
+        from ..render.reports import check_report_path
+
+        check_report_path(report, plan)
     data = read_swing(readings, the_plan, state)
     comparison = swing_comparison(the_plan, sensor, data, on=on,
                                   adjusted_in=None if not_adjusted else adjusted_in or "reference")
@@ -71,18 +73,7 @@ def swing(plan, readings, sensor_name, state, on, adjusted_in, not_adjusted, plo
         from ..render.aftercare import swing_plot
 
         swing_plot(comparison, plot_path)
-    if report:
-        from ..render.aftercare import write_swing
+    from ..render.documents.aftercare import swing_document
 
-        write_swing(comparison, report)
-    if as_json:
-        from ..render.aftercare import swing_json
-
-        echo_json(swing_json(comparison))
-        return
-    from ..render.aftercare import render_swing
-
-    render_swing(comparison, console_for(width))
-    for target, what in ((plot_path, "Curves"), (report, "Report")):
-        if target:
-            say(f"{what} written to {target}")
+    write_outputs(swing_document(comparison), report, plan, as_json, width,
+                  [(plot_path, "Curves")])

@@ -9,15 +9,13 @@ import click
 from .common import (
     InputPath,
     OutputPath,
-    console_for,
-    echo_json,
     json_option,
     library_errors,
     main,
     plan_argument,
     readings_errors,
-    say,
     width_option,
+    write_outputs,
 )
 
 
@@ -39,7 +37,7 @@ from .common import (
 @click.option("--fraction", type=click.FloatRange(0, 1), default=0.25, show_default=True,
               help="Share of the predicted change allowed (common practice, no source).")
 @click.option("--report", type=OutputPath(),
-              help="Also write the comparison: FILE.xlsx or FILE.html.")
+              help="Also write the comparison: FILE.xlsx, FILE.html or FILE.pdf.")
 @json_option
 @width_option
 @library_errors
@@ -61,22 +59,15 @@ def test_results(plan, readings, sensor_name, heading_deg, start_state, adjusted
     from ..aftercare import read_switch_on_results
 
     the_plan = api.read_plan(plan)
+    if report:
+        from ..render.reports import check_report_path
+
+        check_report_path(report, plan)
     results = read_switch_on_results(the_plan, readings, sensor=sensor_name,
                                      heading_deg=heading_deg, start_state=start_state,
                                      adjusted=adjusted, resolution_deg=resolution_deg,
                                      fraction=fraction)
-    if report:
-        from ..render.aftercare import write_results
+    from ..render.documents.aftercare import test_results_document
 
-        write_results(results, report)
-    if as_json:
-        from ..render.aftercare import results_json
-
-        echo_json(results_json(results))
-    else:
-        from ..render.aftercare import render_test_results
-
-        render_test_results(results, console_for(width))
-        if report:
-            say(f"Report written to {report}")
+    write_outputs(test_results_document(results), report, plan, as_json, width)
     sys.exit(0 if results.agrees else 1)

@@ -6,14 +6,12 @@ import click
 
 from .common import (
     OutputPath,
-    console_for,
-    echo_json,
     json_option,
     library_errors,
     main,
     plan_argument,
-    say,
     width_option,
+    write_outputs,
 )
 
 
@@ -31,7 +29,7 @@ from .common import (
                    "reference state.")
 @click.option("--sheet", "sheet_path", type=OutputPath(),
               help="Also write the printable sheet: FILE.xlsx (fill it in and read it back with "
-                   "test-results) or FILE.html (to print).")
+                   "test-results), FILE.html or FILE.pdf (to print).")
 @json_option
 @width_option
 @library_errors
@@ -50,18 +48,16 @@ def test_sheet(plan, sensor_name, heading_deg, start_state, adjusted, sheet_path
     from ..aftercare import switch_on_test
 
     the_plan = api.read_plan(plan)
+    if sheet_path:
+        from ..render.reports import check_report_path
+
+        check_report_path(sheet_path, plan)
     test = switch_on_test(the_plan, sensor_name, heading_deg, start_state, adjusted)
+    from ..render.documents.aftercare import test_sheet_document
+
+    document = test_sheet_document(test)
     if sheet_path:
-        from ..render.aftercare import write_test_sheet
+        from ..render.reports import write_report
 
-        write_test_sheet(test, sheet_path)
-    if as_json:
-        from ..render.aftercare import test_json
-
-        echo_json(test_json(test))
-        return
-    from ..render.aftercare import render_test_sheet
-
-    render_test_sheet(test, console_for(width))
-    if sheet_path:
-        say(f"Sheet written to {sheet_path}")
+        write_report(document, sheet_path, plan)
+    write_outputs(document, None, plan, as_json, width, [(sheet_path, "Sheet")])

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import threading
 import time
+from dataclasses import replace
 
 from rich import box
 from rich.console import Console as _RichConsole
@@ -129,22 +130,88 @@ def _bullets(items, console, style="", ordered=False):
     console.print(grid)
 
 
+#: A column heading this short is never broken into lines.
+SHORT_HEADING = 8
+#: Widest a name may be before it is folded (a name longer than this is rare).
+LONGEST_WORD = 30
+
+
+def _column_min(block, c):
+    """The least width of a column: its longest number (never broken), or its longest word."""
+    column = block.columns[c]
+    texts = [row[c].text for row in block.rows if c < len(row)]
+    head = max((len(w) for w in column.title.split()), default=1)
+    if len(column.title) <= SHORT_HEADING:           # "x mm", "A", "held °" stay on one line
+        head = len(column.title)
+    if column.numeric:
+        return max([head] + [len(t) for t in texts])
+    longest = max((len(w) for t in texts for w in t.split()), default=1)
+    return min(max(head, longest), LONGEST_WORD)
+
+
+def _chunks(block, width):
+    """Columns in groups that each fit ``width`` with the first column repeated: a table too
+    wide for the terminal is printed in parts, never with a number or a word cut. The parts are
+    as even as the fewest parts allow."""
+    mins = [_column_min(block, c) for c in range(len(block.columns))]
+
+    def split(capacity):
+        # A table is its columns, a space either side of each but the outer two, n + 1 rules.
+        chunks, current, used = [], [0], mins[0] + 2
+        for c in range(1, len(block.columns)):
+            if used + mins[c] + 3 > capacity and len(current) > 1:
+                chunks.append(current)
+                current, used = [0], mins[0] + 2
+            current.append(c)
+            used += mins[c] + 3
+        chunks.append(current)
+        return chunks
+
+    fewest = split(width)
+    if len(fewest) == 1:
+        return fewest, mins
+    total = sum(m + 3 for m in mins[1:])
+    capacity = mins[0] + 2 + total // len(fewest)
+    while capacity < width and len(split(capacity)) > len(fewest):
+        capacity += 1
+    return split(min(capacity, width)), mins
+
+
+def _on_screen(block):
+    """The table without what a screen has no use for: columns left for a pen, and columns
+    with nothing in them."""
+    keep = [c for c in range(len(block.columns))
+            if c not in block.pen and (not block.rows or any(row[c].text for row in block.rows))]
+    if len(keep) == len(block.columns):
+        return block
+    return replace(block, columns=tuple(block.columns[c] for c in keep),
+                   rows=tuple(tuple(row[c] for c in keep) for row in block.rows), pen=())
+
+
 def _table(block, console):
-    """A table whose numbers never break and whose names wrap only between words."""
+    """A table whose numbers never break and whose names wrap only between words; too wide for
+    the terminal, it is printed in parts, each with the first column."""
+    block = _on_screen(block)
     if block.title:
         console.print(Text(block.title, style=STYLE_OF[block.tone]))
-    table = Table(box=_box(console), padding=(0, 1), pad_edge=False)
-    for c, column in enumerate(block.columns):
-        if column.numeric:
-            table.add_column(Text(column.title), justify="right", no_wrap=True)
-        else:
-            words_in = [w for row in block.rows if c < len(row) for w in row[c].text.split()]
-            longest = max((len(w) for w in words_in), default=1)
-            table.add_column(Text(column.title), min_width=min(longest, 24),
-                             overflow="fold", ratio=1 if column.wrap else None)
-    for row in block.rows:
-        table.add_row(*(Text(c.text, style=STYLE_OF[c.tone]) for c in row))
-    console.print(table)
+    chunks, mins = _chunks(block, console.width)
+    for part, columns in enumerate(chunks):
+        table = Table(box=_box(console), padding=(0, 1), pad_edge=False,
+                      show_header=any(c.title for c in block.columns))
+        for c in columns:
+            column = block.columns[c]
+            header = Text(column.title, overflow="fold")
+            if column.numeric:
+                table.add_column(header, justify="right", width=mins[c])
+            else:
+                table.add_column(header, min_width=mins[c], overflow="fold",
+                                 ratio=1 if column.wrap else None)
+        for row in block.rows:
+            table.add_row(*(Text(row[c].text, style=STYLE_OF[row[c].tone],
+                                 no_wrap=block.columns[c].numeric) for c in columns))
+        if len(chunks) > 1:
+            console.print(Text(f"  (part {part + 1} of {len(chunks)})", style="dim"))
+        console.print(table)
     for note in block.notes:
         console.print(Padding(Text(note), (0, 0, 0, 2)))
 

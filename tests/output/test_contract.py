@@ -88,7 +88,8 @@ class _Tables(HTMLParser):
 def from_html(page):
     parser = _Tables()
     parser.feed(page)
-    summary = parser.tables[0]
+    # The summary table: the first headed sensor, budget, ... (page 1's tables come before it).
+    summary = next(t for t in parser.tables if t and t[0][:2] == ["sensor", "budget"])
     return {row[0]: (row[1], tuple(row[2:-1]), row[-1]) for row in summary[1:]}
 
 

@@ -100,7 +100,7 @@ def test_a_hostile_name_in_a_message_on_stderr_is_disarmed(tmp_path):
 def test_xlsx_writers_take_names_xml_cannot_hold(tmp_path):
     # openpyxl raises IllegalCharacterError for these characters; every workbook writer cleans.
     from deviation.aftercare import switch_on_test
-    from deviation.render.aftercare import write_test_sheet
+    from deviation.render.documents.aftercare import test_sheet_document
     from deviation.render.reports import write_report
     from deviation.template import write_plan as write_workbook
 
@@ -109,7 +109,8 @@ def test_xlsx_writers_take_names_xml_cannot_hold(tmp_path):
 
     write_report(check_document(deviation.check(plan), all_runs=True), tmp_path / "report.xlsx",
                  plan.source)
-    write_test_sheet(switch_on_test(plan, "helm compass", 90.0), tmp_path / "sheet.xlsx")
+    write_report(test_sheet_document(switch_on_test(plan, "helm compass", 90.0)),
+                 tmp_path / "sheet.xlsx", plan.source)
     write_workbook(plan, tmp_path / "plan.xlsx")
     for name in ("report.xlsx", "sheet.xlsx", "plan.xlsx"):
         cells = [v for sheet in openpyxl.load_workbook(tmp_path / name).worksheets

@@ -310,7 +310,7 @@ def test_every_command_on_every_sample_shows_clean_text(name, tmp_path):
         if command[0] == "spot":
             names, rows = spot_rows(result.output)
             # One unit per position: in the header, the same for x, y and z.
-            assert names == (["x in", "y in", "z in"] if plan.imperial else ["x m", "y m", "z m"])
+            assert names == [f"{axis} {plan.site.units}" for axis in "xyz"]
             assert rows and all(NUMBER.fullmatch(c) for row in rows for c in row)
     page = html.unescape(re.sub(r"<[^>]+>", " ", (tmp_path / "r.html").read_text()))
     assert_clean_text(page, "html report")

@@ -9,6 +9,7 @@ import numpy as np
 
 from ...quantities import Budget, Status, Unit
 from .. import words
+from ..drawing import drawing_svg, two_views
 from ..model import (
     TONE_OF,
     Bullets,
@@ -22,7 +23,7 @@ from ..model import (
     Tone,
     cell,
 )
-from .common import Lengths, amperes, field_cell, figure, share, stamp
+from .common import Lengths, amperes, field_cell, figure, paper_for, share, stamp
 
 #: Runs below this share of the budget are summed on one line unless all runs are asked for.
 NEGLIGIBLE_SHARE = 0.005
@@ -94,9 +95,133 @@ def _summary_section(analysis, rows):
 
     blocks = [Table(columns, table_rows, "Figure held against each budget", notes=tuple(notes)),
               Chart("held figure by state, as a share of each budget",
-                    lambda fmt: plots.budget_bars(analysis, fmt=fmt)),
-              Chart("plan view of runs and sensors", lambda fmt: plots.plan_view(plan, fmt=fmt))]
+                    lambda fmt: plots.budget_bars(analysis, fmt=fmt))]
     return Section("Summary", tuple(blocks), sheet="summary")
+
+
+# The first page: a summary for the owner or surveyor ------------------------------------------
+
+#: What a sensor's verdict says on the first page, by its status.
+def _verdict_words(result):
+    sensor = result.sensor
+    worst = result.worst
+    held = words.held_text(sensor, worst)
+    if result.status is Status.WITHIN:
+        return (f"within its budget of {sensor.budget} in every state it is relied on in "
+                f"(at most {held}, in {worst.state})")
+    others = [s for s in result.over_in if s != worst.state]
+    also = f"; also over in {', '.join(others)}" if others else ""
+    if worst.overwhelmed:
+        return (f"over its budget of {sensor.budget}: overwhelmed in {worst.state}, it can point "
+                f"anywhere{also}")
+    return f"over its budget of {sensor.budget}: {held} in {worst.state}{also}"
+
+
+def _owner_section(analysis, rows, digest):
+    """Page 1: who and what the report is for, the plan file it came from, each sensor's
+    verdict in words, the fixes that make the plan pass, a drawing with the culprit, and a line
+    for whoever checks it."""
+    plan = analysis.plan
+    site = plan.site
+    from pathlib import Path
+
+    particulars = [("vessel or vehicle", site.vessel or ""), ("owner", site.owner or ""),
+                   ("installer", site.installer or ""),
+                   ("date of the plan", site.date_text),
+                   ("plan file", Path(str(plan.source)).name),
+                   ("plan SHA-256", digest or "not a file (built in Python)")]
+    blocks: list = [Table((Column("", wrap=True), Column("", wrap=True)),
+                          tuple((cell(a), cell(b)) for a, b in particulars),
+                          pen=())]
+    blocks.append(Table((Column("sensor", wrap=True), Column("verdict", wrap=True)),
+                        tuple((cell(r.sensor.name),
+                               Cell(_verdict_words(r), r.status.value, None, TONE_OF[r.status]))
+                              for r in analysis.sensors), "Each sensor's verdict"))
+    fixes = []
+    for result in analysis.sensors:
+        if result.status is Status.WITHIN or result.fixes is None:
+            continue
+        lines = words.fix_set_lines(result.fixes, site.units, result.sensor.budget.unit)
+        fixes.append(Paragraph(f"To bring {result.sensor.name} within its budget:", Tone.STRONG))
+        if lines:
+            fixes.append(Bullets(tuple(lines), ordered=True))
+        if not result.fixes.reaches_budget:
+            fixes.append(Paragraph(words.NO_FIX_SET, Tone.BAD))
+    if fixes:
+        blocks += fixes
+    over = [r for r in analysis.sensors if r.status is not Status.WITHIN]
+    shown = max(over or analysis.sensors, key=lambda r: r.sensor.budget.share(r.worst.held))
+    blocks.append(Table((Column("checked by", wrap=True), Column("date"),
+                         Column("signature")), ((cell(""), cell(""), cell("")),),
+                        pen=(0, 1, 2)))
+    blocks.append(Paragraph(" ".join(words.CAUTIONS[:2]), Tone.MUTED))
+    # Last, so that on paper it takes the room the page has left.
+    blocks.append(Chart(f"profile and plan around {shown.sensor.name}, the culprits heavier "
+                        "and named", lambda fmt: drawing_svg(plan, shown, width_mm=150,
+                                                             views=two_views(plan)),
+                        shrink=0.25))
+    return Section("Summary for the owner or surveyor", tuple(blocks), screen=False,
+                   workbook=False)
+
+
+def checklist_section(analysis):
+    """The installer's checklist of the fixes: a box to tick, and the lay, spacing and
+    clearance each change must achieve (paper only)."""
+    from ...units import format_length
+
+    units = analysis.plan.site.units
+    rows = []
+    for result in analysis.sensors:
+        if result.fixes is None:
+            continue
+        for step in result.fixes.steps:
+            rows.append((cell("☐"), cell(result.sensor.name), cell(step.run),
+                         cell({"pair": "return beside the supply", "twist": "twist with the "
+                               "return", "clearance": "keep clear of the sensor"}.get(
+                                   step.kind, step.kind)),
+                         cell(format_length(step.lay_m, units) if step.lay_m else ""),
+                         cell(format_length(step.spacing_m, units) if step.spacing_m else ""),
+                         cell(f"at least {format_length(step.clearance_m, units)}"
+                              if step.clearance_m else ""),
+                         figure(step.after, result.sensor.budget.unit,
+                                tone=Tone.GOOD if step.within_after else Tone.BAD)))
+    if not rows:
+        return None
+    columns = (Column("done"), Column("sensor", wrap=True), Column("run", wrap=True),
+               Column("change", wrap=True), Column("lay"), Column("centres"),
+               Column("clearance", wrap=True), Column("then", numeric=True))
+    return Section("Installer's checklist of the fixes", (
+        Paragraph("Tick each change when it is made; the lay (one full twist), the centre "
+                  "spacing of supply and return and the clearance from the sensor are what the "
+                  "figures assume. 'then': the sensor's held figure with this change and those "
+                  "above it made."),
+        Table(columns, tuple(rows))), screen=False, sheet="checklist", new_page=True)
+
+
+#: The words a report uses that a reader may not know, and what they mean.
+GLOSSARY = (
+    ("held against the budget", "the figure a sensor's verdict is judged by: the largest "
+     "deviation (or total-field error) over every heading, in the worst switching of the loads "
+     "that may be on, at the worst heel and pitch allowed, after adjustment where the sensor "
+     "has a reference state"),
+    ("level", "with the vessel upright: no heel or pitch"),
+    ("residual after adjustment", "what is left once the compass is adjusted (or the sensor "
+     "calibrated) in its reference state: the deviation of the field that changes from that "
+     "state, not the difference of two deviations"),
+    ("bound (≤)", "a figure that may be smaller but never larger: a part of unknown direction "
+     "(a pair whose lie is not given, a twisted run's ends, a labelled safe distance) counted "
+     "at its worst"),
+    ("not relied on", "a state in which the sensor is not used (the plan's used_in column): its "
+     "figure is shown in brackets and not held against the budget"),
+    ("overwhelmed", "the disturbance is at least the Earth's horizontal field: the sensor can "
+     "point anywhere"),
+)
+
+
+def glossary_section():
+    return Section("Words used in this report", (Table(
+        (Column("term", wrap=True), Column("meaning", wrap=True)),
+        tuple((cell(a), cell(b)) for a, b in GLOSSARY)),), screen=False, sheet="words")
 
 
 # A sensor ---------------------------------------------------------------------------------------
@@ -304,21 +429,34 @@ def _site_section(site):
     return Section("Site", (table,), screen=False, sheet="site")
 
 
-def check_document(analysis, *, all_runs=False, voltage_v=None) -> Document:
-    """The check of a plan as one document (see :mod:`deviation.render.model`); ``voltage_v``
-    says the plan is the what-if of its loads in watts at that DC voltage [V]."""
+def check_document(analysis, *, all_runs=False, digest=None, voltage_v=None) -> Document:
+    """The check of a plan as one document (see :mod:`deviation.render.model`).
+
+    ``digest``: the plan file's SHA-256 for the first page (default: worked out from the plan's
+    source where it is a file or folder). ``voltage_v``: the plan is the what-if of its loads in
+    watts at that DC voltage [V].
+    """
     from ...card import cards
+    from ...files import plan_digest
     from ..json_out import analysis_json
 
     plan = analysis.plan
     lengths = Lengths(plan)
     rows = summary_rows(analysis)
-    sections = [_summary_section(analysis, rows)]
+    if digest is None:
+        digest = plan_digest(plan.source)
+    summary = _summary_section(analysis, rows)
+    sections = [_owner_section(analysis, rows, digest),
+                Section(summary.title, summary.blocks, sheet=summary.sheet, new_page=True)]
     for result, one_card in zip(analysis.sensors, cards(analysis)):
         sensor = result.sensor
         tone = TONE_OF[result.status]
-        sections.append(Section(sensor.name, tuple(_short_blocks(result, analysis, lengths)),
-                                tone=tone, sheet=f"budget {sensor.name}", new_page=True))
+        blocks = (*_short_blocks(result, analysis, lengths),
+                  Chart(f"where things are around {sensor.name}: profile, end view and plan, "
+                        "runs coloured by their share of its budget",
+                        lambda fmt, result=result: drawing_svg(plan, result)))
+        sections.append(Section(sensor.name, blocks, tone=tone, sheet=f"budget {sensor.name}",
+                                new_page=True))
         for st in result.states:
             sections.append(Section(state_title(sensor, st),
                                     tuple(_state_blocks(sensor, st, analysis, lengths, all_runs)),
@@ -338,14 +476,18 @@ def check_document(analysis, *, all_runs=False, voltage_v=None) -> Document:
         sections.append(Section("Findings", (Bullets(tuple(words.finding_text(f)
                                                           for f in analysis.findings)),),
                                 sheet="findings"))
-    meta = _meta(analysis)
+    checklist = checklist_section(analysis)
+    if checklist is not None:
+        sections.append(checklist)
+    sections.append(glossary_section())
+    meta = _meta(analysis) + ((f"plan SHA-256 {digest}",) if digest else ())
     if voltage_v is not None:
         meta += (f"what-if: every load given in watts drawn at {voltage_v:g} V, not at the "
                  "plan's own voltages",)
     return Document("check", "Deviation budget", meta, tuple(sections),
                     words.CAUTIONS, _warnings(analysis), _recap(rows) + _aviation_recap(analysis),
                     analysis_json(analysis),
-                    stamp())
+                    stamp(), paper=paper_for(plan))
 
 
 def aviation_section(analysis):

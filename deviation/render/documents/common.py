@@ -16,6 +16,12 @@ from ..model import Cell, Tone, cell
 LENGTH_DIGITS = {"m": 3, "cm": 1, "mm": 0, "ft": 2, "in": 1}
 
 
+def paper_for(plan) -> str:
+    """Letter for a plan in feet or inches, A4 for a metric one (a report can be asked for on
+    the other)."""
+    return "Letter" if plan.site.units in ("ft", "in") else "A4"
+
+
 def stamp() -> str:
     """When and by what a report was made (paper only)."""
     return f"made {dt.date.today().isoformat()} by deviation {__version__}"
