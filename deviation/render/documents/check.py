@@ -464,10 +464,10 @@ def check_document(analysis, *, all_runs=False, digest=None, voltage_v=None) -> 
         sections.append(_card_section(one_card))
     loads = loads_section(plan)
     if loads is not None:
-        sections.insert(1, loads)
+        sections.insert(2, loads)                 # after the owner's page and the summary
     aviation = aviation_section(analysis)
     if aviation is not None:
-        sections.insert(1, aviation)
+        sections.insert(2, aviation)
     sections.append(_site_section(analysis.site))
     per_ampere = _per_ampere_section(analysis)
     if per_ampere is not None:
