@@ -118,16 +118,15 @@ MAX_FIXES_INDEPENDENT_CIRCUITS = 100
 MAX_DC_VOLTAGE_V = 1500.0
 #: Default efficiency of an inverter feeding an AC load from the DC system, where the plan gives
 #: none. Rule of thumb, no published source: NREL's PVWatts inverter model (Dobos, "PVWatts
-#: Version 5 Manual", NREL/TP-6A20-62641, 2014; pvlib's ``inverter.pvwatts``), with its
+#: Version 5 Manual", NREL, 2014; pvlib's ``inverter.pvwatts``), with its
 #: nominal efficiency 0.96, gives 0.92 to 0.96 from 10 % to 100 % of the inverter's rating; a
 #: battery inverter on a boat or in a vehicle is seldom as efficient as a grid-tied PV inverter,
 #: and a lower efficiency can only raise the DC current (the default never flatters).
 DEFAULT_INVERTER_EFFICIENCY = 0.85
 #: PVWatts inverter model (Dobos 2014, as above): eta = eta_nom/eta_ref (-0.0162 zeta
-#: - 0.0059/zeta + 0.9858), zeta = P_dc/P_dc0, with eta_ref = 0.9637 and the default
-#: eta_nom = 0.96 (pvlib's defaults).
+#: - 0.0059/zeta + 0.9858), zeta = P_dc/P_dc0, eta_ref = 0.9637; pvlib's default nominal
+#: efficiency eta_nom = 0.96.
 PVWATTS_COEFFICIENTS = (-0.0162, -0.0059, 0.9858)
-PVWATTS_ETA_REF = 0.9637
 PVWATTS_ETA_NOM = 0.96
 #: The default idle draw of an inverter, where the plan gives none, is the DC power the PVWatts
 #: curve draws at zero AC output (physics.loads.pvwatts_idle_share: 0.62 % of the AC rating),

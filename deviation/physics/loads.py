@@ -48,30 +48,20 @@ def dc_current_a(power_w, voltage_v, efficiency=1.0, idle_w=0.0, on=None):
     return power / (voltage_v * efficiency) + idle / voltage_v
 
 
-def pvwatts_efficiency(zeta, eta_nom=PVWATTS_ETA_NOM):
-    """Efficiency of the PVWatts inverter model at a share ``zeta`` of the DC rating.
-
-    eta = eta_nom / eta_ref (-0.0162 zeta - 0.0059 / zeta + 0.9858), eta_ref = 0.9637.
-
-    References
-    ----------
-    A. P. Dobos, "PVWatts Version 5 Manual", NREL/TP-6A20-62641 (2014); documented in pvlib's
-    ``inverter.pvwatts``.
-    """
-    from ..constants import PVWATTS_ETA_REF
-
-    a, b, c = PVWATTS_COEFFICIENTS
-    zeta = np.asarray(zeta, dtype=float)
-    return eta_nom / PVWATTS_ETA_REF * (a * zeta + b / zeta + c)
-
-
 def pvwatts_idle_share(eta_nom=PVWATTS_ETA_NOM) -> float:
     """DC power the PVWatts curve draws at zero AC output, as a share of the AC rating.
 
-    The AC output eta * P_dc is zero where a zeta^2 + c zeta + b = 0 (the coefficients of
-    :func:`pvwatts_efficiency`); the smaller root zeta_0 is the share of the DC rating
-    P_dc0 = P_ac0 / eta_nom drawn with nothing delivered, so the idle draw is
-    zeta_0 / eta_nom of the AC rating (0.62 % with the default eta_nom 0.96).
+    The PVWatts model's efficiency is eta = eta_nom / eta_ref (a zeta + b / zeta + c), zeta the
+    share of the DC rating, with (a, b, c) = (-0.0162, -0.0059, 0.9858) and eta_ref = 0.9637.
+    The AC output eta * P_dc is zero where a zeta^2 + c zeta + b = 0; the smaller root zeta_0 is
+    the share of the DC rating P_dc0 = P_ac0 / eta_nom drawn with nothing delivered, so the idle
+    draw is zeta_0 / eta_nom of the AC rating (0.62 % with the default eta_nom 0.96).
+
+    References
+    ----------
+    A. P. Dobos, "PVWatts Version 5 Manual", NREL (2014),
+    http://pvwatts.nrel.gov/downloads/pvwattsv5.pdf; documented in pvlib's
+    ``inverter.pvwatts``.
     """
     a, b, c = PVWATTS_COEFFICIENTS
     zeta0 = (-c + math.sqrt(c * c - 4 * a * b)) / (2 * a)
