@@ -279,3 +279,21 @@ def test_a_pair_whose_lie_is_not_known_counts_at_its_worst_lie(tmp_path):
     stated = [level("side by side"), level("one above the other")]
     assert unknown >= max(stated) - 1e-9
     assert unknown > min(stated)
+
+
+def test_location_counts_the_field_change_and_the_card_change_each_alone(tmp_path):
+    # H 20 -> 12 µT with almost no wiring field: the plan's own card hardly moves, but H falls by
+    # 40 % (beyond the 20 % rule of thumb): the steel and magnets the plan cannot see deviate
+    # the compass more. H 20 -> 17 µT (15 %) under a strong field (15 A: 6 µT): asin(0.3) =
+    # 17.46° becomes asin(6/17) = 20.67°, a card change of more than 1° (NGA Pub. 226).
+    quiet = _refit(tmp_path, aircraft([["circuit", "cruise"], ["feed", 0.01]]),
+                   aircraft([["circuit", "cruise"], ["feed", 0.01]], h_ut=12.0))
+    (found,) = quiet.triggers
+    assert found.trigger is SwingTrigger.LOCATION and found.card_change_deg < 0.1
+    loud = _refit(tmp_path, aircraft([["circuit", "cruise"], ["feed", 15]], budget=30),
+                  aircraft([["circuit", "cruise"], ["feed", 15]], h_ut=17.0, budget=30))
+    (found,) = loud.triggers
+    assert found.field_change < 0.2
+    b = wire_ut(15)
+    assert found.card_change_deg >= (math.degrees(math.asin(b / 17)) -
+                                     math.degrees(math.asin(b / 20))) - 1e-6
