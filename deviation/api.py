@@ -26,6 +26,7 @@ import numpy as np
 from .analysis import Analysis, analyse
 from .card import Card, cards
 from .plan import Plan, Sensor
+from .plan import at_voltage as _at_voltage
 from .sitefield import SiteField, model_field
 from .spot import SpotSearch, rank_positions, search_box
 
@@ -54,14 +55,17 @@ def plan_from_tables(tables: Mapping[str, object], source: str = "<tables>") -> 
     return make(tables, source)
 
 
-def check(plan: Plan, *, remedies: bool = True) -> CheckResult:
+def check(plan: Plan, *, remedies: bool = True,
+          fixes_for: Sequence[str] | None = None) -> CheckResult:
     """The deviation budget of every sensor in every state, with remedies and rule findings.
 
     Parameters
     ----------
     plan : Plan
     remedies : bool
-        Compute the rerouting remedies (the slowest part on big plans).
+        Compute the rerouting remedies and the set of fixes (the slowest part on big plans).
+    fixes_for : sequence of str, optional
+        Compute them only for these sensors (names in the plan).
 
     Returns
     -------
@@ -71,7 +75,20 @@ def check(plan: Plan, *, remedies: bool = True) -> CheckResult:
     """
     from .checking import check_plan
 
-    return check_plan(plan, remedies=remedies)
+    return check_plan(plan, remedies=remedies, fixes_for=fixes_for)
+
+
+def at_voltage(plan: Plan, voltage_v: float) -> Plan:
+    """The plan with every load given in watts drawn at the DC voltage ``voltage_v`` [V]
+    ("what if we went to 24 V?"); loads given in amperes stay as they are. Check the plan it
+    returns: ``deviation.check(deviation.at_voltage(plan, 24))``.
+
+    Raises
+    ------
+    InputError
+        The voltage is not more than 0 and at most 1 500 V, or no load is given in watts.
+    """
+    return _at_voltage(plan, voltage_v)
 
 
 def _sensor(plan: Plan, sensor: str | Sensor) -> Sensor:
@@ -106,9 +123,11 @@ def rank_spots(plan: Plan, sensor: str | Sensor, positions_m=None, names=None, *
 
 
 def deviation_cards(plan_or_result: Plan | Analysis, sensor: str | None = None,
-                    step_deg: float = 15.0) -> tuple[Card, ...]:
+                    step_deg: float | None = None) -> tuple[Card, ...]:
     """Predicted deviation cards (deviation and the compass heading to steer at each magnetic
-    heading), per sensor and state; ``sensor`` limits them to one."""
+    heading), per sensor and state; ``sensor`` limits them to one. ``step_deg`` defaults to 15°,
+    or 30° in the aviation profile (which refuses more than 45°, 14 CFR 25.1547(d)); there each
+    card carries its placard lines and the 10° limit (``Card.placard``, ``CardState.limit``)."""
     analysis = (plan_or_result if isinstance(plan_or_result, Analysis)
                 else analyse(plan_or_result))
     return cards(analysis, step_deg, sensor)
@@ -118,6 +137,25 @@ def site_field(latitude_deg: float, longitude_deg: float, date=None,
                altitude_m: float = 0.0) -> SiteField:
     """The geomagnetic field from WMM2025 at a place and date (default: today)."""
     return model_field(latitude_deg, longitude_deg, date, altitude_m)
+
+
+def electronic_figures(plan_or_result: Plan | Analysis, sensor: str | None = None):
+    """Every electronic compass's and magnetometer's figures (per ampere, compensation, grade,
+    model check; total-field error for a scalar one), each with ``to_frame()`` and
+    ``per_ampere_frame()``; ``sensor`` limits them to one."""
+    from .electronic import electronic_report
+
+    analysis = (plan_or_result if isinstance(plan_or_result, Analysis)
+                else check(plan_or_result, remedies=False))
+    return electronic_report(analysis, sensor)
+
+
+def operating_area(plan: Plan):
+    """The plan at every place of its operating area (the site sheet's place rows), with
+    ``to_frame()``: where each sensor's figure is worst."""
+    from .area import area_check
+
+    return area_check(plan)
 
 
 def to_json(result: CheckResult) -> dict:

@@ -311,6 +311,18 @@ class ElectronicSensor:
     states: tuple[ElectronicState, ...]  # vector sensors only
     state_results: tuple                 # the check's StateResults (total-field figures)
 
+    def to_frame(self):
+        """One row per state (see :func:`deviation.frames.electronic_frame`)."""
+        from .frames import electronic_frame
+
+        return electronic_frame((self,))
+
+    def per_ampere_frame(self):
+        """One row per circuit (see :func:`deviation.frames.per_ampere_frame`)."""
+        from .frames import per_ampere_frame
+
+        return per_ampere_frame((self,))
+
 
 def _largest(base, vectors, reversing, heel, pitch):
     """Largest level horizontal part (with heel and pitch) over the switchings, exactly."""

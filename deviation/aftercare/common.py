@@ -9,6 +9,7 @@ from .. import checking
 from ..budget import item_effect
 from ..errors import DeviationError
 from ..plan import Plan
+from ..sheets import MAX_ROWS, MAX_WORKBOOK_BYTES  # noqa: F401  (the limits of every sheet)
 
 #: The starting state of a switch-on test in which every circuit is off.
 ALL_OFF = "all off"
@@ -22,14 +23,19 @@ CHANGE_FRACTION = 0.25
 #: Change of the deviation card, at any heading, beyond which a new swing is advised [deg]
 #: (common practice, no source).
 SWING_THRESHOLD_DEG = 1.0
+#: Change of the site's horizontal field H, or of the ratio Z/H that sets the induced part of
+#: coefficient B (NGA Pub. 226), beyond which a new site is "a different geographic location with
+#: a major change" (FAA AC 43.13-1B CHG 1, par. 12-37a(8), which gives no figure): a share of the
+#: earlier value (rule of thumb, no published source).
+LOCATION_FIELD_CHANGE = 0.2
 #: A change of reading below this is shown as no visible change [deg] (a tenth of the card's
 #: resolution).
 NO_VISIBLE_CHANGE_DEG = 0.05
 
-#: Largest uncompressed size of a readings workbook [bytes], checked before parsing.
-MAX_WORKBOOK_BYTES = 100 * 1024 * 1024
-#: Rows a readings sheet may have.
-MAX_ROWS = 20_000
+#: Largest deviation a reading may show [deg]: a compass whose card lies more than a right angle
+#: from the magnetic heading points nowhere useful, so a reading that far off is a slip of the
+#: pen or of the heading (rule of thumb, no published source).
+MAX_READ_DEVIATION_DEG = 90.0
 
 TEST_SHEET = "switch-on test"
 SETTINGS_SHEET = "switch-on settings"

@@ -7,16 +7,16 @@ import sys
 
 from .common import (
     canonical_unit,
-    console_for,
-    echo_json,
     electronic_reports,
     json_option,
     library_errors,
     main,
     plan_argument,
+    report_option,
     sensor_option,
     unit_option,
     width_option,
+    write_outputs,
 )
 
 
@@ -24,10 +24,11 @@ from .common import (
 @plan_argument
 @sensor_option
 @unit_option
+@report_option
 @json_option
 @width_option
 @library_errors
-def electronic(plan, sensor_name, unit, as_json, width):
+def electronic(plan, sensor_name, unit, report, as_json, width):
     """How an electronic compass or magnetometer fares against its own budget: within as
     installed, within only with the current compensation its host can learn from the currents
     it measures, or over; the interference as a share of the Earth's field, as a plain number;
@@ -40,12 +41,14 @@ def electronic(plan, sensor_name, unit, as_json, width):
     currents), every model check passed; 1 otherwise; 2 the plan or the command line is wrong.
     """
     from ..electronic import is_acceptable
-    from ..render.electronic import electronic_json, render_electronic
+    from ..render.documents.electronic import electronic_document
 
     unit = canonical_unit(unit)
+    if report:
+        from ..render.reports import check_report_path
+
+        check_report_path(report, plan)
     analysis, reports = electronic_reports(plan, sensor_name)
-    if as_json:
-        echo_json(electronic_json(analysis, reports, unit))
-    else:
-        render_electronic(analysis, reports, console_for(width), unit)
+    document = electronic_document(analysis, reports, unit)
+    write_outputs(document, report, plan, as_json, width)
     sys.exit(0 if all(is_acceptable(r) for r in reports) else 1)

@@ -1,5 +1,6 @@
-"""Electronic-sensor outputs: the per-ampere table (terminal, CSV, JSON), the compensation and
-model checks (terminal, JSON), and the operating-area summary.
+"""Electronic-sensor data: the per-ampere table (CSV, JSON), the compensation and model checks
+(JSON), and the operating-area summary (JSON); the documents are in
+:mod:`deviation.render.documents.electronic`.
 
 Field units are chosen by the caller: "uT", "nT" or "mG" (constants.FIELD_UNITS_T).
 """
@@ -10,18 +11,13 @@ import csv
 import io
 import math
 
-from rich.markup import escape
-from rich.table import Table
-
 from ..constants import (
     FIELD_UNITS_T,
     MODEL_FIELD_TOLERANCE_T,
     MODEL_INCLINATION_TOLERANCE_DEG,
-    SURVEY_FIGURE_OF_MERIT_NT,
 )
 from ..schema import TOTAL_FIELD_KIND
 from . import words
-from .terminal import _box
 
 #: How each field unit is printed.
 UNIT_LABEL = {"uT": "µT", "nT": "nT", "mG": "mG"}
@@ -96,12 +92,15 @@ def per_ampere_records(reports, unit):
 
 
 def per_ampere_csv(reports, unit) -> str:
-    """The per-ampere table as CSV text (header CSV_COLUMNS)."""
+    """The per-ampere table as CSV text (header CSV_COLUMNS); text that a spreadsheet would run
+    as a formula gets a leading ' (:func:`deviation.text.csv_cell`), numbers stay numbers."""
+    from ..text import csv_cell
+
     out = io.StringIO()
     writer = csv.DictWriter(out, fieldnames=CSV_COLUMNS, lineterminator="\n")
     writer.writeheader()
     for record in per_ampere_records(reports, unit):
-        writer.writerow({k: "" if v is None else v for k, v in record.items()})
+        writer.writerow({k: "" if v is None else csv_cell(v) for k, v in record.items()})
     return out.getvalue()
 
 
@@ -112,63 +111,6 @@ def per_ampere_json(analysis, reports, unit):
                          "axes": r.sensor.axes_text,
                          "measured_currents": None if r.sensor.measured_currents is None
                          else list(r.sensor.measured_currents)} for r in reports]}
-
-
-def _num(value, digits=3):
-    return "—" if value is None else words.number(value, digits)
-
-
-def _triple(vector_t, unit):
-    return ", ".join(_num(v, 4) for v in _vec(vector_t, unit))
-
-
-def render_per_ampere(analysis, reports, console, unit):
-    label = UNIT_LABEL[unit]
-    for report in reports:
-        sensor = report.sensor
-        console.print(f"[bold]{escape(sensor.name)}[/bold] ({sensor.kind}), axes: "
-                      f"{escape(axes_words(sensor))}")
-        table = Table(box=_box(console),
-                      title=escape(f"Field per ampere at the sensor [{label}/A]"))
-        for column in ("circuit", "switching", "peak [A]", "vessel x, y, z", "sensor x, y, z",
-                       "size", "± unknown"):
-            table.add_column(escape(column), justify="left" if column in ("circuit", "switching")
-                             else "right")
-        scalar = sensor.kind == TOTAL_FIELD_KIND
-        if scalar:
-            table.add_column("total field [nT/A]", justify="right")
-        for row in report.per_ampere:
-            cells = [row.circuit, row.switching, f"{row.peak_current_a:g}",
-                     _triple(row.vessel_t_per_a, unit), _triple(row.sensor_t_per_a, unit),
-                     _num(_in(row.size_t_per_a, unit), 4),
-                     _num(_in(row.unknown_t_per_a, unit), 4)]
-            if scalar:
-                low, high = row.total_field_per_a
-                cells.append(f"{low * 1e9:+.3f} to {high * 1e9:+.3f}")
-            table.add_row(*(escape(c) for c in cells))
-        console.print(table)
-        comp = report.compensation
-        if comp is not None:
-            fitted = Table(box=_box(console), title=escape(
-                f"Compensation to key in [{label}/A], per ampere of each measured current"))
-            for column in ("measured current", "sensor x, y, z", "vessel x, y, z", "size"):
-                fitted.add_column(escape(column), justify="left" if column == "measured current"
-                                  else "right")
-            for j, channel in enumerate(comp.measured):
-                vessel = comp.coefficients_t_per_a[j]
-                fitted.add_row(escape(channel if channel != "total" else "total (every circuit)"),
-                               _triple(comp.sensor_coefficients_t_per_a[j], unit),
-                               _triple(vessel, unit),
-                               _num(_in(math.sqrt(float(vessel @ vessel)), unit), 4))
-            console.print(fitted)
-            console.print(f"Fitted over {comp.samples} samples (states x switchings"
-                          f"{'' if comp.exhaustive else ', each independent circuit alone'}); "
-                          "the host subtracts these times the measured currents.")
-        console.print()
-    console.print("Vectors are the part of known direction. ± unknown is the size of what the plan "
-                  "leaves open (which side of its supply a pair's return lies, a twisted run's "
-                  "floor): give a run whose vector matters a separate return route, or measure "
-                  "the compensation after installation.")
 
 
 # Compensation, grading and model checks -----------------------------------------------------------
@@ -219,80 +161,6 @@ def electronic_json(analysis, reports, unit):
             "sensors": out, "cautions": list(words.cautions(analysis.plan))}
 
 
-def render_electronic(analysis, reports, console, unit):
-    label = UNIT_LABEL[unit]
-    site = analysis.site
-    console.print(f"Earth's field: F {_in(site.total_t, unit):.2f} {label}, H "
-                  f"{_in(site.horizontal_t, unit):.2f} {label}, inclination "
-                  f"{site.inclination_deg:.1f}° ({site.source})")
-    for report in reports:
-        sensor = report.sensor
-        console.print(f"\n[bold]{escape(sensor.name)}[/bold] ({sensor.kind})")
-        if sensor.kind == TOTAL_FIELD_KIND:
-            _render_total_field(report, console)
-            continue
-        grade = report.grade
-        if grade is not None:
-            style = {"within": "green", "within compensated": "yellow",
-                     "over": "bold red"}[grade.standing.value]
-            console.print(f"[{style}]{escape(grade.standing.value.upper())}[/{style}]: "
-                          + escape(words.standing_words(grade)))
-        comp = report.compensation
-        table = Table(box=_box(console))
-        columns = ["state", f"interference [{label}]", "% of F"]
-        if comp is not None:
-            columns += [f"compensated |b_h| [{label}]", "compensated [°]", "compensated % of F",
-                        f"± unknown [{label}]"]
-        columns += [f"field vs model [{label}]", "inclination vs model [°]", "model check"]
-        for column in columns:
-            table.add_column(escape(column), justify="left" if column == "state" else "right")
-        for s in report.states:
-            cells = [escape(s.state + ("" if s.used else " (not used)")),
-                     _num(_in(s.interference_t, unit)),
-                     f"{s.interference_fraction * 100:.1f}"]
-            if comp is not None:
-                cells += [_num(_in(s.compensated_horizontal_t, unit)),
-                          words.degrees(s.compensated_deg), f"{s.compensated_fraction * 100:.1f}",
-                          _num(_in(s.unknown_t, unit))]
-            cells += [_num(_in(s.field_departure_t, unit)),
-                      f"{s.inclination_departure_deg:.2f}", "ok" if s.model_ok else "FAILS"]
-            table.add_row(*cells)
-        console.print(table)
-        if comp is not None:
-            console.print(f"Compensation from the measured current(s) "
-                          f"{', '.join(comp.measured)}: see `deviation per-amp` for the figures "
-                          "to key in.")
-        console.print(f"Model check: the field the host sees (calibrated"
-                      f"{', compensated' if comp is not None else ''}) within "
-                      f"{_in(MODEL_FIELD_TOLERANCE_T, unit):g} {label} of the model's total field "
-                      f"and {MODEL_INCLINATION_TOLERANCE_DEG:g}° of its inclination, over every "
-                      "heading and attitude (rule of thumb, no published source).")
-    console.print()
-    for caution in words.cautions(analysis.plan):
-        console.print(f"[dim]{caution}[/dim]")
-
-
-def _render_total_field(report, console):
-    sensor = report.sensor
-    low_fom, high_fom = SURVEY_FIGURE_OF_MERIT_NT
-    table = Table(box=_box(console), title=escape(f"Total-field error [nT], budget "
-                                                  f"{sensor.budget}"))
-    for column in ("state", "largest", "smallest", "held |error|", "heading peak to peak",
-                   "of which bounds", "verdict"):
-        table.add_column(escape(column), justify="left" if column == "state" else "right")
-    for s in report.state_results:
-        verdict = "not used" if not s.used else ("within" if s.within_budget else "OVER")
-        table.add_row(escape(s.state), f"{s.total_field_high_t * 1e9:+.3f}",
-                      f"{s.total_field_low_t * 1e9:+.3f}", f"{s.total_field_error_t * 1e9:.3f}",
-                      f"{s.heading_peak_to_peak_t * 1e9:.3f}",
-                      f"{s.total_field_bound_t * 1e9:.3f}", verdict)
-    console.print(table)
-    console.print(f"Over every heading and attitude within heel ±{sensor.max_heel_deg:g}° and "
-                  f"pitch ±{sensor.max_pitch_deg:g}°, the worst switching of the independent "
-                  f"loads; a compensated survey installation aims at a figure of merit of "
-                  f"{low_fom:g}-{high_fom:g} nT (common practice).")
-
-
 # The operating area -------------------------------------------------------------------------------
 
 def area_json(area, unit="uT"):
@@ -314,48 +182,5 @@ def area_json(area, unit="uT"):
                        **{f"{k}_deg": _round(v, 6) for k, v in zip("ABCDE", c.coefficients_deg)},
                        "b_induced_deg": _round(c.b_induced_deg, 6),
                        "c_induced_deg": _round(c.c_induced_deg, 6), "held": _round(c.held, 6)}
-                      for c in area.steel]}
-
-
-def render_area(area, console, unit="uT"):
-    label = UNIT_LABEL[unit]
-    table = Table(box=_box(console), title="Places of the operating area")
-    for column in ("place", "lat", "lon", f"H [{label}]", f"F [{label}]", "incl. [°]", "zone",
-                   "verdict"):
-        table.add_column(escape(column), justify="left" if column in ("place", "zone", "verdict")
-                         else "right")
-    for p in area.places:
-        table.add_row(escape(p.name), f"{p.latitude_deg:.3f}", f"{p.longitude_deg:.3f}",
-                      f"{_in(p.site.horizontal_t, unit):.2f}", f"{_in(p.site.total_t, unit):.2f}",
-                      f"{p.site.inclination_deg:.1f}", p.site.zone,
-                      "within" if p.within_budget else "OVER")
-    console.print(table)
-    if area.steel:
-        steel = Table(box=_box(console), title="Steel: the coefficients at each place (worst "
-                      "state; what the sensor sees, after adjustment where it is adjusted)")
-        for column in ("sensor", "place", "Z/H", "λ", "B °", "of it induced °", "C °", "D °",
-                       "E °", "held °"):
-            steel.add_column(escape(column), justify="left" if column in ("sensor", "place")
-                             else "right")
-        for c in area.steel:
-            a, b, cc, d, e = c.coefficients_deg
-            steel.add_row(escape(c.sensor), escape(c.place), f"{c.z_over_h:.2f}", f"{c.lam:.3f}",
-                          f"{b:+.2f}", f"{c.b_induced_deg:+.2f}", f"{cc:+.2f}", f"{d:+.2f}",
-                          f"{e:+.2f}", f"{c.held:.2f}")
-        console.print(steel)
-        console.print("The steel's induced B and C grow with Z/H (cZ/λH, fZ/λH); D and E do not "
-                      "change with the place (NGA Pub. 226, ch. III). A sensor adjusted at the "
-                      "plan's site keeps c(Z - Z_adj)/λH elsewhere.")
-    worst = Table(box=_box(console), title="Worst over the area")
-    for column in ("sensor", "figure", "worst", "where"):
-        worst.add_column(escape(column), justify="right" if column == "worst" else "left")
-    for w in area.worst:
-        worst.add_row(escape(w.sensor), w.figure, f"{w.value:.3f} {w.unit}", escape(w.place))
-    console.print(worst)
-    if area.verdict_changes:
-        console.print("[bold]The verdict changes across the area:[/bold] " + escape(
-            "within budget at " + ", ".join(p.name for p in area.places if p.within_budget)
-            + "; over at " + ", ".join(p.name for p in area.places if not p.within_budget) + "."))
-    else:
-        console.print("The verdict is the same everywhere in the area: "
-                      + ("within budget." if area.within_budget else "over budget."))
+                      for c in area.steel],
+            "cautions": list(words.cautions(area.plan))}

@@ -48,14 +48,17 @@ class Cell:
     tone: Tone = Tone.PLAIN
     prefix: str = ""
     suffix: str = ""
+    signed: bool = False             # "+" before a positive number, as a change is written
 
     @property
     def numeric(self) -> bool:
         return isinstance(self.value, (int, float)) and not isinstance(self.value, bool)
 
 
-def cell(value, digits=None, *, tone=Tone.PLAIN, prefix="", suffix="", text=None) -> Cell:
-    """A cell for a number shown with ``digits`` decimals (or a text), never "-0.00"."""
+def cell(value, digits=None, *, tone=Tone.PLAIN, prefix="", suffix="", text=None,
+         signed=False) -> Cell:
+    """A cell for a number shown with ``digits`` decimals (or a text), never "-0.00";
+    ``signed``: a positive number shown with "+" (a change)."""
     if value is None:
         return Cell(text if text is not None else "", None, None, tone)
     if isinstance(value, str):
@@ -64,8 +67,12 @@ def cell(value, digits=None, *, tone=Tone.PLAIN, prefix="", suffix="", text=None
         shown = f"{value:.{digits}f}" if digits is not None else f"{value:g}"
         if shown.startswith("-") and float(shown) == 0:
             shown = shown[1:]
+        if float(shown) == 0:
+            value = 0.0                   # a spreadsheet shows it as the text does: no "-0.00"
+        elif signed and not shown.startswith("-"):
+            shown = "+" + shown
         text = f"{prefix}{shown}{suffix}"
-    return Cell(text, float(value), digits, tone, prefix, suffix)
+    return Cell(text, float(value), digits, tone, prefix, suffix, signed)
 
 
 @dataclass(frozen=True)
@@ -115,6 +122,7 @@ class Chart:
 
     alt: str
     draw: Callable[[str], bytes] = field(repr=False, compare=False)
+    shrink: float = 0.5               # on paper: the least scale it may take to fit a page
 
 
 Block = Paragraph | Bullets | Table | Chart
@@ -126,7 +134,8 @@ class Section:
 
     ``screen``: shown on the terminal (False for what only paper carries: charts, cards in a
     check report); ``detail``: on the terminal only with --detail; ``sheet``: a workbook starts
-    a new worksheet of this name for it; ``new_page``: paper starts a new page for it.
+    a new worksheet of this name for it; ``new_page``: paper starts a new page for it;
+    ``workbook``: False for what only paper and the html carry.
     """
 
     title: str
@@ -137,6 +146,7 @@ class Section:
     detail: bool = False
     sheet: str | None = None
     new_page: bool = False
+    workbook: bool = True             # False: paper and html only (a first page of particulars)
 
 
 @dataclass(frozen=True)
@@ -152,6 +162,8 @@ class Document:
     cautions : what the figures cannot replace, on every report
     data : the machine-readable result, as ``--json`` prints it
     stamp : when and by what it was made, printed on paper only
+    landscape : its tables are wide: paper prints it turned sideways
+    paper : the sheet it prints on: "A4", "Letter" (an imperial plan's), "A5" or "A6"
     """
 
     kind: str
@@ -163,3 +175,5 @@ class Document:
     recap: tuple[Paragraph, ...] = ()
     data: dict = field(default_factory=dict, compare=False)
     stamp: str = ""                   # when and by what it was made (paper only)
+    landscape: bool = False           # wide tables: paper turned sideways
+    paper: str = "A4"                 # A4 or Letter (by the plan's units), A5 or A6 (a card)

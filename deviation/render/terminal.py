@@ -2,12 +2,18 @@
 
 from __future__ import annotations
 
+import threading
+import time
+from dataclasses import replace
+
 from rich import box
-from rich.console import Console
+from rich.console import Console as _RichConsole
 from rich.padding import Padding
+from rich.segment import Segment
 from rich.table import Table
 from rich.text import Text
 
+from ..text import terminal_text
 from ..units import LENGTH_UNITS, format_length
 from . import words
 from .model import Bullets, Paragraph, Tone
@@ -16,6 +22,20 @@ from .words import CAUTIONS, site_line
 
 #: Width of tables written to a file or a pipe, where no terminal says how wide it is.
 PIPED_WIDTH = 120
+
+
+class Console(_RichConsole):
+    """A rich console that shows every control character of the text it prints as U+FFFD.
+
+    Plan text (names, notes) may come from someone else; an escape sequence in it must not
+    retitle the terminal, move the cursor or hide and forge lines. Only the text is cleaned:
+    the console's own styles and cursor controls are written as rich makes them.
+    """
+
+    def _render_buffer(self, buffer):
+        return super()._render_buffer(
+            segment if segment.control else Segment(terminal_text(segment.text), segment.style)
+            for segment in buffer)
 
 
 def make_console(file=None, width=None):
@@ -68,7 +88,7 @@ def write_document(document, console, *, detail=False):
     detail only with ``detail``), the cautions, and the verdict recapped in the last lines."""
     console.print(Text(document.title, style="bold"))
     for line in document.meta:
-        console.print(Text(line))
+        console.print(Padding(Text(line), (0, 0, 0, 0)))
     for warning in document.warnings:
         console.print(Text(warning, style=STYLE_OF[Tone.WARN]))
     for section in document.sections:
@@ -110,52 +130,191 @@ def _bullets(items, console, style="", ordered=False):
     console.print(grid)
 
 
+#: A column heading this short is never broken into lines.
+SHORT_HEADING = 8
+#: Widest a name may be before it is folded (a name longer than this is rare).
+LONGEST_WORD = 30
+
+
+def _column_min(block, c):
+    """The least width of a column: its longest number (never broken), or its longest word."""
+    column = block.columns[c]
+    texts = [row[c].text for row in block.rows if c < len(row)]
+    head = max((len(w) for w in column.title.split()), default=1)
+    if len(column.title) <= SHORT_HEADING:           # "x mm", "A", "held °" stay on one line
+        head = len(column.title)
+    if column.numeric:
+        return max([head] + [len(t) for t in texts])
+    longest = max((len(w) for t in texts for w in t.split()), default=1)
+    return min(max(head, longest), LONGEST_WORD)
+
+
+def _chunks(block, width):
+    """Columns in groups that each fit ``width`` with the first column repeated: a table too
+    wide for the terminal is printed in parts, never with a number or a word cut. The parts are
+    as even as the fewest parts allow."""
+    mins = [_column_min(block, c) for c in range(len(block.columns))]
+
+    def split(capacity):
+        # A table is its columns, a space either side of each but the outer two, n + 1 rules.
+        chunks, current, used = [], [0], mins[0] + 2
+        for c in range(1, len(block.columns)):
+            if used + mins[c] + 3 > capacity and len(current) > 1:
+                chunks.append(current)
+                current, used = [0], mins[0] + 2
+            current.append(c)
+            used += mins[c] + 3
+        chunks.append(current)
+        return chunks
+
+    fewest = split(width)
+    if len(fewest) == 1:
+        return fewest, mins
+    total = sum(m + 3 for m in mins[1:])
+    capacity = mins[0] + 2 + total // len(fewest)
+    while capacity < width and len(split(capacity)) > len(fewest):
+        capacity += 1
+    return split(min(capacity, width)), mins
+
+
+def _on_screen(block):
+    """The table without what a screen has no use for: columns left for a pen, and columns
+    with nothing in them."""
+    keep = [c for c in range(len(block.columns))
+            if c not in block.pen and (not block.rows or any(row[c].text for row in block.rows))]
+    if len(keep) == len(block.columns):
+        return block
+    return replace(block, columns=tuple(block.columns[c] for c in keep),
+                   rows=tuple(tuple(row[c] for c in keep) for row in block.rows), pen=())
+
+
 def _table(block, console):
-    """A table whose numbers never break and whose names wrap only between words."""
+    """A table whose numbers never break and whose names wrap only between words; too wide for
+    the terminal, it is printed in parts, each with the first column."""
+    block = _on_screen(block)
     if block.title:
         console.print(Text(block.title, style=STYLE_OF[block.tone]))
-    table = Table(box=_box(console), padding=(0, 1), pad_edge=False)
-    for c, column in enumerate(block.columns):
-        if column.numeric:
-            table.add_column(Text(column.title), justify="right", no_wrap=True)
-        else:
-            words_in = [w for row in block.rows if c < len(row) for w in row[c].text.split()]
-            longest = max((len(w) for w in words_in), default=1)
-            table.add_column(Text(column.title), min_width=min(longest, 24),
-                             overflow="fold", ratio=1 if column.wrap else None)
-    for row in block.rows:
-        table.add_row(*(Text(c.text, style=STYLE_OF[c.tone]) for c in row))
-    console.print(table)
+    chunks, mins = _chunks(block, console.width)
+    for part, columns in enumerate(chunks):
+        table = Table(box=_box(console), padding=(0, 1), pad_edge=False,
+                      show_header=any(c.title for c in block.columns))
+        for c in columns:
+            column = block.columns[c]
+            header = Text(column.title, overflow="fold")
+            if column.numeric:
+                table.add_column(header, justify="right", width=mins[c])
+            else:
+                table.add_column(header, min_width=mins[c], overflow="fold",
+                                 ratio=1 if column.wrap else None)
+        for row in block.rows:
+            table.add_row(*(Text(row[c].text, style=STYLE_OF[row[c].tone],
+                                 no_wrap=block.columns[c].numeric) for c in columns))
+        if len(chunks) > 1:
+            console.print(Text(f"  (part {part + 1} of {len(chunks)})", style="dim"))
+        console.print(table)
     for note in block.notes:
-        console.print(Text("  " + note))
+        console.print(Padding(Text(note), (0, 0, 0, 2)))
 
 
-class progress_bar:
-    """A context giving the spot search a progress callback; draws only on a terminal."""
+class TerminalProgress:
+    """Shows the library's progress (:mod:`deviation.progress`) as lines on stderr.
 
-    def __init__(self, enabled=True, minimum=200_000):
-        self.enabled = enabled
-        self.minimum = minimum
-        self.progress = None
+    Only on a terminal, only for a step still running after ``delay_s`` (one second), and the
+    lines go away when the step ends: short commands, pipes, files and JSON never see one.
+    """
 
-    def __enter__(self):
-        def start(total):
-            console = Console(stderr=True)
-            if not (self.enabled and console.is_terminal and total >= self.minimum):
-                return None
-            from rich.progress import Progress
+    def __init__(self, enabled=True, delay_s=1.0, console=None):
+        self.console = console or Console(stderr=True)
+        self.enabled = enabled and self.console.is_terminal
+        self.delay_s = delay_s
+        self._lock = threading.Lock()
+        self._progress = None
+        self._shown = 0
 
-            self.progress = Progress(console=console, transient=True)
-            self.progress.start()
-            task = self.progress.add_task("searching", total=total)
-            return lambda n: self.progress.advance(task, n)
+    def start(self, label, total):
+        if not self.enabled or total <= 0:
+            return None
+        return _TerminalStep(self, label, total)
 
-        return start
+    def _add(self, label, total, completed, started):
+        with self._lock:
+            if self._progress is None:
+                from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn
 
-    def __exit__(self, *exc):
-        if self.progress is not None:
-            self.progress.stop()
-        return False
+                self._progress = Progress(TextColumn("{task.description}"), BarColumn(),
+                                          MofNCompleteColumn(), _since_column(),
+                                          console=self.console, transient=True)
+                self._progress.start()
+            self._shown += 1
+            return self._progress.add_task(label, total=total, completed=completed,
+                                           started=started)
+
+    def _remove(self, task):
+        with self._lock:
+            self._progress.remove_task(task)
+            self._shown -= 1
+            if not self._shown:
+                self._progress.stop()
+                self._progress = None
+
+    def _update(self, task, completed):
+        with self._lock:
+            if self._progress is not None:
+                self._progress.update(task, completed=completed)
+
+    def close(self):
+        """Take every line away (a command ending, or interrupted)."""
+        with self._lock:
+            if self._progress is not None:
+                self._progress.stop()
+                self._progress = None
+                self._shown = 0
+
+
+def _since_column():
+    """The time since the step began (not since its line appeared)."""
+    from rich.progress import ProgressColumn
+
+    class Since(ProgressColumn):
+        def render(self, task):
+            return Text(f"{time.monotonic() - task.fields['started']:.0f} s", style="dim")
+
+    return Since()
+
+
+class _TerminalStep:
+    """One step: shown once it has run ``delay_s``; advanced; taken away when done."""
+
+    def __init__(self, owner, label, total):
+        self.owner, self.label, self.total = owner, label, total
+        self.completed = 0
+        self.started = time.monotonic()
+        self.task = None
+        self.finished = False
+        self._lock = threading.Lock()
+        self._timer = threading.Timer(owner.delay_s, self._show)
+        self._timer.daemon = True
+        self._timer.start()
+
+    def _show(self):
+        with self._lock:
+            if not self.finished:
+                self.task = self.owner._add(self.label, self.total, self.completed,
+                                            self.started)
+
+    def advance(self, n=1):
+        with self._lock:
+            self.completed += n
+            if self.task is not None:
+                self.owner._update(self.task, self.completed)
+
+    def done(self):
+        with self._lock:
+            self.finished = True
+            self._timer.cancel()
+            if self.task is not None:
+                self.owner._remove(self.task)
+                self.task = None
 
 
 def render_spots(search, plan, console, seconds):

@@ -511,7 +511,7 @@ def test_electronic_command_prints_grade_and_exits_by_it():
     assert sensor["grade"]["standing"] == "within compensated"     # over as installed
     assert sensor["axes"] == "x+ y-"
     text = run("electronic", SAMPLES / "survey_boom", "--unit", "nT")
-    assert "Total-field error [nT], budget 2 nT" in text.output
+    assert "Total-field error, budget 2 nT" in text.output
 
 
 def test_per_amp_on_a_plan_without_electronic_sensors_says_so(plan_dir):

@@ -113,7 +113,7 @@ def test_new_template_has_comments_and_drop_downs(tmp_path):
     run("new", path, "--units", "ft")
     book = openpyxl.load_workbook(path)
     assert book.sheetnames == ["site", "points", "runs", "states", "sensors", "equipment", "steel",
-                               "spots", "volumes"]
+                               "spots", "volumes", "conditions"]
     steel = book["steel"]
     assert [c.value for c in steel[1]][:4] == ["item", "at", "shape", "size"]
     assert all(c.comment is not None for c in steel[1])

@@ -116,7 +116,8 @@ def test_html_report_is_self_contained_and_holds_the_tables(tmp_path):
     path = tmp_path / "report.html"
     assert run("check", SAMPLES / "camper_van", "--report", path).exit_code == 0     # the van is within budget while driving
     page = path.read_text(encoding="utf-8")
-    assert page.count("<svg") == 3            # bars, plan view, one sensor's curves, as vectors
+    # Page 1's drawing, the bars, the sensor's drawing and its card curves, as vectors.
+    assert page.count("<svg") == 4
     assert "<link" not in page and 'src="http' not in page and "@import" not in page
     for needle in ["dash compass", "driving", "camping", "inverter loaded", "inverter feed",
                    "compass adjuster", "ABYC", "Predicted deviation card", "@page"]:
@@ -156,6 +157,6 @@ def test_failed_write_leaves_no_file(tmp_path):
 
 
 def test_unknown_report_kind_exits_2(tmp_path):
-    result = run("check", SAMPLES / "camper_van", "--report", tmp_path / "r.pdf")
+    result = run("check", SAMPLES / "camper_van", "--report", tmp_path / "r.txt")
     assert result.exit_code == 2
-    assert "a report is FILE.xlsx or FILE.html" in result.output
+    assert "a report is FILE.xlsx, FILE.html or FILE.pdf" in result.output

@@ -9,6 +9,7 @@ import numpy as np
 
 from ...quantities import Budget, Status, Unit
 from .. import words
+from ..drawing import drawing_svg, two_views
 from ..model import (
     TONE_OF,
     Bullets,
@@ -22,7 +23,7 @@ from ..model import (
     Tone,
     cell,
 )
-from .common import Lengths, amperes, figure, microtesla, share, stamp
+from .common import Lengths, amperes, field_cell, figure, paper_for, share, stamp
 
 #: Runs below this share of the budget are summed on one line unless all runs are asked for.
 NEGLIGIBLE_SHARE = 0.005
@@ -94,9 +95,133 @@ def _summary_section(analysis, rows):
 
     blocks = [Table(columns, table_rows, "Figure held against each budget", notes=tuple(notes)),
               Chart("held figure by state, as a share of each budget",
-                    lambda fmt: plots.budget_bars(analysis, fmt=fmt)),
-              Chart("plan view of runs and sensors", lambda fmt: plots.plan_view(plan, fmt=fmt))]
+                    lambda fmt: plots.budget_bars(analysis, fmt=fmt))]
     return Section("Summary", tuple(blocks), sheet="summary")
+
+
+# The first page: a summary for the owner or surveyor ------------------------------------------
+
+#: What a sensor's verdict says on the first page, by its status.
+def _verdict_words(result):
+    sensor = result.sensor
+    worst = result.worst
+    held = words.held_text(sensor, worst)
+    if result.status is Status.WITHIN:
+        return (f"within its budget of {sensor.budget} in every state it is relied on in "
+                f"(at most {held}, in {worst.state})")
+    others = [s for s in result.over_in if s != worst.state]
+    also = f"; also over in {', '.join(others)}" if others else ""
+    if worst.overwhelmed:
+        return (f"over its budget of {sensor.budget}: overwhelmed in {worst.state}, it can point "
+                f"anywhere{also}")
+    return f"over its budget of {sensor.budget}: {held} in {worst.state}{also}"
+
+
+def _owner_section(analysis, rows, digest):
+    """Page 1: who and what the report is for, the plan file it came from, each sensor's
+    verdict in words, the fixes that make the plan pass, a drawing with the culprit, and a line
+    for whoever checks it."""
+    plan = analysis.plan
+    site = plan.site
+    from pathlib import Path
+
+    particulars = [("vessel or vehicle", site.vessel or ""), ("owner", site.owner or ""),
+                   ("installer", site.installer or ""),
+                   ("date of the plan", site.date_text),
+                   ("plan file", Path(str(plan.source)).name),
+                   ("plan SHA-256", digest or "not a file (built in Python)")]
+    blocks: list = [Table((Column("", wrap=True), Column("", wrap=True)),
+                          tuple((cell(a), cell(b)) for a, b in particulars),
+                          pen=())]
+    blocks.append(Table((Column("sensor", wrap=True), Column("verdict", wrap=True)),
+                        tuple((cell(r.sensor.name),
+                               Cell(_verdict_words(r), r.status.value, None, TONE_OF[r.status]))
+                              for r in analysis.sensors), "Each sensor's verdict"))
+    fixes = []
+    for result in analysis.sensors:
+        if result.status is Status.WITHIN or result.fixes is None:
+            continue
+        lines = words.fix_set_lines(result.fixes, site.units, result.sensor.budget.unit)
+        fixes.append(Paragraph(f"To bring {result.sensor.name} within its budget:", Tone.STRONG))
+        if lines:
+            fixes.append(Bullets(tuple(lines), ordered=True))
+        if not result.fixes.reaches_budget:
+            fixes.append(Paragraph(words.NO_FIX_SET, Tone.BAD))
+    if fixes:
+        blocks += fixes
+    over = [r for r in analysis.sensors if r.status is not Status.WITHIN]
+    shown = max(over or analysis.sensors, key=lambda r: r.sensor.budget.share(r.worst.held))
+    blocks.append(Table((Column("checked by", wrap=True), Column("date"),
+                         Column("signature")), ((cell(""), cell(""), cell("")),),
+                        pen=(0, 1, 2)))
+    blocks.append(Paragraph(" ".join(words.CAUTIONS[:2]), Tone.MUTED))
+    # Last, so that on paper it takes the room the page has left.
+    blocks.append(Chart(f"profile and plan around {shown.sensor.name}, the culprits heavier "
+                        "and named", lambda fmt: drawing_svg(plan, shown, width_mm=150,
+                                                             views=two_views(plan)),
+                        shrink=0.25))
+    return Section("Summary for the owner or surveyor", tuple(blocks), screen=False,
+                   workbook=False)
+
+
+def checklist_section(analysis):
+    """The installer's checklist of the fixes: a box to tick, and the lay, spacing and
+    clearance each change must achieve (paper only)."""
+    from ...units import format_length
+
+    units = analysis.plan.site.units
+    rows = []
+    for result in analysis.sensors:
+        if result.fixes is None:
+            continue
+        for step in result.fixes.steps:
+            rows.append((cell("☐"), cell(result.sensor.name), cell(step.run),
+                         cell({"pair": "return beside the supply", "twist": "twist with the "
+                               "return", "clearance": "keep clear of the sensor"}.get(
+                                   step.kind, step.kind)),
+                         cell(format_length(step.lay_m, units) if step.lay_m else ""),
+                         cell(format_length(step.spacing_m, units) if step.spacing_m else ""),
+                         cell(f"at least {format_length(step.clearance_m, units)}"
+                              if step.clearance_m else ""),
+                         figure(step.after, result.sensor.budget.unit,
+                                tone=Tone.GOOD if step.within_after else Tone.BAD)))
+    if not rows:
+        return None
+    columns = (Column("done"), Column("sensor", wrap=True), Column("run", wrap=True),
+               Column("change", wrap=True), Column("lay"), Column("centres"),
+               Column("clearance", wrap=True), Column("then", numeric=True))
+    return Section("Installer's checklist of the fixes", (
+        Paragraph("Tick each change when it is made; the lay (one full twist), the centre "
+                  "spacing of supply and return and the clearance from the sensor are what the "
+                  "figures assume. 'then': the sensor's held figure with this change and those "
+                  "above it made."),
+        Table(columns, tuple(rows))), screen=False, sheet="checklist", new_page=True)
+
+
+#: The words a report uses that a reader may not know, and what they mean.
+GLOSSARY = (
+    ("held against the budget", "the figure a sensor's verdict is judged by: the largest "
+     "deviation (or total-field error) over every heading, in the worst switching of the loads "
+     "that may be on, at the worst heel and pitch allowed, after adjustment where the sensor "
+     "has a reference state"),
+    ("level", "with the vessel upright: no heel or pitch"),
+    ("residual after adjustment", "what is left once the compass is adjusted (or the sensor "
+     "calibrated) in its reference state: the deviation of the field that changes from that "
+     "state, not the difference of two deviations"),
+    ("bound (≤)", "a figure that may be smaller but never larger: a part of unknown direction "
+     "(a pair whose lie is not given, a twisted run's ends, a labelled safe distance) counted "
+     "at its worst"),
+    ("not relied on", "a state in which the sensor is not used (the plan's used_in column): its "
+     "figure is shown in brackets and not held against the budget"),
+    ("overwhelmed", "the disturbance is at least the Earth's horizontal field: the sensor can "
+     "point anywhere"),
+)
+
+
+def glossary_section():
+    return Section("Words used in this report", (Table(
+        (Column("term", wrap=True), Column("meaning", wrap=True)),
+        tuple((cell(a), cell(b)) for a, b in GLOSSARY)),), screen=False, sheet="words")
 
 
 # A sensor ---------------------------------------------------------------------------------------
@@ -148,10 +273,13 @@ def budget_table(sensor, st, lengths, all_runs=True, title=""):
     unit = sensor.budget.unit
     degrees = unit is Unit.DEGREES
     adjusted = bool(sensor.reference_state) and degrees
+    field_unit = "nT" if unit is Unit.NANOTESLA else "µT"
     columns = [Column("run / item", wrap=True), Column("A", numeric=True),
                Column(f"nearest {lengths.unit}", numeric=True),
-               Column("horiz µT", numeric=True), Column("vert µT", numeric=True),
-               Column("alone °" if degrees else "alone nT", numeric=True)]
+               Column(f"horiz {field_unit}", numeric=True),
+               Column(f"vert {field_unit}", numeric=True),
+               Column("alone °" if degrees else
+                      "residual nT" if sensor.reference_state else "alone nT", numeric=True)]
     if adjusted:
         columns.append(Column("residual °", numeric=True))
     columns.append(Column("of budget", numeric=True))
@@ -162,7 +290,7 @@ def budget_table(sensor, st, lengths, all_runs=True, title=""):
         horizontal = float(np.hypot(r.field_t[0], r.field_t[1])) + r.bound_t
         vertical = abs(float(r.field_t[2])) + r.unknown_t if bound else float(r.field_t[2])
         row = [cell(r.name), amperes(r.current_a), lengths.cell(r.nearest_m),
-               microtesla(horizontal, bound=bound), microtesla(vertical, bound=bound),
+               field_cell(horizontal, unit, bound=bound), field_cell(vertical, unit, bound=bound),
                figure(r.max_deviation_deg, unit, sign=False) if degrees else
                figure(r.held, unit, sign=False)]
         if adjusted:
@@ -174,8 +302,8 @@ def budget_table(sensor, st, lengths, all_runs=True, title=""):
         horizontal = float(np.hypot(*item.field_t[:2])) if oriented else item.bound_t
         vertical = float(item.field_t[2]) if oriented else item.bound_t
         row = [cell(item.name), cell(None), lengths.cell(item.distance_m),
-               microtesla(horizontal, bound=not oriented),
-               microtesla(vertical, bound=not oriented),
+               field_cell(horizontal, unit, bound=not oriented),
+               field_cell(vertical, unit, bound=not oriented),
                figure(item.max_deviation_deg, unit, sign=False) if degrees else
                figure(item.held, unit, sign=False)]
         if adjusted:
@@ -320,25 +448,45 @@ def _site_section(site):
     return Section("Site", (table,), screen=False, sheet="site")
 
 
-def check_document(analysis, *, all_runs=False) -> Document:
-    """The check of a plan as one document (see :mod:`deviation.render.model`)."""
+def check_document(analysis, *, all_runs=False, digest=None, voltage_v=None) -> Document:
+    """The check of a plan as one document (see :mod:`deviation.render.model`).
+
+    ``digest``: the plan file's SHA-256 for the first page (default: worked out from the plan's
+    source where it is a file or folder). ``voltage_v``: the plan is the what-if of its loads in
+    watts at that DC voltage [V].
+    """
     from ...card import cards
+    from ...files import plan_digest
     from ..json_out import analysis_json
 
     plan = analysis.plan
     lengths = Lengths(plan)
     rows = summary_rows(analysis)
-    sections = [_summary_section(analysis, rows)]
-    for result, one_card in zip(analysis.sensors, cards(analysis, 15.0)):
+    if digest is None:
+        digest = plan_digest(plan.source)
+    summary = _summary_section(analysis, rows)
+    sections = [_owner_section(analysis, rows, digest),
+                Section(summary.title, summary.blocks, sheet=summary.sheet, new_page=True)]
+    for result, one_card in zip(analysis.sensors, cards(analysis)):
         sensor = result.sensor
         tone = TONE_OF[result.status]
-        sections.append(Section(sensor.name, tuple(_short_blocks(result, analysis, lengths)),
-                                tone=tone, sheet=f"budget {sensor.name}", new_page=True))
+        blocks = (*_short_blocks(result, analysis, lengths),
+                  Chart(f"where things are around {sensor.name}: profile, end view and plan, "
+                        "runs coloured by their share of its budget",
+                        lambda fmt, result=result: drawing_svg(plan, result)))
+        sections.append(Section(sensor.name, blocks, tone=tone, sheet=f"budget {sensor.name}",
+                                new_page=True))
         for st in result.states:
             sections.append(Section(state_title(sensor, st),
                                     tuple(_state_blocks(sensor, st, analysis, lengths, all_runs)),
                                     tone=TONE_OF[st.status], level=3, detail=True))
         sections.append(_card_section(one_card))
+    loads = loads_section(plan)
+    if loads is not None:
+        sections.insert(2, loads)                 # after the owner's page and the summary
+    aviation = aviation_section(analysis)
+    if aviation is not None:
+        sections.insert(2, aviation)
     sections.append(_site_section(analysis.site))
     per_ampere = _per_ampere_section(analysis)
     if per_ampere is not None:
@@ -347,10 +495,108 @@ def check_document(analysis, *, all_runs=False) -> Document:
         sections.append(Section("Findings", (Bullets(tuple(words.finding_text(f)
                                                           for f in analysis.findings)),),
                                 sheet="findings"))
-    return Document("check", "Deviation budget", _meta(analysis), tuple(sections),
-                    words.cautions(plan), _warnings(analysis), _recap(rows),
+    checklist = checklist_section(analysis)
+    if checklist is not None:
+        sections.append(checklist)
+    sections.append(glossary_section())
+    meta = _meta(analysis) + ((f"plan SHA-256 {digest}",) if digest else ())
+    if voltage_v is not None:
+        meta += (f"what-if: every load given in watts drawn at {voltage_v:g} V, not at the "
+                 "plan's own voltages",)
+    return Document("check", "Deviation budget", meta, tuple(sections),
+                    words.cautions(plan), _warnings(analysis),
+                    _recap(rows) + _aviation_recap(analysis),
                     analysis_json(analysis),
-                    stamp())
+                    stamp(), paper=paper_for(plan))
+
+
+def aviation_section(analysis):
+    """The aviation profile's verdict: every direction indicator in every state against 10° on
+    any heading in level flight, beside (not instead of) its own budget."""
+    from ...card import aviation_verdicts
+
+    verdicts = aviation_verdicts(analysis)
+    if not verdicts:
+        return None
+    columns = (Column("sensor", wrap=True), Column("state", wrap=True),
+               Column("conditions", wrap=True), Column("level, worst heading", numeric=True),
+               Column("limit", numeric=True), Column("verdict"))
+    rows = []
+    for v in verdicts:
+        tone = (Tone.MUTED if not v.used else Tone.GOOD if v.limit.within else Tone.BAD)
+        verdict = ("not relied on" if not v.used else "within" if v.limit.within else "OVER")
+        rows.append((cell(v.sensor), cell(v.state),
+                     cell(words.condition_words(v.condition) or "not stated"),
+                     figure(v.limit.level_deg, Unit.DEGREES, tone=tone),
+                     cell(v.limit.limit_deg, 0, suffix="°"), Cell(verdict, verdict, None, tone)))
+    notes = (f"{words.LIMIT_SOURCE}. The compensated installation: the residual after "
+             "adjustment where the sensor is adjusted in a reference state, else the absolute "
+             "deviation; with the worst switching of the independent loads and every part of "
+             "unknown direction.",)
+    return Section("Aviation: 10° on any heading, level",
+                   (Table(columns, tuple(rows), "Direction indicators against 10°", notes=notes),),
+                   sheet="aviation")
+
+
+def _aviation_recap(analysis):
+    from ...card import aviation_verdicts
+
+    over = [v for v in aviation_verdicts(analysis) if v.used and not v.limit.within]
+    if not aviation_verdicts(analysis):
+        return ()
+    if not over:
+        return (Paragraph("Aviation: every direction indicator within 10° on any heading in "
+                          "level flight.", Tone.GOOD),)
+    return (Paragraph("Aviation: over 10° in level flight — " + "; ".join(
+        f"{v.sensor} in {v.state} ({words.with_degree_sign(v.limit.level_deg)})" for v in over)
+        + ".", Tone.BAD),)
+
+
+def _watts(value_w) -> Cell:
+    """A power in W: whole watts from 100 W up, one decimal below."""
+    return cell(value_w, 0 if abs(value_w) >= 100 or value_w == 0 else 1)
+
+
+def loads_section(plan):
+    """The load list, W and A side by side per state, where the plan gives any circuit a voltage
+    or a load in watts: the watts as given (or V × I for a current with a voltage) and the DC
+    current the budget counts."""
+    shown = [c for c in plan.circuits if c.voltage_v is not None or c.in_watts]
+    if not shown:
+        return None
+    columns = [Column("circuit", wrap=True), Column("V", numeric=True), Column("supply")]
+    for state in plan.state_names:
+        columns += [Column(f"{state} W", numeric=True), Column(f"{state} A", numeric=True)]
+    rows = []
+    for c in shown:
+        row = [cell(c.name), cell(c.voltage_v, 0 if float(c.voltage_v).is_integer() else 1),
+               cell("via inverter" if c.inverter else "DC")]
+        for k, amps in enumerate(c.currents_a):
+            given = c.power_w is not None and np.isfinite(c.power_w[k])
+            if given:
+                power = _watts(float(c.power_w[k]))
+            elif c.inverter is None and amps:
+                power = _watts(c.voltage_v * float(amps))
+                power = Cell(power.text, power.value, power.digits, Tone.MUTED)
+            else:
+                power = cell(None)
+            row += [power, amperes(float(amps)) if amps or given else cell(None)]
+        rows.append(tuple(row))
+    notes = ["W as the plan gives it; in grey, V × A for a current given in amperes. A is the "
+             "DC current the budget counts."]
+    for c in shown:
+        if c.inverter is not None:
+            efficiency = (f"{c.efficiency:g}" + (" (default: rule of thumb, no published source; "
+                                                 "below NREL's PVWatts curve)"
+                                                 if c.inverter.efficiency is None else ""))
+            idle = (f"{c.idle_w:.1f} W" + (" (default: the PVWatts curve's draw at no output, "
+                                           "0.62 % of the largest load)"
+                                           if c.inverter.idle_w is None else ""))
+            notes.append(f"{c.name}: via inverter, A = W / (V × efficiency) + idle / V with "
+                         f"efficiency {efficiency} and idle draw {idle}, counted wherever a "
+                         "power is given (blank: the inverter off).")
+    return Section("Loads", (Table(tuple(columns), tuple(rows), "Loads in W and A",
+                                   notes=tuple(notes)),), sheet="loads")
 
 
 def _per_ampere_section(analysis):

@@ -16,6 +16,12 @@ from ..model import Cell, Tone, cell
 LENGTH_DIGITS = {"m": 3, "cm": 1, "mm": 0, "ft": 2, "in": 1}
 
 
+def paper_for(plan) -> str:
+    """Letter for a plan in feet or inches, A4 for a metric one (a report can be asked for on
+    the other)."""
+    return "Letter" if plan.site.units in ("ft", "in") else "A4"
+
+
 def stamp() -> str:
     """When and by what a report was made (paper only)."""
     return f"made {dt.date.today().isoformat()} by deviation {__version__}"
@@ -53,6 +59,16 @@ def microtesla(value_t, *, bound=False, tone=Tone.PLAIN) -> Cell:
     """A field in µT to three significant figures; an upper bound shown as "≤ 0.35"."""
     value = value_t * 1e6
     return cell(value, significant_digits(value), tone=tone, prefix="≤ " if bound else "")
+
+
+def field_cell(value_t, unit, *, bound=False, tone=Tone.PLAIN) -> Cell:
+    """A field in the unit a sensor's figures are read in: nT beside a budget in nT (a survey
+    magnetometer resolves fractions of a nT), else µT; three significant figures."""
+    if unit is Unit.NANOTESLA:
+        value = value_t * 1e9
+        return cell(value, significant_digits(value, most=3), tone=tone,
+                    prefix="≤ " if bound else "")
+    return microtesla(value_t, bound=bound, tone=tone)
 
 
 def amperes(value_a) -> Cell:
