@@ -502,6 +502,34 @@ def check_sensors_outside_conductors(plan: Plan) -> None:
         raise PlanError(findings)
 
 
+def check_sensors_outside_steel(plan: Plan) -> None:
+    """A sensor inside a steel item, or within ``budget.steel.CLEARANCE_M`` of its surface, is a
+    modelling error reported as a located finding (the item's exterior field does not hold
+    there).
+
+    Raises
+    ------
+    PlanError
+        With one finding per such sensor and item, at the sensor's row and ``at`` column.
+    """
+    from .budget.steel import CLEARANCE_M
+    from .physics.induced import body_points, distance_outside_m
+
+    findings = []
+    for item in plan.steel:
+        for sensor in plan.sensors:
+            gap = float(distance_outside_m(item.shape, item.sizes_m, body_points(
+                item.position_m, item.rotation, sensor.position_m)))
+            if gap <= CLEARANCE_M:
+                findings.append(Finding(
+                    plan.source, "sensors", sensor.row, "at", f'sensor "{sensor.name}" lies '
+                    f'inside steel item "{item.name}" (steel row {item.row}) or within '
+                    f"{CLEARANCE_M * 1000:g} mm of it; move the sensor or check the item's place "
+                    "and size", Problem.INCONSISTENT))
+    if findings:
+        raise PlanError(findings)
+
+
 def check_ceilings(plan: Plan, *, fixes: bool = False) -> None:
     """Refuse a plan beyond what a check is made for (constants.MAX_*): a :class:`PlanError`
     whose finding is at the first state or independent circuit past the ceiling. With
@@ -532,11 +560,13 @@ def analyse(plan: Plan) -> Analysis:
     Raises
     ------
     PlanError
-        A sensor lies inside a conductor (:func:`check_sensors_outside_conductors`), or the
-        plan is beyond the ceilings (:func:`check_ceilings`).
+        A sensor lies inside a conductor (:func:`check_sensors_outside_conductors`) or a steel
+        item (:func:`check_sensors_outside_steel`), or the plan is beyond the ceilings
+        (:func:`check_ceilings`).
     """
     check_ceilings(plan)
     check_sensors_outside_conductors(plan)
+    check_sensors_outside_steel(plan)
     site = site_field(plan.site)
     positions = np.array([s.position_m for s in plan.sensors]).reshape(-1, 3)
     parts = parts_at(plan, positions)

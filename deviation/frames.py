@@ -76,7 +76,7 @@ def runs_frame(analysis):
                              "change_from_reference_deg": r.change_from_reference_deg,
                              "held": r.held, "unit": s.budget.unit.value,
                              "share_of_budget": r.share_of_budget, "bound": r.bound_t > 0,
-                             "bound_ut": r.bound_t * 1e6})
+                             "bound_ut": r.bound_t * 1e6, "steel": False})
             for e in st.equipment:
                 oriented = e.field_t is not None
                 rows.append({"sensor": s.name, "state": st.state, "name": e.name, "is_item": True,
@@ -88,7 +88,7 @@ def runs_frame(analysis):
                              "change_from_reference_deg": None,
                              "held": e.held, "unit": s.budget.unit.value,
                              "share_of_budget": s.budget.share(e.held), "bound": e.bound,
-                             "bound_ut": e.bound_t * 1e6})
+                             "bound_ut": e.bound_t * 1e6, "steel": False})
             for item in st.steel:
                 # A steel item: its field turns with the heading, so no single vector; its
                 # bounds over every heading are given instead.

@@ -404,6 +404,8 @@ class Plan:
         if self.equipment:
             count.append(f"{len(self.equipment)} equipment item"
                          f"{'s' * (len(self.equipment) != 1)}")
+        if self.steel:
+            count.append(f"{len(self.steel)} steel item{'s' * (len(self.steel) != 1)}")
         return f"<Plan {self.source!r}: {', '.join(count)}>"
 
     def _repr_html_(self) -> str:
@@ -551,6 +553,11 @@ def consistency_findings(plan) -> list[Finding]:
             if state not in states:
                 add("equipment", item.row, "states",
                     f'item "{item.name}": "{state}" is not a state of the plan')
+    for item in plan.steel:
+        for state in item.states or ():
+            if state not in states:
+                add("steel", item.row, "states",
+                    f'steel item "{item.name}": "{state}" is not a state of the plan')
     return out
 
 

@@ -1174,7 +1174,8 @@ def _permeability(value, default, collector, row, column):
                   "steel", row, column)
     if got is not None and got < 1:
         collector.add("steel", row, column, f"a relative permeability is at least 1, got {got:g} "
-                      "(steel is far above 1; a non-magnetic item does not belong in this sheet)")
+                      "(steel is far above 1; a non-magnetic item does not belong in this sheet)",
+                      Problem.OUT_OF_RANGE)
         return None
     return got
 
@@ -1199,24 +1200,24 @@ def _read_steel(sheet, site, points, states, collector):
         position = None
         if row.get("at") is None:
             collector.add("steel", number, "at", "where is its centre? give a point name or "
-                          "x, y, z")
+                          "x, y, z", Problem.MISSING)
         else:
             position = _position(row["at"], points, site.units, collector, "steel", number, "at")
         shape = None
         if row.get("shape") is None:
             collector.add("steel", number, "shape", "the shape is needed: one of "
-                          + ", ".join(STEEL_SHAPES))
+                          + ", ".join(STEEL_SHAPES), Problem.MISSING)
         else:
             wanted = key(re.sub(r"[-_]", " ", str(row["shape"])))
             shape = next((s for s in STEEL_SHAPES if key(s) == wanted), None)
             if shape is None:
                 collector.add("steel", number, "shape", f'"{row["shape"]}" is not a shape; '
                               f'expected one of {", ".join(STEEL_SHAPES)}'
-                              f"{_suggest(wanted, STEEL_SHAPES)}")
+                              f"{_suggest(wanted, STEEL_SHAPES)}", Problem.NOT_A_VALUE)
         sizes = None
         if row.get("size") is None:
             collector.add("steel", number, "size", "the size is needed"
-                          + (f" ({expected[shape][1]})" if shape else ""))
+                          + (f" ({expected[shape][1]})" if shape else ""), Problem.MISSING)
         else:
             # Dimensions are separated by x, so a comma between digits is a decimal comma.
             text = re.sub(r"(?<=\d),(?=\d)", ".", row["size"]) if isinstance(row["size"], str) \
@@ -1224,14 +1225,22 @@ def _read_steel(sheet, site, points, states, collector):
             try:
                 sizes = np.array(units.parse_sizes(text, site.units))
             except units.UnitError as error:
-                collector.add("steel", number, "size", str(error))
+                collector.add("steel", number, "size", dash_hint(row["size"]) or visible(error),
+                              Problem.NOT_A_VALUE)
             if sizes is not None and shape is not None and len(sizes) != expected[shape][0]:
                 collector.add("steel", number, "size", f"a {shape} needs {expected[shape][1]} "
                               f"({expected[shape][0]} size{'s' if expected[shape][0] > 1 else ''}"
-                              f"), got {len(sizes)}")
+                              f"), got {len(sizes)}", Problem.INCONSISTENT)
                 sizes = None
             elif sizes is not None and not np.all(sizes > 0):
-                collector.add("steel", number, "size", "every size must be more than zero")
+                collector.add("steel", number, "size", "every size must be more than zero",
+                              Problem.OUT_OF_RANGE)
+                sizes = None
+            elif sizes is not None and np.any(sizes > MAX_LENGTH_M):
+                collector.add("steel", number, "size", f"{np.max(sizes):g} m is more than any "
+                              f"length in a plan may be ({MAX_LENGTH_M:g} m; rule of thumb, no "
+                              "published source); check the digits and the unit",
+                              Problem.OUT_OF_RANGE)
                 sizes = None
         direction = None
         needs_axis = shape in ("cylinder", "rod", "hollow cylinder")
@@ -1239,29 +1248,31 @@ def _read_steel(sheet, site, points, states, collector):
             direction = _steel_direction(row["axis"], collector, number)
         elif needs_axis:
             collector.add("steel", number, "axis", f"a {shape} needs the direction of its length:"
-                          " x (fore and aft), y (athwartships), z (upright) or x, y, z numbers")
+                          " x (fore and aft), y (athwartships), z (upright) or x, y, z numbers",
+                          Problem.MISSING)
         wall = None
         hollow = shape is not None and shape.startswith("hollow")
         if row.get("wall") is not None:
             if shape is not None and not hollow:
                 collector.add("steel", number, "wall", f"a {shape} has no wall; give the wall "
-                              "only for a hollow box or a hollow cylinder")
+                              "only for a hollow box or a hollow cylinder", Problem.INCONSISTENT)
             else:
                 wall = _length(row["wall"], small, collector, "steel", number, "wall")
                 if wall is not None and not wall > 0:
-                    collector.add("steel", number, "wall", "the wall must be more than zero")
+                    collector.add("steel", number, "wall", "the wall must be more than zero",
+                                  Problem.OUT_OF_RANGE)
                 elif wall is not None and sizes is not None and hollow \
                         and wall >= float(np.min(sizes)) / 2.0:
                     collector.add("steel", number, "wall", "the wall must be thinner than half "
-                                  "the smallest size")
+                                  "the smallest size", Problem.OUT_OF_RANGE)
         elif hollow:
             collector.add("steel", number, "wall", f"a {shape} needs its wall thickness (bare "
-                          f"numbers in {small})")
+                          f"numbers in {small})", Problem.MISSING)
         mu_low = _permeability(row.get("mu_low"), STEEL_MU_LOW, collector, number, "mu_low")
         mu_high = _permeability(row.get("mu_high"), STEEL_MU_HIGH, collector, number, "mu_high")
         if mu_low is not None and mu_high is not None and mu_high < mu_low:
             collector.add("steel", number, "mu_high", f"the band's high end {mu_high:g} is below "
-                          f"its low end {mu_low:g}")
+                          f"its low end {mu_low:g}", Problem.INCONSISTENT)
         present = _state_list(row.get("states"), states, collector, "steel", number, "states")
         if len(collector.findings) > bad:
             continue

@@ -235,6 +235,13 @@ def deflection_json(row, moment_am2, deflection_deg, distance_m, position, horiz
     return out
 
 
+def refit_note_text(note) -> str:
+    """A refit note in words."""
+    from .documents.aftercare import CHANGE_WORDS
+
+    return CHANGE_WORDS[note.change].format(note.name)
+
+
 #: Said when the deflected item is steel.
 STEEL_DEFLECTION = ("As steel ({shape}), the Earth's field there induces {low:.3g} to {high:.3g} "
                     "A·m² in it, along the field: that moment does not deflect the needle in "

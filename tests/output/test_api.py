@@ -120,13 +120,13 @@ def test_a_what_if_that_leaves_a_run_inconsistent_is_a_located_plan_error():
 def test_plans_and_results_show_short_in_a_notebook():
     plan = deviation.read_plan(SAMPLES / "cruising_sailboat")
     assert repr(plan) == ("<Plan 'sample_installs/cruising_sailboat': 8 runs, 7 circuits, "
-                          "3 states, 2 sensors, 1 equipment item>").replace(
+                          "3 states, 2 sensors, 1 equipment item, 1 steel item>").replace(
         "sample_installs/cruising_sailboat", plan.source)
     assert "<table>" in plan._repr_html_() and "helm compass" in plan._repr_html_()
     result = deviation.check(plan, remedies=False)
     text = repr(result)
     assert text.startswith("<CheckResult") and "over budget" in text and len(text) < 300
-    assert "helm compass over (1.20° of 1° in night motoring)" in text
+    assert "helm compass over (1.45° of 1° in night motoring)" in text      # with the engine
     frame = result.verdict_frame()
     assert list(frame["sensor"]) == ["helm compass", "autopilot sensor"]
     assert frame.loc[0, "night motoring"] == result.sensors[0].state("night motoring").held

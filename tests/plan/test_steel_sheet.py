@@ -100,10 +100,15 @@ def test_bad_cells_are_located_findings(tmp_path, row, message):
 
 
 def test_a_sensor_inside_an_item_is_refused(tmp_path):
-    # The compass of straight_wire_plan sits at the origin: a box around it.
-    got = findings(tmp_path, ["box", "0, 0, 0.1", "box", "0.5 x 0.5 x 0.5"])
-    assert any('sensors row 2, at: sensor "compass" lies inside steel item "box"' in f
-               for f in got)
+    # The compass of straight_wire_plan sits at the origin: a box around it. Refused when the
+    # plan is checked (a what-if made in Python is refused the same way).
+    from deviation import api
+
+    plan = read_plan(plan_with(tmp_path, ["box", "0, 0, 0.1", "box", "0.5 x 0.5 x 0.5"]))
+    with pytest.raises(PlanError) as error:
+        api.check(plan)
+    assert any('sensors row 2, at: sensor "compass" lies inside steel item "box"' in str(f)
+               for f in error.value.findings)
 
 
 def test_the_template_offers_the_sheet_with_a_drop_down_of_shapes(tmp_path):

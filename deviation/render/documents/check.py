@@ -317,8 +317,8 @@ def budget_table(sensor, st, lengths, all_runs=True, title=""):
         alone = (cell(item.max_deviation_deg, 2, prefix=bound) if degrees else
                  cell(item.held, 2, prefix=bound))
         row = [cell(f"{item.name} (steel)"), cell(None), lengths.cell(item.distance_m),
-               microtesla(item.horizontal_t, bound=True), microtesla(item.vertical_t, bound=True),
-               alone]
+               field_cell(item.horizontal_t, unit, bound=True),
+               field_cell(item.vertical_t, unit, bound=True), alone]
         if adjusted:
             row.append(cell(item.held, 2, prefix=bound))
         row.append(share(item.share_of_budget, overwhelmed=degrees and item.held >= 180))
