@@ -275,7 +275,7 @@ def _size_text(span_m):
 
 #: With steel, the search ranks positions by a quicker proven bound; this many times ``top`` of
 #: its best are then evaluated exactly and ranked again.
-STEEL_POOL = 3
+STEEL_POOL = 2
 
 
 def _steel_spots(plan, site, sensor, positions, names, count):

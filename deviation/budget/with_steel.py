@@ -185,6 +185,11 @@ def steel_figures(plan, sensor, horizontal_t, vertical_t, parts, items, steel: S
     held_case = None
     if held_only:
         cases = cases[-1:]
+        used = np.array([sensor.used_in_state(state) for state in plan.state_names])
+        if exact and not used.all():
+            return _held_in_used_states(cases[0], used, parts, switched, reversing, h, z, heel,
+                                        pitch, cap_attitude if tilted else cap_level, n_c,
+                                        reference is not None, lam_low, lam_high, absolute)
     for fixed, scale, scalar, seen in cases:
         if not exact:
             cap = cap_attitude if tilted else cap_level
@@ -240,6 +245,31 @@ def steel_figures(plan, sensor, horizontal_t, vertical_t, parts, items, steel: S
     info = SteelFigures(lam_low, lam_high, fixed_seen, matrix_seen, matrix_absolute, *where,
                         exact)
     return out, vector, choice, info
+
+
+def _held_in_used_states(case, used, parts, switched, reversing, h, z, heel, pitch, cap, n_c,
+                         adjusted, lam_low, lam_high, absolute):
+    """:func:`steel_figures` with ``held_only`` for a sensor relied on in some states only: the
+    exact worst in those, the quick proven bound (never below it) in the others, which no
+    verdict reads."""
+    fixed, scale, scalar, seen = case
+    n_p, n_k = fixed.shape[:2]
+    figure = _quick(fixed, switched, reversing, parts.spread_t, scale, scalar, seen, h, z, heel,
+                    pitch, cap)
+    kk = np.flatnonzero(used)
+    if len(kk):
+        kept, apart = _spread_generators(parts.spread_t, scale[:, kk], scalar[:, kk], heel, pitch,
+                                         cap, n_c)
+        sub = _Seen(*(getattr(seen, name)[:, kk] for name in
+                      ("matrix", "matrix_generators", "fixed", "fixed_generators")))
+        worst = _exact(_problems(fixed[:, kk], switched[:, kk], reversing, kept, apart, sub), h,
+                       z, heel, pitch)
+        figure[:, kk] = worst.bound_deg.reshape(n_p, len(kk))
+    out = [(figure, figure)] * (2 if adjusted else 1)
+    nan = np.full((n_p, n_k), np.nan)
+    info = SteelFigures(lam_low, lam_high, fixed + seen.fixed, seen.matrix, absolute.matrix, nan,
+                        nan, nan, False)
+    return out, figure, np.zeros((n_p, n_k, n_c), dtype=int), info
 
 
 def item_alone(plan, sensor, horizontal_t, vertical_t, steel: SteelParts, *,
