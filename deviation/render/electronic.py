@@ -208,6 +208,8 @@ def electronic_json(analysis, reports, unit):
                 "compensated_percent_of_total_field": None if s.compensated_fraction is None
                 else _round(s.compensated_fraction * 100, 4),
                 "unknown_direction": _round(_in(s.unknown_t, unit), 6),
+                "compensated_bound": None if s.compensated_bound_t is None
+                else _round(_in(s.compensated_bound_t, unit), 6),
                 "field_departure": _round(_in(s.field_departure_t, unit), 6),
                 "inclination_departure_deg": _round(s.inclination_departure_deg, 4),
                 "model_check_ok": s.model_ok} for s in report.states]
@@ -241,7 +243,7 @@ def render_electronic(analysis, reports, console, unit):
         columns = ["state", f"interference [{label}]", "% of F"]
         if comp is not None:
             columns += [f"compensated |b_h| [{label}]", "compensated [°]", "compensated % of F",
-                        f"± unknown [{label}]"]
+                        f"of which bounds [{label}]"]
         columns += [f"field vs model [{label}]", "inclination vs model [°]", "model check"]
         for column in columns:
             table.add_column(escape(column), justify="left" if column == "state" else "right")
@@ -252,12 +254,16 @@ def render_electronic(analysis, reports, console, unit):
             if comp is not None:
                 cells += [_num(_in(s.compensated_horizontal_t, unit)),
                           words.degrees(s.compensated_deg), f"{s.compensated_fraction * 100:.1f}",
-                          _num(_in(s.unknown_t, unit))]
+                          _num(_in(s.compensated_bound_t, unit))]
             cells += [_num(_in(s.field_departure_t, unit)),
                       f"{s.inclination_departure_deg:.2f}", "ok" if s.model_ok else "FAILS"]
             table.add_row(*cells)
         console.print(table)
         if comp is not None:
+            console.print("Compensated figures count what the fit leaves of every part the plan "
+                          "does not fix (a pair's lie, a twisted run's ends, equipment of unknown "
+                          "orientation) at its worst: where that is not zero they are bounds, "
+                          "and 'of which bounds' is its share.")
             console.print(f"Compensation from the measured current(s) "
                           f"{', '.join(comp.measured)}: see `deviation per-amp` for the figures "
                           "to key in.")
