@@ -11,7 +11,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from .budget import RunParts, budget_figures, equipment_fields, parts_of_runs
+from .budget import RunParts, circuit_currents, equipment_fields, parts_of_runs, sensor_figures
 from .constants import ISO25862_BIPOLAR_RADIUS_M
 from .electronic import electronic_states, interference_grade
 from .physics.routing import hint_lay_m
@@ -44,6 +44,9 @@ FIX_SET_SHARE = 0.01
 FIX_SET_RUNS = 12
 FIX_SET_CLEARANCE_RUNS = 4
 MAX_FIX_STEPS = 8
+#: A change must lower the held figure by more than this, in the budget's unit, to count: half
+#: the last digit printed (0.01 degrees, 0.01 nT), so an offered remedy always shows a gain.
+SMALLEST_GAIN = 0.005
 
 #: Kinds of remedy (the renderers' words for each live in render/words.py).
 REMEDY_KINDS = ("pair", "twist", "clearance", "no single fix", "move sensor")
@@ -54,16 +57,17 @@ class Remedy:
     """One computed remedy for a sensor in a state.
 
     ``kind`` is one of REMEDY_KINDS. The figures are the sensor's held figure before and after
-    the change, everything else unchanged; ``after_deg`` is None for the kinds that carry no
-    figure ("no single fix", "move sensor").
+    the change, everything else unchanged, in the unit of the sensor's budget (degrees, or nT
+    for a total-field magnetometer); ``after`` is None for the kinds that carry no figure ("no
+    single fix", "move sensor").
     """
 
     sensor: str
     state: str
     kind: str
     run: str | None
-    before_deg: float
-    after_deg: float | None = None
+    before: float
+    after: float | None = None
     within_after: bool | None = None
     spacing_m: float | None = None
     size: str | None = None           # the conductor size the spacing comes from; None: assumed
@@ -146,16 +150,19 @@ class _Evaluator:
 
     def __init__(self, analysis, result):
         self.plan = analysis.plan
+        self.site = analysis.site
         self.horizontal_t = analysis.site.horizontal_t
         self.sensor = result.sensor
+        self.currents = circuit_currents(self.plan)
         self.parts = result.parts                                      # P = 1
         self.items = equipment_fields(self.plan, self.sensor, self.sensor.position_m[None, :],
                                       self.horizontal_t)
         self._cache = {}
 
     def with_run(self, r, run, others=None):
-        """Figures (arrays (1, K)) with run ``r`` replaced by ``run`` (and the runs in
-        ``others``, {index: Run}, replaced too), and the new run's nearest distance."""
+        """Figures (:class:`~deviation.budget.SensorFigures`, P = 1) with run ``r`` replaced by
+        ``run`` (and the runs in ``others``, {index: Run}, replaced too), and the new run's
+        nearest distance."""
         changes = dict(others or {})
         changes[r] = run
         unit, spread = self.parts.unit_t.copy(), self.parts.spread_t.copy()
@@ -169,7 +176,8 @@ class _Evaluator:
             if index == r:
                 nearest = float(new.nearest_m[0, 0])
         parts = RunParts(unit, spread, bound, self.parts.nearest_m, self.parts.inside)
-        figures = budget_figures(self.plan, self.sensor, self.horizontal_t, parts, self.items)
+        figures = sensor_figures(self.plan, self.sensor, self.site, parts, items=self.items,
+                                 currents=self.currents)
         return figures, nearest
 
     def _parts(self, run):
@@ -184,8 +192,8 @@ class _Evaluator:
         """The held figure over the states the sensor is used in, and whether all are within."""
         used = [k for k, state in enumerate(self.plan.state_names)
                 if self.sensor.used_in_state(state)]
-        return (max(float(figures.budget_used_deg[0, k]) for k in used),
-                all(bool(figures.within_budget[0, k]) for k in used))
+        return (max(float(figures.held[0, k]) for k in used),
+                all(bool(figures.within[0, k]) for k in used))
 
 
 def _pair_spacing(run):
@@ -306,33 +314,32 @@ def remedies_for(analysis, result) -> dict[str, tuple[Remedy, ...]]:
             run = plan.runs[r]
             for kind, rerouted, spacing, size, lay in _reroutings(run):
                 figures, _ = evaluator.with_run(r, rerouted)
-                found.append(Remedy(sensor.name, st.state, kind, run.name, st.budget_used_deg,
-                                    float(figures.budget_used_deg[0, k]),
-                                    bool(figures.within_budget[0, k]), spacing_m=spacing,
+                found.append(Remedy(sensor.name, st.state, kind, run.name, st.held,
+                                    float(figures.held[0, k]),
+                                    bool(figures.within[0, k]), spacing_m=spacing,
                                     size=size, lay_m=lay))
             if over:
                 solved = _solve_clearance(evaluator, r, run,
-                                          lambda f, k=k: float(f.budget_used_deg[0, k]),
-                                          sensor.budget_deg * CLEARANCE_MARGIN)
+                                          lambda f, k=k: float(f.held[0, k]),
+                                          sensor.budget.value * CLEARANCE_MARGIN)
                 if solved is not None:
                     figure, nearest, _ = solved
                     found.append(Remedy(sensor.name, st.state, "clearance", run.name,
-                                        st.budget_used_deg, figure, figure <= sensor.budget_deg,
+                                        st.held, figure, figure <= sensor.budget.value,
                                         clearance_m=nearest))
         # A remedy is only offered where it helps (fields of runs can cancel, so one that helps
         # a run's own figure may still raise the sensor's).
-        found = [m for m in found if m.after_deg < m.before_deg - 0.005]
-        found.sort(key=lambda m: (m.after_deg, m.run or ""))
+        found = [m for m in found if m.after < m.before - SMALLEST_GAIN]
+        found.sort(key=lambda m: (m.after, m.run or ""))
         chosen = found[:REMEDIES_PER_STATE]
         if over:
             if not any(m.within_after for m in found):
-                chosen.append(Remedy(sensor.name, st.state, "no single fix", None,
-                                     st.budget_used_deg))
+                chosen.append(Remedy(sensor.name, st.state, "no single fix", None, st.held))
             # A box around the sensor, cut to the plan's extent and its mount-in volumes.
             box_low, box_high = search_box_around(plan, sensor, SPOT_BOX_HALF_M)
             low = tuple(float(v) for v in box_low)
             high = tuple(float(v) for v in box_high)
-            chosen.append(Remedy(sensor.name, st.state, "move sensor", None, st.budget_used_deg,
+            chosen.append(Remedy(sensor.name, st.state, "move sensor", None, st.held,
                                  box_low_m=low, box_high_m=high))
         out[st.state] = tuple(chosen)
     return out
@@ -345,7 +352,7 @@ class FixStep:
 
     kind: str                         # "pair", "twist" or "clearance"
     run: str
-    after_deg: float
+    after: float                      # in the unit of the sensor's budget
     within_after: bool
     spacing_m: float | None = None
     size: str | None = None
@@ -358,7 +365,7 @@ class FixSet:
     """The ordered changes that bring a sensor within budget in every state it is used in, or
     ``reaches_budget`` False when no combination of rerouting does (move the sensor)."""
 
-    before_deg: float
+    before: float                     # in the unit of the sensor's budget
     steps: tuple[FixStep, ...]
     reaches_budget: bool
 
@@ -377,7 +384,7 @@ def fix_set(analysis, result) -> FixSet:
     plan = analysis.plan
     evaluator = _Evaluator(analysis, result)
     worst = result.worst
-    before = worst.budget_used_deg
+    before = worst.held
     if result.within_budget:
         return FixSet(before, (), True)
     used = [st for st in result.states if st.used]
@@ -390,7 +397,7 @@ def fix_set(analysis, result) -> FixSet:
                     key=lambda name: (-largest[name], name))[:FIX_SET_RUNS]
     runs = [by_name[name] for name in ranked]
     changed, steps, figure = {}, [], before
-    target = sensor.budget_deg * CLEARANCE_MARGIN
+    target = sensor.budget.value * CLEARANCE_MARGIN
 
     def held_of(figures):
         return evaluator.held(figures)[0]
@@ -412,7 +419,7 @@ def fix_set(analysis, result) -> FixSet:
                 solved = _solve_clearance(evaluator, r, plan.runs[r], held_of, target, changed)
                 if solved is not None:
                     held, nearest, moved = solved
-                    within = held <= sensor.budget_deg
+                    within = held <= sensor.budget.value
                     options.append((within, held, r, moved, FixStep(
                         "clearance", plan.runs[r].name, held, within, clearance_m=nearest)))
         finishing = [o for o in options if o[0]]
@@ -420,7 +427,7 @@ def fix_set(analysis, result) -> FixSet:
         if not pool:
             return FixSet(before, tuple(steps), False)
         within, held, r, rerouted, step = min(pool, key=lambda o: (o[1], o[4].run, o[4].kind))
-        if not within and held >= figure - 0.005:
+        if not within and held >= figure - SMALLEST_GAIN:
             return FixSet(before, tuple(steps), False)
         changed[r] = rerouted
         steps.append(step)

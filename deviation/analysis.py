@@ -12,20 +12,21 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from .budget import (
+    TESLA_PER_NT,
     RunParts,
     asin_deg,
-    budget_figures,
+    circuit_currents,
     equipment_fields,
     item_effect,
     parts_of_runs,
     run_fields_at,
-    total_field_figures,
+    sensor_figures,
 )
 from .physics import heading
 from .physics.routing import Conductors, route_runs
-from .physics.worst_case import worst_combination
+from .physics.total_field import total_field_error_range
 from .plan import Plan, Sensor, conductors_of, frozen_array
-from .schema import TOTAL_FIELD_KIND
+from .quantities import Status, status_of
 from .sitefield import SiteField, site_field
 
 
@@ -37,9 +38,10 @@ class RunContribution:
     current_a: float                  # in the worst switching of independent circuits
     field_t: np.ndarray               # (3,) vessel frame, the part of known direction
     nearest_m: float
-    max_deviation_deg: float          # this run alone, level, over all headings, absolute
+    max_deviation_deg: float | None   # this run alone, level, over all headings, absolute
     change_from_reference_deg: float | None   # this run's own residual b - b_ref, level
-    share_of_budget: float            # the run's counted figure / budget_deg
+    held: float                       # what it alone makes of the held figure, budget's unit
+    share_of_budget: float            # held / the budget
     return_kind: str
     bound_t: float = 0.0              # the part of unknown direction (lie of a pair, floor)
     ends_share: float | None = None   # twisted: share of its field from the untwisted ends
@@ -52,26 +54,30 @@ class EquipmentContribution:
     kind: str                         # "safe distance" or "moment"
     field_t: np.ndarray | None        # known orientation: the vector field
     bound_t: float                    # unknown orientation: the largest field it may cause
-    max_deviation_deg: float
+    max_deviation_deg: float          # this item alone, level, over headings, absolute
     inside_safe_distance: bool
     safe_distance_m: float | None
     compensated: bool = False         # present in the reference state too: adjusted out
+    held: float = 0.0                 # what it alone adds to the held figure, budget's unit
+
+    @property
+    def bound(self) -> bool:
+        """Of unknown direction: its figure is an upper bound."""
+        return self.field_t is None
 
 
 @dataclass(frozen=True)
 class StateResult:
+    """One sensor in one state. ``held`` is the figure held against the budget, in the budget's
+    unit (degrees, or nT for a total-field magnetometer); ``status`` where it stands. The degree
+    figures are None for a total-field magnetometer, the total-field ones for the other kinds."""
+
     state: str
     used: bool                        # the sensor is relied on in this state
     is_reference: bool                # the state the sensor is adjusted in
     field_t: np.ndarray               # (3,) all runs and oriented items, vector sum
-    vector_deviation_deg: float       # level, from the vector sum only
-    max_deviation_deg: float          # level, vector sum plus equipment bounds: absolute worst
-    magnitude_bound_deg: float        # level, every field's horizontal size added, bounds too
-    change_from_reference_deg: float | None   # level, deviation of the residual field
-    heeled_max_deviation_deg: float   # absolute, worst attitude within heel and pitch
-    attitude_change_deg: float | None # residual, worst attitude within heel and pitch
-    budget_used_deg: float            # the figure held against the budget
-    within_budget: bool
+    held: float                       # the figure held against the budget, in its unit
+    within_budget: bool               # held within the budget (whether or not the state is used)
     overwhelmed: bool
     fraction_of_total: float          # |vector sum| / F
     equipment_bound_t: float
@@ -80,6 +86,13 @@ class StateResult:
     remedies: tuple = ()
     bound_t: float = 0.0              # every bound of unknown direction in the held figure
     switched_on: tuple[tuple[str, int], ...] = ()   # independent circuits on in the worst case
+    # Heading sensors [deg]; None for a total-field magnetometer.
+    vector_deviation_deg: float | None = None       # level, from the vector sum only
+    max_deviation_deg: float | None = None          # level, with every bound: absolute worst
+    magnitude_bound_deg: float | None = None        # level, every field's size added
+    change_from_reference_deg: float | None = None  # level, deviation of the residual field
+    heeled_max_deviation_deg: float | None = None   # absolute, worst attitude
+    attitude_change_deg: float | None = None        # residual, worst attitude
     # Total-field magnetometers only [T]: the error |F + b| - |F| over headings and attitude
     # (largest, smallest, held), its level peak to peak over headings, the bounds in it
     # (budget.TotalFieldFigures); None for other kinds.
@@ -88,6 +101,11 @@ class StateResult:
     total_field_error_t: float | None = None
     heading_peak_to_peak_t: float | None = None
     total_field_bound_t: float | None = None
+
+    @property
+    def status(self) -> Status:
+        """Not used, overwhelmed, within or over."""
+        return status_of(self.used, self.within_budget, self.overwhelmed)
 
 
 @dataclass(frozen=True)
@@ -116,7 +134,17 @@ class SensorResult:
     def worst(self) -> StateResult:
         """The used state with the largest held figure."""
         used = [s for s in self.states if s.used] or list(self.states)
-        return max(used, key=lambda s: s.budget_used_deg)
+        return max(used, key=lambda s: s.held)
+
+    @property
+    def over_in(self) -> tuple[str, ...]:
+        """The states it is used in where it is over its budget (or overwhelmed)."""
+        return tuple(s.state for s in self.states if s.status.fails)
+
+    @property
+    def status(self) -> Status:
+        """Within (every state it is used in) or over: the sensor's verdict."""
+        return Status.WITHIN if self.within_budget else Status.OVER
 
     @property
     def adjustment_absorbs_deg(self) -> float | None:
@@ -173,23 +201,36 @@ class Analysis:
         return next(s for s in self.sensors if s.sensor is wanted)
 
 
-def equipment_at(plan, sensor, position, state, horizontal_t):
-    """The items present in a state, at one position."""
+def equipment_at(plan, sensor, position, state, site):
+    """The items present in a state, at one position, each with what it alone adds to the held
+    figure in the budget's unit (nothing where the adjustment in the reference state takes it
+    out)."""
     out = []
+    h = site.horizontal_t
     in_reference = sensor.reference_state is not None
     for item in plan.equipment:
         if not item.present_in(state):
             continue
-        field_t, bound, distance = item_effect(item, position[None, :], horizontal_t)
+        field_t, bound, distance = item_effect(item, position[None, :], h)
         distance, bound = float(distance[0]), float(bound[0])
         size = float(heading.horizontal_disturbance(field_t[0])) if field_t is not None else bound
+        compensated = in_reference and item.present_in(sensor.reference_state)
+        deviation = float(asin_deg(size / h))
+        if compensated:
+            held = 0.0
+        elif sensor.budget.degrees:
+            held = deviation
+        elif field_t is None:
+            held = bound / TESLA_PER_NT            # moves |F + b| by at most its size
+        else:
+            low, high = total_field_error_range(field_t[0], h, site.vertical_t,
+                                                sensor.max_heel_deg, sensor.max_pitch_deg)
+            held = max(float(high), -float(low)) / TESLA_PER_NT
         out.append(EquipmentContribution(
             item.name, distance, "safe distance" if item.safe_distance_m is not None else "moment",
-            None if field_t is None else frozen_array(field_t[0]), bound,
-            float(asin_deg(size / horizontal_t)),
+            None if field_t is None else frozen_array(field_t[0]), bound, deviation,
             item.safe_distance_m is not None and distance < item.safe_distance_m,
-            item.safe_distance_m,
-            compensated=in_reference and item.present_in(sensor.reference_state)))
+            item.safe_distance_m, compensated=compensated, held=held))
     return tuple(out)
 
 
@@ -203,87 +244,62 @@ def evaluate_sensor(plan: Plan, sensor: Sensor, site: SiteField, parts: RunParts
     position = sensor.position_m
     h = site.horizontal_t
     items = equipment_fields(plan, sensor, position[None, :], h)
-    figures = budget_figures(plan, sensor, h, parts, items)
-    scalar = None
-    if sensor.kind == TOTAL_FIELD_KIND:
-        # A scalar sensor is judged by its total-field error in nT, not by a heading.
-        scalar = total_field_figures(plan, sensor, h, site.vertical_t, parts, items)
-        figures = replace(figures, within_budget=scalar.within_budget)
-    matrix, currents = plan.circuit_matrix, plan.circuit_currents_a
-    independent = plan.independent
-    names = [c.name for c in plan.circuits if c.independent]
-    base_a = matrix @ (currents * ~independent[:, None])                    # (R, K)
-    on_a = matrix[:, independent] @ np.abs(currents[independent])           # (R, K)
-    # Each run's current in the switching behind the held figure, state by state.
-    switched = currents[independent].T * figures.combination[0]             # (K, Ci)
-    run_a = base_a + matrix[:, independent] @ switched.T                    # (R, K)
-    unit, bound = parts.unit_t[0], parts.bound_t[0]                         # (R, 3), (R,)
-    per_run = unit[None, :, :] * run_a.T[:, :, None]                        # (K, R, 3)
-    scale = (np.abs(base_a) + on_a).T                                       # (K, R)
+    split = circuit_currents(plan)
+    figures = sensor_figures(plan, sensor, site, parts, items=items, currents=split,
+                             per_run=True)
+    degrees, scalar, alone = figures.heading, figures.total_field, figures.runs
     ref_k = plan.state_index(sensor.reference_state) if sensor.reference_state else None
-    own_size, run_bound = _alone(per_run, parts.spread_t[0], bound, scale)
-    own = asin_deg(own_size / h)                                            # (K, R)
-    change = None
-    if ref_k is not None:
-        moved = (np.abs(base_a - base_a[:, ref_k:ref_k + 1]) + on_a).T
-        change = asin_deg(_alone(per_run - per_run[ref_k][None], parts.spread_t[0], bound,
-                                 moved)[0] / h)
-    counted = own if change is None else change
+    rank_own = alone.alone_deg if alone.alone_deg is not None else alone.held
     totals = figures.total_t[0]                                             # (K, 3)
     results = []
     for k, state in enumerate(plan.state_names):
         is_reference = k == ref_k
         # In the reference state every run's change is zero by definition; rank by what the
         # adjustment has to absorb instead.
-        rank = own[k] if is_reference else counted[k]
-        runs = [RunContribution(run.name, float(run_a[r, k]), frozen_array(per_run[k, r]),
-                                float(parts.nearest_m[0, r]), float(own[k, r]),
-                                None if change is None else float(change[k, r]),
-                                float(counted[k, r]) / sensor.budget_deg,
-                                run.geometry.return_kind, float(run_bound[k, r]),
-                                None if ends_share is None else ends_share[r])
-                for r, run in enumerate(plan.runs)]
+        rank = rank_own[k] if is_reference else alone.held[k]
+        runs = [RunContribution(
+            run.name, float(alone.current_a[k, r]), frozen_array(alone.field_t[k, r]),
+            float(parts.nearest_m[0, r]),
+            None if alone.alone_deg is None else float(alone.alone_deg[k, r]),
+            None if alone.change_deg is None else float(alone.change_deg[k, r]),
+            float(alone.held[k, r]), sensor.budget.share(alone.held[k, r]),
+            run.geometry.return_kind, float(alone.bound_t[k, r]),
+            None if ends_share is None else ends_share[r])
+            for r, run in enumerate(plan.runs)]
         order = sorted(range(len(runs)), key=lambda r: (-rank[r], runs[r].name))
-        on = tuple((name, int(s)) for name, s in zip(names, figures.combination[0, k]) if s)
-        sizes = heading.horizontal_disturbance(per_run[k]).sum() + run_bound[k].sum()
-        # ("if every field lined up": each run's own worst size, added as magnitudes)
-        results.append(StateResult(
+        on = tuple((name, int(s)) for name, s in zip(split.names, figures.combination[0, k]) if s)
+        values = dict(
             state=state, used=sensor.used_in_state(state), is_reference=is_reference,
-            field_t=frozen_array(totals[k]),
-            vector_deviation_deg=float(figures.vector_deviation_deg[0, k]),
-            max_deviation_deg=float(figures.max_deviation_deg[0, k]),
-            magnitude_bound_deg=float(asin_deg((sizes + items.bound[0, k]) / h)),
-            change_from_reference_deg=(None if figures.change_from_reference_deg is None
-                                       else float(figures.change_from_reference_deg[0, k])),
-            heeled_max_deviation_deg=float(figures.attitude_deviation_deg[0, k]),
-            attitude_change_deg=(None if figures.attitude_change_deg is None
-                                 else float(figures.attitude_change_deg[0, k])),
-            budget_used_deg=float(figures.budget_used_deg[0, k]),
-            within_budget=bool(figures.within_budget[0, k]),
+            field_t=frozen_array(totals[k]), held=float(figures.held[0, k]),
+            within_budget=bool(figures.within[0, k]),
             overwhelmed=bool(figures.overwhelmed[0, k]),
             fraction_of_total=float(np.linalg.norm(totals[k])) / site.total_t,
             equipment_bound_t=float(items.bound[0, k]), runs=tuple(runs[r] for r in order),
-            equipment=equipment_at(plan, sensor, position, state, h),
-            bound_t=float(figures.bound_t[0, k]), switched_on=on,
-            **({} if scalar is None else dict(
+            equipment=equipment_at(plan, sensor, position, state, site),
+            bound_t=float(figures.bound_t[0, k]), switched_on=on)
+        if degrees is not None:
+            # "if every field lined up": each run's own worst size, added as magnitudes
+            sizes = (heading.horizontal_disturbance(alone.field_t[k]).sum()
+                     + alone.bound_t[k].sum() + items.bound[0, k])
+            values.update(
+                vector_deviation_deg=float(degrees.vector_deviation_deg[0, k]),
+                max_deviation_deg=float(degrees.max_deviation_deg[0, k]),
+                magnitude_bound_deg=float(asin_deg(sizes / h)),
+                change_from_reference_deg=(None if degrees.change_from_reference_deg is None
+                                           else float(degrees.change_from_reference_deg[0, k])),
+                heeled_max_deviation_deg=float(degrees.attitude_deviation_deg[0, k]),
+                attitude_change_deg=(None if degrees.attitude_change_deg is None
+                                     else float(degrees.attitude_change_deg[0, k])))
+        if scalar is not None:
+            values.update(
                 total_field_high_t=float(scalar.high_t[0, k]),
                 total_field_low_t=float(scalar.low_t[0, k]),
                 total_field_error_t=float(scalar.error_t[0, k]),
                 heading_peak_to_peak_t=float(scalar.peak_to_peak_t[0, k]),
-                total_field_bound_t=float(scalar.bound_t[0, k])))))
+                total_field_bound_t=float(scalar.bound_t[0, k]))
+        results.append(StateResult(**values))
     within = all(s.within_budget for s in results if s.used)
     return SensorResult(sensor, tuple(results), within, parts)
-
-
-def _alone(per_run, spread, bound, scale):
-    """Each run alone, level: its largest horizontal size over its own lies and bounds, and the
-    part of that of unknown direction. per_run (K, R, 3) [T], spread (R, G, 3) [T/A], bound (R,)
-    [T/A], scale (K, R) [A]."""
-    generators = spread[None] * scale[:, :, None, None]                     # (K, R, G, 3)
-    size, _ = worst_combination(per_run, generators,
-                                np.ones(generators.shape[2], dtype=bool))
-    extra = bound[None, :] * scale
-    return size + extra, size + extra - heading.horizontal_disturbance(per_run)
 
 
 def parts_at(plan: Plan, points_m, *, nearest: bool = True) -> RunParts:

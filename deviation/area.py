@@ -14,7 +14,7 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 
 from .errors import DeviationError
-from .schema import TOTAL_FIELD_KIND
+from .quantities import Unit
 
 
 @dataclass(frozen=True)
@@ -74,13 +74,10 @@ def _figures(place):
     """(sensor, figure, value, unit) of one place's result."""
     out = []
     for result in place.analysis.sensors:
-        used = [s for s in result.states if s.used] or list(result.states)
         name = result.sensor.name
-        if result.sensor.kind == TOTAL_FIELD_KIND:
-            out.append((name, "total-field error", max(s.total_field_error_t for s in used) * 1e9,
-                        "nT"))
-        else:
-            out.append((name, "held figure", max(s.budget_used_deg for s in used), "deg"))
+        unit = result.sensor.budget.unit
+        out.append((name, "total-field error" if unit is Unit.NANOTESLA else "held figure",
+                    result.worst.held, unit.value))
     for report in place.reports:
         if report.grade is None:
             continue

@@ -22,8 +22,9 @@ def summary_frame(analysis):
             rows.append({
                 "sensor": s.name, "kind": s.kind, "state": st.state, "used": st.used,
                 "reference_state": s.reference_state, "is_reference": st.is_reference,
-                "budget_deg": s.budget_deg, "budget_used_deg": st.budget_used_deg,
-                "within_budget": st.within_budget, "overwhelmed": st.overwhelmed,
+                "budget": s.budget.value, "unit": s.budget.unit.value, "held": st.held,
+                "status": st.status.value, "within_budget": st.within_budget,
+                "overwhelmed": st.overwhelmed,
                 "vector_deviation_deg": st.vector_deviation_deg,
                 "max_deviation_deg": st.max_deviation_deg,
                 "magnitude_bound_deg": st.magnitude_bound_deg,
@@ -33,7 +34,9 @@ def summary_frame(analysis):
                 "percent_of_total_field": st.fraction_of_total * 100,
                 "field_x_ut": st.field_t[0] * 1e6, "field_y_ut": st.field_t[1] * 1e6,
                 "field_z_ut": st.field_t[2] * 1e6,
-                "equipment_bound_ut": st.equipment_bound_t * 1e6})
+                "equipment_bound_ut": st.equipment_bound_t * 1e6,
+                "total_field_error_nt": (None if st.total_field_error_t is None
+                                         else st.total_field_error_t * 1e9)})
     return _pandas().DataFrame(rows)
 
 
@@ -50,7 +53,9 @@ def runs_frame(analysis):
                              "field_y_ut": r.field_t[1] * 1e6, "field_z_ut": r.field_t[2] * 1e6,
                              "max_deviation_deg": r.max_deviation_deg,
                              "change_from_reference_deg": r.change_from_reference_deg,
-                             "share_of_budget": r.share_of_budget, "bound": False})
+                             "held": r.held, "unit": s.budget.unit.value,
+                             "share_of_budget": r.share_of_budget, "bound": r.bound_t > 0,
+                             "bound_ut": r.bound_t * 1e6})
             for e in st.equipment:
                 oriented = e.field_t is not None
                 rows.append({"sensor": s.name, "state": st.state, "name": e.name, "is_item": True,
@@ -60,16 +65,18 @@ def runs_frame(analysis):
                              "field_z_ut": e.field_t[2] * 1e6 if oriented else None,
                              "max_deviation_deg": e.max_deviation_deg,
                              "change_from_reference_deg": None,
-                             "share_of_budget": (0.0 if e.compensated else e.max_deviation_deg)
-                             / s.budget_deg, "bound": not oriented})
+                             "held": e.held, "unit": s.budget.unit.value,
+                             "share_of_budget": s.budget.share(e.held), "bound": e.bound,
+                             "bound_ut": e.bound_t * 1e6})
     return _pandas().DataFrame(rows)
 
 
 def remedies_frame(analysis):
     """One row per remedy: its kind, run and the held figure before and after."""
-    columns = ["sensor", "state", "kind", "run", "before_deg", "after_deg", "within_after",
+    columns = ["sensor", "state", "kind", "run", "before", "after", "unit", "within_after",
                "spacing_m", "size", "lay_m", "clearance_m"]
-    rows = [{c: getattr(m, c) for c in columns}
+    rows = [{c: result.sensor.budget.unit.value if c == "unit" else getattr(m, c)
+             for c in columns}
             for result in analysis.sensors for st in result.states for m in st.remedies]
     return _pandas().DataFrame(rows, columns=columns)
 

@@ -15,6 +15,7 @@ import numpy as np
 
 from .errors import DeviationError, UnknownSensorError
 from .physics.routing import RunGeometry
+from .quantities import Budget
 from .schema import SAFE_DISTANCE_FOR, SENSOR_KINDS  # noqa: F401  (re-exported)
 
 if TYPE_CHECKING:
@@ -129,7 +130,7 @@ class Sensor:
     name: str
     position_m: np.ndarray
     kind: str
-    budget_deg: float
+    budget: Budget                    # degrees for heading sensors, nT for a total-field one
     reference_state: str | None
     max_heel_deg: float
     note: str
@@ -142,7 +143,6 @@ class Sensor:
     axes_text: str | None = None
     # Currents its host measures for compensation: ("total",) or circuit names; None: none.
     measured_currents: tuple[str, ...] | None = None
-    budget_nt: float | None = None    # total-field magnetometer: its budget in nT
 
     def __post_init__(self):
         _freeze(self, "position_m", "axes")

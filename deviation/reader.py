@@ -19,7 +19,7 @@ from pathlib import Path
 import numpy as np
 
 from . import units
-from .constants import OVERWHELMED_DEG, WMM_VALID_FROM, WMM_VALID_UNTIL
+from .constants import WMM_VALID_FROM, WMM_VALID_UNTIL
 from .physics.geomag import decimal_year
 from .physics.routing import CHORDS_PER_LAY, RunGeometry
 from .plan import (
@@ -37,6 +37,7 @@ from .plan import (
     frozen_array,
     name_key,
 )
+from .quantities import Budget, Unit
 from .schema import (
     PAIR_LIES,
     REQUIRED_SHEETS,
@@ -885,25 +886,7 @@ def _read_sensors(sheet, site, points, states, collector):
             collector.add("sensors", number, "kind", f'"{row.get("kind") or ""}" is not a sensor '
                           f'kind; expected one of {", ".join(SENSOR_KINDS)}'
                           f"{_suggest(kind, SENSOR_KINDS)}")
-        budget = None
-        scalar = kind == TOTAL_FIELD_KIND
-        budget_nt = _budget_nt(row, scalar, collector, number)
-        if scalar:
-            # A scalar sensor has no heading: its budget is in nT, the heading figure unlimited.
-            budget = OVERWHELMED_DEG
-            if row.get("budget_deg") is not None:
-                collector.add("sensors", number, "budget_deg", "a total-field magnetometer is "
-                              "judged in nT, not degrees: give its budget in budget_nt and leave "
-                              "budget_deg blank")
-        elif row.get("budget_deg") is None:
-            collector.add("sensors", number, "budget_deg", "the deviation budget in degrees is "
-                          "needed (e.g. 1 for a steering compass)")
-        else:
-            budget = _number(row["budget_deg"], "a number of degrees", collector, "sensors",
-                             number, "budget_deg")
-            if budget is not None and not 0 < budget <= 180:
-                collector.add("sensors", number, "budget_deg", "the budget must be more than 0 and "
-                              "at most 180 degrees")
+        budget = _budget(row, kind, collector, number)
         reference = row.get("reference_state")
         if reference is not None:
             matches = [s for s in states if key(s) == key(reference)]
@@ -921,30 +904,40 @@ def _read_sensors(sheet, site, points, states, collector):
         if len(collector.findings) == bad:
             sensors.append(Sensor(str(name), position, kind, budget, reference, heel,
                                   str(row.get("note") or ""), number, pitch, used_in,
-                                  axes=axes, axes_text=axes_text, measured_currents=measured,
-                                  budget_nt=budget_nt))
+                                  axes=axes, axes_text=axes_text, measured_currents=measured))
     return sensors
 
 
-def _budget_nt(row, scalar, collector, number):
-    """A total-field magnetometer's budget in nT (None for the other kinds)."""
-    value = row.get("budget_nt")
-    if not scalar:
-        if value is not None:
-            collector.add("sensors", number, "budget_nt", "budget_nt is for a total-field "
-                          "magnetometer; this sensor's budget is a heading deviation in "
-                          "budget_deg")
-        return None
+def _budget(row, kind, collector, number):
+    """A sensor's budget with its unit: degrees of deviation for a heading sensor (budget_deg),
+    nT of total-field error for a total-field magnetometer (budget_nt); None after a finding."""
+    scalar = kind == TOTAL_FIELD_KIND
+    column, other = ("budget_nt", "budget_deg") if scalar else ("budget_deg", "budget_nt")
+    if row.get(other) is not None and kind in SENSOR_KINDS:
+        collector.add("sensors", number, other,
+                      "a total-field magnetometer is judged in nT, not degrees: give its budget "
+                      "in budget_nt and leave budget_deg blank" if scalar else
+                      "budget_nt is for a total-field magnetometer; this sensor's budget is a "
+                      "heading deviation in budget_deg")
+    value = row.get(column)
     if value is None:
-        collector.add("sensors", number, "budget_nt", "a total-field magnetometer needs its "
-                      "budget in nT (e.g. 2 for a survey installation)")
+        if kind in SENSOR_KINDS:
+            collector.add("sensors", number, column,
+                          "a total-field magnetometer needs its budget in nT (e.g. 2 for a "
+                          "survey installation)" if scalar else
+                          "the deviation budget in degrees is needed (e.g. 1 for a steering "
+                          "compass)")
         return None
-    got = _number(value, "a number of nanotesla", collector, "sensors", number, "budget_nt")
-    if got is not None and not 0 < got <= 1e5:
-        collector.add("sensors", number, "budget_nt", "the budget must be more than 0 and at "
-                      "most 100000 nT")
+    what, unit, high = (("a number of nanotesla", Unit.NANOTESLA, 1e5) if scalar else
+                        ("a number of degrees", Unit.DEGREES, 180.0))
+    got = _number(value, what, collector, "sensors", number, column)
+    if got is None:
         return None
-    return got
+    if not 0 < got <= high:
+        collector.add("sensors", number, column, f"the budget must be more than 0 and at most "
+                      f"{high:g} {'nT' if scalar else 'degrees'}")
+        return None
+    return Budget(got, unit)
 
 
 def _sensor_axes(value, kind, collector, number):

@@ -106,8 +106,9 @@ SCHEMA: dict[str, SheetSpec] = {s.name: s for s in (
            ("sensor", "Unique name of the compass or magnetometer.", True),
            ("at", "Point name or x, y, z of its centre.", True),
            ("kind", "magnetic compass, electronic compass or magnetometer.", True, SENSOR_KINDS),
-           ("budget_deg", "Deviation in degrees this sensor may take from the wiring and "
-                          "equipment.", True),
+           ("budget_deg", "Compass, electronic compass or magnetometer: the deviation in "
+                          "degrees this sensor may take from the wiring and equipment (a "
+                          "total-field magnetometer gives budget_nt instead)."),
            ("reference_state", "State in which it will be adjusted or calibrated (blank: none, "
                                "the absolute deviation counts)."),
            ("used_in", "States in which the sensor is relied on, separated by ; (blank: every "

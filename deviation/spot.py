@@ -21,7 +21,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from .analysis import evaluate_sensor, parts_at
-from .budget import SEARCH_EXACT_GENERATORS, budget_figures, equipment_fields
+from .budget import SEARCH_EXACT_GENERATORS, circuit_currents, equipment_fields, sensor_figures
 
 #: Largest number of points in the coarse stage.
 COARSE_POINTS = 40_000
@@ -42,8 +42,10 @@ FACES = ("x low", "x high", "y low", "y high", "z low", "z high")
 
 @dataclass(frozen=True)
 class Spot:
+    """A position and the sensor's held figure there, in the unit of its budget."""
+
     position_m: np.ndarray
-    budget_used_deg: float
+    held: float
     worst_state: str
     within_budget: bool
     dominant_runs: list               # (run name, share of the figure) at this spot, largest first
@@ -85,12 +87,13 @@ class SpotSearch:
         return bool(self.spots) and self.spots[0].within_budget
 
     def to_frame(self):
-        """One row per spot, best first: position [m], held figure [deg], worst state."""
+        """One row per spot, best first: position [m], held figure (in the budget's unit, named
+        in the column ``unit``), worst state."""
         import pandas
 
         return pandas.DataFrame([{
             "rank": i, "name": s.name, "x_m": s.position_m[0], "y_m": s.position_m[1],
-            "z_m": s.position_m[2], "budget_used_deg": s.budget_used_deg,
+            "z_m": s.position_m[2], "held": s.held, "unit": self.sensor.budget.unit.value,
             "worst_state": s.worst_state, "within_budget": s.within_budget,
             "dominant_runs": "; ".join(f"{n} {share * 100:.0f} %" for n, share in s.dominant_runs)}
             for i, s in enumerate(self.spots, start=1)])
@@ -193,13 +196,14 @@ def _figures_at(plan, sensor, site, points, progress=None):
     which = np.empty(len(points), dtype=int)
     inside = np.zeros(len(points), dtype=bool)
     used_states = np.array([sensor.used_in_state(s) for s in plan.state_names])
+    currents = circuit_currents(plan)
     for p0 in range(0, len(points), CHUNK_POINTS):
         chunk = points[p0:p0 + CHUNK_POINTS]
         parts = parts_at(plan, chunk, nearest=False)
         items = equipment_fields(plan, sensor, chunk, site.horizontal_t)
-        figures = budget_figures(plan, sensor, site.horizontal_t, parts, items,
+        figures = sensor_figures(plan, sensor, site, parts, chunk, items=items, currents=currents,
                                  exact_generators=SEARCH_EXACT_GENERATORS)
-        used = np.where(used_states[None, :], figures.budget_used_deg, -np.inf)
+        used = np.where(used_states[None, :], figures.held, -np.inf)
         worst[p0:p0 + len(chunk)] = used.max(axis=1)
         which[p0:p0 + len(chunk)] = used.argmax(axis=1)
         inside[p0:p0 + len(chunk)] = parts.inside
@@ -243,8 +247,8 @@ def _spot(plan, site, sensor, position, name=None):
     counted = [(r.name, r.share_of_budget) for r in worst.runs if r.share_of_budget > 0]
     total = sum(share for _, share in counted)
     dominant = tuple((n, share / total) for n, share in counted[:3]) if total > 0 else ()
-    return Spot(np.array(position), worst.budget_used_deg, worst.state,
-                bool(worst.within_budget), dominant, name)
+    return Spot(np.array(position), worst.held, worst.state, bool(worst.within_budget),
+                dominant, name)
 
 
 class _Part:
@@ -409,14 +413,15 @@ def _current(plan, analysis, sensor):
         result = evaluate_sensor(plan, sensor, analysis.site,
                                  parts_at(plan, sensor.position_m[None, :]))
     worst = result.worst
-    return Spot(np.array(sensor.position_m), worst.budget_used_deg, worst.state,
-                worst.budget_used_deg <= sensor.budget_deg, ())
+    return Spot(np.array(sensor.position_m), worst.held, worst.state,
+                bool(worst.within_budget), ())
 
 
 def slice_map(plan, analysis, sensor, low_m, high_m, z_m, resolution=160):
     """Worst figure over a horizontal slice at height ``z_m``, for plotting.
 
-    Returns x (nx,), y (ny,), figure (nx, ny) [deg] (inf inside conductors).
+    Returns x (nx,), y (ny,), figure (nx, ny) in the unit of the sensor's budget (inf inside
+    conductors).
     """
     low, high = np.minimum(low_m, high_m), np.maximum(low_m, high_m)
     x = np.linspace(low[0], high[0], resolution) if high[0] > low[0] else np.array([low[0]])

@@ -293,8 +293,8 @@ def plan_rows(plan):
         rows["states"] = states
     rows["sensors"] = _table("sensors", [{
         "sensor": s.name, "at": places.at(s.position_m), "kind": s.kind,
-        "budget_deg": None if s.budget_nt is not None else number_cell(s.budget_deg),
-        "budget_nt": None if s.budget_nt is None else number_cell(s.budget_nt),
+        "budget_deg": number_cell(s.budget.value) if s.budget.degrees else None,
+        "budget_nt": None if s.budget.degrees else number_cell(s.budget.value),
         "axes": s.axes_text,
         "measured_currents": None if s.measured_currents is None
         else "; ".join(s.measured_currents),

@@ -29,8 +29,8 @@ class StateRefit:
     sensor: str
     state: str
     used: bool
-    held_before_deg: float
-    held_after_deg: float
+    held_before: float                 # the held figures, in the unit of the sensor's budget
+    held_after: float
     level_before_deg: float            # level deviation the compass shows, largest over headings
     level_after_deg: float
     card_change_deg: float             # largest change of the deviation card over headings
@@ -50,6 +50,16 @@ class Refit:
     def swing_advised(self) -> bool:
         return any(s.swing_advised for s in self.states) or any(
             n.startswith("sensor") and "moved" in n for n in self.notes)
+
+
+def _level_deg(st, seen_t, horizontal_t):
+    """The level deviation a state shows, largest over headings: the residual's where the
+    sensor is adjusted, else the vector sum's; from the field seen for a total-field sensor,
+    which has no heading figures of its own."""
+    for figure in (st.change_from_reference_deg, st.vector_deviation_deg):
+        if figure is not None:
+            return figure
+    return float(asin_deg(heading.horizontal_disturbance(seen_t) / horizontal_t))
 
 
 def _same_array(a, b):
@@ -197,10 +207,10 @@ def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> R
                     "item", (e1 or e0).name, tuple(how),
                     None if bound_only else frozen_array(change), float(asin_deg(size / h))))
             differences.sort(key=lambda d: (-d.size_deg, d.name))
-            level = [st.change_from_reference_deg if st.change_from_reference_deg is not None
-                     else st.vector_deviation_deg for st in (st_old, st_new)]
+            level = [_level_deg(st, seen, h) for st, seen in ((st_old, seen_old),
+                                                              (st_new, seen_new))]
             states.append(StateRefit(
-                sensor.name, state, st_new.used, st_old.budget_used_deg, st_new.budget_used_deg,
+                sensor.name, state, st_new.used, st_old.held, st_new.held,
                 float(level[0]), float(level[1]), card,
                 bool(st_new.used and card > threshold_deg), tuple(differences)))
     return Refit(old.source, new.source, float(threshold_deg), tuple(states), tuple(notes))

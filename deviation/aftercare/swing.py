@@ -10,6 +10,7 @@ from .. import checking
 from ..errors import DeviationError
 from ..physics import heading, swing
 from ..plan import Finding, Plan, frozen_array
+from ..quantities import Budget
 from .common import SWING_SHEET, ReadingsError, _checked, _items_field
 from .readings import _heading, _signed_deviation, _state_named, _suggest, read_table
 from .switch_on import _state_field
@@ -251,11 +252,11 @@ class ReferenceChoice:
 
     sensor: str
     reference_state: str
-    worst_deg: float                   # largest held figure over the other states it is used in
+    worst: float                       # largest held figure over the other states it is used in
     worst_state: str | None
     level_worst_deg: float             # the same, level: the deviation of b_state - b_ref
     within_budget: bool
-    budget_deg: float
+    budget: Budget
     in_plan: bool                      # the plan's own reference state
     overwhelmed: bool
 
@@ -295,17 +296,17 @@ def reference_choices(plan: Plan, sensor: str | None = None) -> dict:
             others = [st for st in result.states if st.used and st.state != state]
             original = next(o for o in sensors if o.name == s.name)
             if others:
-                worst = max(others, key=lambda st: st.budget_used_deg)
-                figure, worst_state = worst.budget_used_deg, worst.state
-                level = max(st.change_from_reference_deg for st in others)
+                worst = max(others, key=lambda st: st.held)
+                figure, worst_state = worst.held, worst.state
+                level = max(st.change_from_reference_deg or 0.0 for st in others)
                 over = any(st.overwhelmed for st in others)
                 within = all(st.within_budget for st in others)
             else:
                 figure, worst_state, level, over, within = 0.0, None, 0.0, False, True
             choices[s.name].append(ReferenceChoice(
-                s.name, state, float(figure), worst_state, float(level), within, s.budget_deg,
+                s.name, state, float(figure), worst_state, float(level), within, s.budget,
                 original.reference_state == state, over))
-    return {name: tuple(sorted(found, key=lambda c: (c.worst_deg, c.reference_state)))
+    return {name: tuple(sorted(found, key=lambda c: (c.worst, c.reference_state)))
             for name, found in choices.items()}
 
 

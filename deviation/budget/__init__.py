@@ -13,6 +13,7 @@ worst case are bounds, and the results say so.
 
 from __future__ import annotations
 
+from .currents import CircuitCurrents, circuit_currents  # noqa: F401
 from .equipment import (  # noqa: F401
     OVERWHELMED_DEG,
     EquipmentFields,
@@ -21,6 +22,7 @@ from .equipment import (  # noqa: F401
     item_effect,
     safe_distance_disturbance_t,
 )
+from .figures import TESLA_PER_NT, RunFigures, SensorFigures, sensor_figures  # noqa: F401
 from .held import (  # noqa: F401
     SEARCH_EXACT_GENERATORS,
     Figures,

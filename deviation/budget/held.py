@@ -9,6 +9,7 @@ import numpy as np
 
 from ..physics import heading
 from ..physics.worst_case import horizontal_over_attitude, worst_combination
+from .currents import CircuitCurrents, circuit_currents
 from .equipment import EquipmentFields, asin_deg
 from .runs import MAX_EXACT_GENERATORS_ATTITUDE, MAX_EXACT_GENERATORS_LEVEL, RunParts
 
@@ -105,8 +106,8 @@ SEARCH_EXACT_GENERATORS = (16, 0)
 
 
 def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: EquipmentFields, *,
-                   exact_generators=(MAX_EXACT_GENERATORS_LEVEL, MAX_EXACT_GENERATORS_ATTITUDE)
-                   ) -> Figures:
+                   exact_generators=(MAX_EXACT_GENERATORS_LEVEL, MAX_EXACT_GENERATORS_ATTITUDE),
+                   currents: CircuitCurrents | None = None) -> Figures:
     """The figures held against a sensor's budget at P points in every state.
 
     Parameters
@@ -146,16 +147,12 @@ def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: Equipment
     """
     h = horizontal_t
     heel, pitch = sensor.max_heel_deg, sensor.max_pitch_deg
-    matrix = plan.circuit_matrix                                 # (R, C)
-    currents = plan.circuit_currents_a                           # (C, K)
-    independent = plan.independent
-    base_a = matrix @ (currents * ~independent[:, None])         # (R, K)
-    on_a = matrix[:, independent] @ np.abs(currents[independent])  # (R, K) all independents on
+    split = currents or circuit_currents(plan)
+    base_a = split.base_a                                                        # (R, K)
     base = np.einsum("prj,rk->pkj", parts.unit_t, base_a) + items.oriented      # (P, K, 3)
-    circuit_unit = np.einsum("prj,rc->pcj", parts.unit_t, matrix[:, independent])  # (P, Ci, 3)
-    switched = circuit_unit[:, None, :, :] * currents[independent].T[None, :, :, None]
-    reversing = np.array([c.reversing for c in plan.circuits if c.independent], dtype=bool)
-    scale = np.abs(base_a) + on_a
+    switched = split.switched_fields(parts.unit_t)                              # (P, K, Ci, 3)
+    reversing = split.reversing
+    scale = split.scale_a()
     scalar = parts.bound_t @ scale + items.bound                                 # (P, K)
 
     def held(field, scale, scalar, heel, pitch, cap):
@@ -176,7 +173,7 @@ def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: Equipment
     if sensor.reference_state is not None:
         k = plan.state_index(sensor.reference_state)
         residual = base - base[:, k:k + 1, :]
-        moved = np.abs(base_a - base_a[:, k:k + 1]) + on_a
+        moved = split.scale_a(k)
         changing = parts.bound_t @ moved + items.changing
         level_r, choice, level_r_apart = held(residual, moved, changing, 0.0, 0.0, cap_level)
         tilted_r, tilted_r_apart = level_r, level_r_apart
@@ -188,7 +185,7 @@ def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: Equipment
         # Adjusted, the sensor sees only the residual: that is what can overwhelm it.
         overwhelmed = tilted_r + tilted_r_apart >= h
         used, held_bound = attitude_change, tilted_r_apart
-    within = (used <= sensor.budget_deg) & ~overwhelmed
+    within = (used <= sensor.budget.value) & ~overwhelmed
     total = base + np.einsum("pkc,pkcj->pkj", choice, switched)
     return Figures(vector, absolute, attitude, change, attitude_change, used, overwhelmed, within,
                    choice, total, held_bound)

@@ -7,6 +7,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .currents import CircuitCurrents, circuit_currents
 from .equipment import EquipmentFields
 from .runs import RunParts
 
@@ -38,7 +39,8 @@ class TotalFieldFigures:
     combination: np.ndarray
 
 
-def sensor_field_parts(plan, sensor, parts: RunParts, items: EquipmentFields):
+def sensor_field_parts(plan, sensor, parts: RunParts, items: EquipmentFields,
+                       currents: CircuitCurrents | None = None):
     """The field a sensor sees in every state, split as the budget splits it.
 
     Returns
@@ -54,28 +56,23 @@ def sensor_field_parts(plan, sensor, parts: RunParts, items: EquipmentFields):
         generator's length, by the triangle inequality), twisted floors, equipment bounds (for
         a reference state, only what changes from it).
     """
-    matrix = plan.circuit_matrix
-    currents = plan.circuit_currents_a
-    independent = plan.independent
-    base_a = matrix @ (currents * ~independent[:, None])
-    on_a = matrix[:, independent] @ np.abs(currents[independent])
-    base = np.einsum("prj,rk->pkj", parts.unit_t, base_a) + items.oriented
-    circuit_unit = np.einsum("prj,rc->pcj", parts.unit_t, matrix[:, independent])
-    switched = circuit_unit[:, None, :, :] * currents[independent].T[None, :, :, None]
-    reversing = np.array([c.reversing for c in plan.circuits if c.independent], dtype=bool)
+    split = currents or circuit_currents(plan)
+    base = np.einsum("prj,rk->pkj", parts.unit_t, split.base_a) + items.oriented
+    switched = split.switched_fields(parts.unit_t)
+    reversing = split.reversing
     per_ampere = parts.bound_t + np.linalg.norm(parts.spread_t, axis=-1).sum(axis=-1)  # (P, R)
     if sensor.reference_state is None:
-        bound = per_ampere @ (np.abs(base_a) + on_a) + items.bound
+        bound = per_ampere @ split.scale_a() + items.bound
     else:
         k = plan.state_index(sensor.reference_state)
         base = base - base[:, k:k + 1, :]
-        moved = np.abs(base_a - base_a[:, k:k + 1]) + on_a
-        bound = per_ampere @ moved + items.changing
+        bound = per_ampere @ split.scale_a(k) + items.changing
     return base, switched, reversing, bound
 
 
 def total_field_figures(plan, sensor, horizontal_t, vertical_t, parts: RunParts,
-                        items: EquipmentFields) -> TotalFieldFigures:
+                        items: EquipmentFields, currents: CircuitCurrents | None = None
+                        ) -> TotalFieldFigures:
     """The figures of a total-field magnetometer at P points in every state.
 
     Parameters
@@ -111,7 +108,7 @@ def total_field_figures(plan, sensor, horizontal_t, vertical_t, parts: RunParts,
 
     h, z = horizontal_t, vertical_t
     heel, pitch = sensor.max_heel_deg, sensor.max_pitch_deg
-    base, switched, reversing, bound = sensor_field_parts(plan, sensor, parts, items)
+    base, switched, reversing, bound = sensor_field_parts(plan, sensor, parts, items, currents)
     n_p, n_k = base.shape[:2]
     n_c = switched.shape[2]
     high = np.zeros((n_p, n_k))
@@ -134,6 +131,6 @@ def total_field_figures(plan, sensor, horizontal_t, vertical_t, parts: RunParts,
     high, low = high + bound, low - bound
     p2p = p2p + 2.0 * bound
     error = np.maximum(high, -low)
-    budget_t = (sensor.budget_nt or 0.0) * 1e-9
+    budget_t = sensor.budget.value * 1e-9                     # nT -> T
     return TotalFieldFigures(high, low, error, p2p, bound, error <= budget_t, bool(exhaustive),
                              combination)

@@ -616,19 +616,20 @@ def render_reference_choices(choices, console):
         for rank, c in enumerate(rows, start=1):
             table.add_row(str(rank), Text(c.reference_state + ("  (the plan's)" if c.in_plan
                                                                else "")),
-                          Text(_deg(c.worst_deg, c.overwhelmed),
+                          Text(_deg(c.worst, c.overwhelmed),
                                style="green" if c.within_budget else "bold red"),
                           Text(c.worst_state or "—"), _deg(c.level_worst_deg, c.overwhelmed),
-                          f"{c.budget_deg:g}°", "within" if c.within_budget else "OVER")
+                          str(c.budget), "within" if c.within_budget else "OVER")
         console.print(table)
 
 
 def choices_json(choices):
     return {"sensors": [{"sensor": sensor, "choices": [
-        {"reference_state": c.reference_state, "worst_held_deg": round(c.worst_deg, 4),
+        {"reference_state": c.reference_state, "worst_held": round(c.worst, 4),
          "worst_state": c.worst_state, "level_worst_deg": round(c.level_worst_deg, 4),
          "within_budget": c.within_budget, "overwhelmed": c.overwhelmed,
-         "budget_deg": c.budget_deg, "in_plan": c.in_plan} for c in rows]}
+         "budget": {"value": c.budget.value, "unit": c.budget.unit.value},
+         "in_plan": c.in_plan} for c in rows]}
         for sensor, rows in choices.items()]}
 
 
@@ -651,7 +652,7 @@ def render_refit(result, console):
     for st in result.states:
         swing_style = "bold red" if st.swing_advised else "green"
         table.add_row(Text(st.sensor), Text(st.state + ("" if st.used else " (not used)")),
-                      f"{_deg(st.held_before_deg)} → {_deg(st.held_after_deg)}",
+                      f"{_deg(st.held_before)} → {_deg(st.held_after)}",
                       f"{_deg(st.level_before_deg)} → {_deg(st.level_after_deg)}",
                       Text(f"{st.card_change_deg:.2f}°", style=swing_style),
                       Text("ADVISED" if st.swing_advised else "no", style=swing_style))
@@ -678,8 +679,8 @@ def refit_json(result):
             "threshold_deg": result.threshold_deg, "swing_advised": result.swing_advised,
             "notes": list(result.notes),
             "states": [{"sensor": st.sensor, "state": st.state, "used": st.used,
-                        "held_before_deg": round(st.held_before_deg, 4),
-                        "held_after_deg": round(st.held_after_deg, 4),
+                        "held_before": round(st.held_before, 4),
+                        "held_after": round(st.held_after, 4),
                         "level_before_deg": round(st.level_before_deg, 4),
                         "level_after_deg": round(st.level_after_deg, 4),
                         "card_change_deg": round(st.card_change_deg, 4),

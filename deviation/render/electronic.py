@@ -183,7 +183,7 @@ def electronic_json(analysis, reports, unit):
                 "measured_currents": None if sensor.measured_currents is None
                 else list(sensor.measured_currents), "unit": unit}
         if sensor.kind == TOTAL_FIELD_KIND:
-            item["budget_nt"] = sensor.budget_nt
+            item["budget_nt"] = sensor.budget.value
             item["states"] = [{
                 "state": s.state, "used": s.used,
                 "total_field_high_nt": _round(s.total_field_high_t * 1e9, 4),
@@ -281,7 +281,7 @@ def _render_total_field(report, console):
     sensor = report.sensor
     low_fom, high_fom = SURVEY_FIGURE_OF_MERIT_NT
     table = Table(box=_box(console), title=escape(f"Total-field error [nT], budget "
-                                                  f"{sensor.budget_nt:g} nT"))
+                                                  f"{sensor.budget}"))
     for column in ("state", "largest", "smallest", "held |error|", "heading peak to peak",
                    "of which bounds", "verdict"):
         table.add_column(escape(column), justify="left" if column == "state" else "right")

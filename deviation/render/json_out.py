@@ -16,6 +16,11 @@ def _deg(value):
     return None if value is None else round(float(value), 4)
 
 
+def _held(value):
+    """A figure in a budget's unit (degrees or nT): four decimals, as the degrees are."""
+    return None if value is None else round(float(value), 4) + 0.0
+
+
 def _m(value):
     return None if value is None or not math.isfinite(value) else round(float(value), 4)
 
@@ -51,7 +56,8 @@ def state_json(sensor, state, unit_system, plan_source):
         "change_from_reference_deg": _deg(state.change_from_reference_deg),
         "heeled_max_deviation_deg": _deg(state.heeled_max_deviation_deg),
         "attitude_change_deg": _deg(state.attitude_change_deg),
-        "budget_used_deg": _deg(state.budget_used_deg),
+        "held": _held(state.held),
+        "status": state.status.value,
         "within_budget": state.within_budget,
         "overwhelmed": state.overwhelmed,
         "magnitude_bound_deg": _deg(state.magnitude_bound_deg),
@@ -67,12 +73,13 @@ def state_json(sensor, state, unit_system, plan_source):
                   "bound_ut": round(by_run[r.name].bound_t * 1e6, 6),
                   "untwisted_ends_share": (None if by_run[r.name].ends_share is None
                                            else round(by_run[r.name].ends_share, 4)),
+                  "held": _held(r.counted),
                   "share_of_budget": round(r.share_of_budget, 6)} for r in runs],
         "equipment": [{"item": r.name, "distance_m": _m(r.nearest_m), "kind": by_item[r.name].kind,
                        "field_ut": None if r.bound else _ut(by_item[r.name].field_t),
                        "bound_ut": round(by_item[r.name].bound_t * 1e6, 6),
                        "max_deviation_deg": _deg(r.max_deviation_deg),
-                       "adjusted_out": r.compensated,
+                       "held": _held(r.counted), "adjusted_out": r.compensated,
                        "inside_safe_distance": by_item[r.name].inside_safe_distance}
                       for r in items],
         "hints": [remedy_json(m, unit_system, plan_source) for m in state.remedies],
@@ -98,7 +105,7 @@ def _total_field_json(state):
 def remedy_json(remedy, unit_system, plan_source):
     return {"run": remedy.run, "kind": remedy.kind,
             "action": words.remedy_action(remedy, unit_system, plan_source),
-            "before_deg": _deg(remedy.before_deg), "after_deg": _deg(remedy.after_deg),
+            "before": _held(remedy.before), "after": _held(remedy.after),
             "within_budget_after": remedy.within_after, "clearance_m": _m(remedy.clearance_m),
             "spacing_m": _m(remedy.spacing_m), "lay_m": _m(remedy.lay_m)}
 
@@ -106,10 +113,10 @@ def remedy_json(remedy, unit_system, plan_source):
 def fix_set_json(fixes, unit_system):
     if fixes is None:
         return None
-    return {"before_deg": _deg(fixes.before_deg), "reaches_budget": fixes.reaches_budget,
+    return {"before": _held(fixes.before), "reaches_budget": fixes.reaches_budget,
             "steps": [{"kind": step.kind, "run": step.run,
                        "action": words.fix_step_action(step, unit_system),
-                       "after_deg": _deg(step.after_deg), "within_budget_after": step.within_after,
+                       "after": _held(step.after), "within_budget_after": step.within_after,
                        "spacing_m": _m(step.spacing_m), "lay_m": _m(step.lay_m),
                        "clearance_m": _m(step.clearance_m)} for step in fixes.steps]}
 
@@ -131,17 +138,18 @@ def analysis_json(analysis):
             "sensor": s.sensor.name,
             "kind": s.sensor.kind,
             "position_m": [round(float(v), 6) for v in s.sensor.position_m],
-            "budget_deg": s.sensor.budget_deg,
+            "budget": {"value": s.sensor.budget.value, "unit": s.sensor.budget.unit.value},
             "reference_state": s.sensor.reference_state,
             "used_in": None if s.sensor.used_in is None else list(s.sensor.used_in),
             "max_heel_deg": s.sensor.max_heel_deg,
             "max_pitch_deg": s.sensor.max_pitch_deg,
-            "budget_nt": s.sensor.budget_nt,
             "axes": s.sensor.axes_text,
             "measured_currents": (None if s.sensor.measured_currents is None
                                   else list(s.sensor.measured_currents)),
             "adjustment_absorbs_deg": _deg(summary[s.sensor.name].adjustment_absorbs_deg),
             "within_budget": s.within_budget,
+            "status": s.status.value,
+            "over_in": list(s.over_in),
             "verdict": summary[s.sensor.name].verdict,
             "states": [state_json(s.sensor, st, plan.site.units, plan.source) for st in s.states],
             "fix_set": fix_set_json(s.fixes, plan.site.units),
@@ -155,7 +163,7 @@ def analysis_json(analysis):
 
 def spot_json(spot):
     return {"position_m": [round(float(v), 6) for v in spot.position_m],
-            "budget_used_deg": _deg(spot.budget_used_deg), "worst_state": spot.worst_state,
+            "held": _held(spot.held), "worst_state": spot.worst_state,
             "within_budget": spot.within_budget, "name": spot.name,
             "dominant_runs": [{"run": name, "share": round(share, 4)}
                               for name, share in spot.dominant_runs]}
@@ -163,7 +171,9 @@ def spot_json(spot):
 
 def spots_json(search):
     """The result of ``spot --json``: best first."""
+    budget = search.sensor.budget
     return {"sensor": search.sensor.name,
+            "budget": {"value": budget.value, "unit": budget.unit.value},
             "spots": [spot_json(s) for s in search.spots],
             "current": spot_json(search.current) if search.current else None,
             "evaluated": search.evaluated, "grid_points": search.grid_points,

@@ -67,8 +67,9 @@ def spot_map(plan, search, x, y, figure, path, z_m=None):
     ----------
     plan, search : the plan and the spot search drawn
     x, y : (nx,), (ny,) arrays [m]
-    figure : (nx, ny) array [deg]
-        The held figure over the slice (:func:`deviation.spot.slice_map`).
+    figure : (nx, ny) array
+        The held figure over the slice, in the unit of the sensor's budget
+        (:func:`deviation.spot.slice_map`).
     path : str
         FILE.png or FILE.svg.
     z_m : float [m], optional
@@ -93,11 +94,12 @@ def spot_map(plan, search, x, y, figure, path, z_m=None):
     high = max(low * 10, float(np.nanmax(shown)))
     mesh = ax.pcolormesh(y, x, shown, norm=LogNorm(vmin=low, vmax=high), cmap="viridis_r",
                          shading="auto")
-    if low < sensor.budget_deg < high:
-        ax.contour(y, x, shown, levels=[sensor.budget_deg], colors="white", linewidths=1.2)
+    budget = sensor.budget
+    if low < budget.value < high:
+        ax.contour(y, x, shown, levels=[budget.value], colors="white", linewidths=1.2)
     bar = fig.colorbar(mesh, ax=ax, shrink=0.8)
-    bar.set_label(f"figure held against the budget at {slice_text} [deg]\n(white line: the "
-                  f"{sensor.budget_deg:g}° budget)")
+    bar.set_label(f"figure held against the budget at {slice_text} [{budget.unit.label}]\n"
+                  f"(white line: the {budget} budget)")
     _draw_runs(ax, plan, scale=scale)
     _draw_volumes(ax, plan, search.volumes, scale, z_m)
     here = sensor.position_m / scale
@@ -235,22 +237,39 @@ def plan_view(plan, path=None):
 
 
 def budget_bars(analysis, path=None):
-    """Each sensor's budget use by state, as percent of its budget."""
+    """Each sensor's held figure by state, as percent of its own budget (degrees or nT alike).
+
+    States a sensor is not relied on in are drawn hatched and pale, and the legend says so: their
+    figure is shown, not held against the budget.
+    """
     plt = _pyplot()
-    fig, ax = plt.subplots(figsize=(7, 3.4), dpi=130)
+    from matplotlib.patches import Patch
+
+    fig, ax = plt.subplots(figsize=(7, 3.6), dpi=130)
     states = analysis.plan.state_names
     width = 0.8 / max(1, len(analysis.sensors))
+    colours = plt.rcParams["axes.prop_cycle"].by_key()["color"]
     for i, result in enumerate(analysis.sensors):
-        used = [st.budget_used_deg / result.sensor.budget_deg * 100 for st in result.states]
+        colour = colours[i % len(colours)]
+        used = [result.sensor.budget.share(st.held) * 100 for st in result.states]
         bars = ax.bar(np.arange(len(states)) + i * width, np.minimum(used, 300.0), width,
-                      label=result.sensor.name)
-        ax.bar_label(bars, labels=[f"{u:.0f} %" for u in used], fontsize=6, padding=1)
+                      color=colour, label=f"{result.sensor.name} ({result.sensor.budget})")
+        for bar, st in zip(bars, result.states):
+            if not st.used:
+                bar.set_hatch("///")
+                bar.set_alpha(0.35)
+        ax.bar_label(bars, labels=[f"{u:.0f} %" + ("" if st.used else "\nnot used")
+                                   for u, st in zip(used, result.states)],
+                     fontsize=6, padding=1)
     ax.axhline(100, color="red", lw=1, ls="--")
-    ax.set_ylim(0, 330)
+    ax.set_ylim(0, 340)
     ax.set_xticks(np.arange(len(states)) + width * (len(analysis.sensors) - 1) / 2, states)
-    ax.set_ylabel("budget used [%]")
-    ax.set_title("Budget use by state (red: the budget; bars stop at 300 %)")
-    ax.legend(fontsize=7)
+    ax.set_ylabel("held figure [% of budget]")
+    ax.set_title("Held figure by state (red: the budget; bars stop at 300 %)", fontsize=9)
+    handles, _ = ax.get_legend_handles_labels()
+    handles.append(Patch(facecolor="white", edgecolor="grey", hatch="///",
+                         label="state not relied on (not held)"))
+    ax.legend(handles=handles, fontsize=7)
     fig.tight_layout()
     data = _save(fig, path)
     plt.close(fig)

@@ -61,15 +61,17 @@ def _figure(value_deg):
 
 
 def _run_rows(plan, sensor, st, all_runs=True):
-    """(name, current A, nearest, horiz µT, vert µT, alone deg, residual deg, share %) per row;
+    """(name, current A, nearest, horiz µT, vert µT, alone, residual, share %) per row;
     "overwhelmed" for a figure the field overwhelms, and "—" for its share."""
     rows, _ = view.budget_rows(sensor, st, all_runs=all_runs)
+    degrees_shown = sensor.budget.degrees
     return [[r.name + (" (bound)" if r.bound else ""), r.current_a, _length(plan, r.nearest_m),
              r.horizontal_t * 1e6, None if r.vertical_t is None else r.vertical_t * 1e6,
-             _figure(r.max_deviation_deg),
+             _figure(r.max_deviation_deg) if degrees_shown else r.counted,
              ("adjusted" if r.compensated else _figure(r.change_deg))
-             if sensor.reference_state else None,
-             "—" if r.counted_deg >= OVERWHELMED_DEG else r.share_of_budget * 100] for r in rows]
+             if sensor.reference_state and degrees_shown else None,
+             "—" if degrees_shown and r.counted >= OVERWHELMED_DEG else r.share_of_budget * 100]
+            for r in rows]
 
 
 #: Number formats of the run table's columns after the name, in the html report.
@@ -135,21 +137,22 @@ def _xlsx(analysis):
     examples = words.example_rows(plan.skipped_examples)
     if examples:
         put(summary, 4, 1, examples[0].upper() + examples[1:] + ".", font=over_font)
-    header(summary, 5, ["sensor", "kind", "budget [°]", "reference state", "max heel [°]",
-                        *[f"{s} [°]" for s in plan.state_names], "verdict"])
-    for i, result in enumerate(analysis.sensors, start=6):
-        s = result.sensor
-        values = [s.name, s.kind, s.budget_deg, s.reference_state or "", s.max_heel_deg]
+    header(summary, 5, ["sensor", "kind", "budget", "unit", "reference state", "max heel [°]",
+                        *plan.state_names, "verdict"])
+    grey = Font(color="777777", italic=True)
+    for i, row in enumerate(view.summary_rows(analysis), start=6):
+        values = [row.sensor, row.kind, row.budget.value, row.budget.unit.label,
+                  row.reference_state or "", row.max_heel_deg]
         for c, v in enumerate(values, start=1):
             put(summary, i, c, v, "0.00" if isinstance(v, float) else None)
-        for c, st in enumerate(result.states, start=len(values) + 1):
-            put(summary, i, c, words.OVERWHELMED if st.overwhelmed else
-                _figure(st.budget_used_deg), "0.00",
-                font=ok_font if st.within_budget else over_font)
-        over = [st.state for st in result.states if not st.within_budget]
-        put(summary, i, len(values) + len(result.states) + 1,
-            "within budget" if not over else "over in " + ", ".join(over),
-            font=ok_font if not over else over_font)
+        for c, cell in enumerate(row.cells, start=len(values) + 1):
+            put(summary, i, c, words.OVERWHELMED if cell.text == words.OVERWHELMED else
+                cell.figure, "0.00", font={"ok": ok_font, "over": over_font,
+                                           "unused": grey}[cell.status])
+        put(summary, i, len(values) + len(row.cells) + 1, row.verdict,
+            font=ok_font if row.within_budget else over_font)
+    put(summary, 5 + len(analysis.sensors) + 2, 1, "Grey italic: a state the sensor is not "
+        "relied on in; shown, not held against its budget.")
     summary.freeze_panes = "A6"
     widths(summary, {"A": 26, "B": 20, "C": 11, "D": 18, "E": 12})
 
@@ -177,7 +180,8 @@ def _xlsx(analysis):
                     "0.00", font=bold)
                 row += 1
             for remedy in st.remedies:
-                put(sheet, row, 1, "remedy: " + words.remedy_text(remedy, unit, plan.source))
+                put(sheet, row, 1, "remedy: " + words.remedy_text(remedy, unit, plan.source,
+                                                                  s.budget.unit))
                 row += 1
             row += 1
         widths(sheet, {"A": 40, "B": 12, "C": 13, "D": 15, "E": 13, "F": 16, "G": 22, "H": 16})
@@ -221,12 +225,12 @@ def _xlsx(analysis):
             for remedy in st.remedies:
                 for c, v in enumerate([result.sensor.name, st.state, remedy.run or "",
                                        words.remedy_action(remedy, unit, plan.source),
-                                       _figure(remedy.before_deg), _figure(remedy.after_deg),
+                                       _figure(remedy.before), _figure(remedy.after),
                                        "computed"], start=1):
                     put(notes, row, c, v, "0.00" if isinstance(v, float) else None)
                 row += 1
     for result in analysis.sensors:
-        for line in words.fix_set_lines(result.fixes, unit):
+        for line in words.fix_set_lines(result.fixes, unit, result.sensor.budget.unit):
             for c, v in enumerate([result.sensor.name, "", "", "set of fixes: " + line],
                                   start=1):
                 put(notes, row, c, v)
@@ -342,8 +346,8 @@ def html_report(analysis):
                  f"· {_e(site.source)}, {_e(site.date_text)} · zone {_e(site.zone)}</p>")
     parts.append('<div class=caution><b>Cautions.</b> ' + " ".join(_e(c) for c in CAUTIONS)
                  + "</div>")
-    parts.append("<h2>Summary</h2><table><tr><th>sensor</th><th>budget [°]</th>"
-                 + "".join(f"<th>{_e(s)} [°]</th>" for s in plan.state_names)
+    parts.append("<h2>Summary</h2><table><tr><th>sensor</th><th>budget</th>"
+                 + "".join(f"<th>{_e(s)}</th>" for s in plan.state_names)
                  + "<th>verdict</th></tr>")
     for row in view.summary_rows(analysis):
         cells = "".join(f"<td class={c.status}>{_e(c.text)}</td>" for c in row.cells)
@@ -361,7 +365,7 @@ def html_report(analysis):
                      f"{_e(words.position(s.position_m, unit))}; budget {_e(words.budget_text(s))}; "
                      f"held figure: {_e(words.held_figure(s))}</p>")
         for st in result.states:
-            cls = "unused" if not st.used else "ok" if st.within_budget else "over"
+            cls = view.STATUS_CLASS[st.status]
             parts.append(f"<h3 class={cls}>{_e(view.state_title(s, st))}</h3>")
             parts.append("<table><tr>" + "".join(f"<th>{_e(h.format(u=unit))}</th>"
                                                  for h in RUN_HEADERS) + "</tr>")
@@ -373,9 +377,10 @@ def html_report(analysis):
                              f"<td>{degrees(total.value_deg)}</td><td colspan=2></td></tr>")
             parts.append("</table><p class=meta>Runs below 0.5 % of the budget are omitted.</p>")
             for remedy in st.remedies:
-                parts.append(f"<p class=hint>→ {_e(words.remedy_text(remedy, unit, plan.source))}"
+                text = words.remedy_text(remedy, unit, plan.source, s.budget.unit)
+                parts.append(f"<p class=hint>→ {_e(text)}"
                              "</p>")
-        lines = words.fix_set_lines(result.fixes, unit)
+        lines = words.fix_set_lines(result.fixes, unit, s.budget.unit)
         if lines:
             parts.append("<h3>The set of fixes</h3><ol>" + "".join(
                 f"<li>{_e(line.split('. ', 1)[1] if line[0].isdigit() else line)}</li>"

@@ -138,7 +138,7 @@ def _render_sensor(result, analysis, console, unit, all_runs, hints):
         console.print(Text("  relied on in: " + ", ".join(sensor.used_in)))
     for st in result.states:
         _render_state(st, sensor, analysis, console, unit, all_runs, hints)
-    lines = words.fix_set_lines(result.fixes, unit) if hints else []
+    lines = words.fix_set_lines(result.fixes, unit, sensor.budget.unit) if hints else []
     if lines:
         console.print()
         console.print(Text(f"{sensor.name}: the set of fixes, each figure with the changes "
@@ -150,14 +150,17 @@ def _render_sensor(result, analysis, console, unit, all_runs, hints):
 
 def _render_state(st, sensor, analysis, console, unit, all_runs, hints):
     reference = sensor.reference_state
-    status = "unused" if not st.used else "ok" if st.within_budget else "over"
+    status = view.STATUS_CLASS[st.status]
     console.print()
     console.print(Text(view.state_title(sensor, st), style=_style(status)))
     table = Table(box=_box(console), padding=(0, 1), pad_edge=False)
     table.add_column("run / item", ratio=1, overflow="fold")
-    for name in ("A", "nearest", "horiz µT", "vert µT", "alone °"):
+    figure_unit = sensor.budget.unit
+    degrees_shown = sensor.budget.degrees
+    for name in ("A", "nearest", "horiz µT", "vert µT") + (
+            ("alone °",) if degrees_shown else (f"alone {figure_unit.label}",)):
         table.add_column(name, justify="right", no_wrap=True)
-    if reference:
+    if reference and degrees_shown:
         table.add_column("residual °", justify="right", no_wrap=True)
     table.add_column("of budget", justify="right", no_wrap=True)
     rows, hidden = view.budget_rows(sensor, st, all_runs=all_runs)
@@ -166,10 +169,11 @@ def _render_state(st, sensor, analysis, console, unit, all_runs, hints):
                  "" if row.current_a is None else f"{row.current_a:g}",
                  format_length(row.nearest_m, unit), words.microtesla(row.horizontal_t),
                  "" if row.vertical_t is None else words.microtesla(row.vertical_t),
-                 degrees(row.max_deviation_deg)]
-        if reference:
+                 degrees(row.max_deviation_deg) if degrees_shown
+                 else words.figure_number(row.counted, figure_unit)]
+        if reference and degrees_shown:
             cells.append("adjusted" if row.compensated else degrees(row.change_deg))
-        cells.append(words.share(row.share_of_budget, row.counted_deg))
+        cells.append(words.share(row.share_of_budget, row.counted, figure_unit))
         table.add_row(*cells)
     console.print(table)
     if hidden:
@@ -183,10 +187,9 @@ def _render_state(st, sensor, analysis, console, unit, all_runs, hints):
         line = f"  {total.label}: {words.with_degree_sign(total.value_deg)}"
         if total.held:
             share = ("" if st.overwhelmed else
-                     f" ({st.budget_used_deg / sensor.budget_deg * 100:.0f} % of the budget)")
-            console.print(Text(f"  {total.label}: "
-                               f"{words.with_degree_sign(st.budget_used_deg, st.overwhelmed)} of "
-                               f"{sensor.budget_deg:g}°{share}", style=_style(status)))
+                     f" ({sensor.budget.share(st.held) * 100:.0f} % of the budget)")
+            console.print(Text(f"  {total.label}: {words.held_text(sensor, st)} of "
+                               f"{words.budget_text(sensor)}{share}", style=_style(status)))
         else:
             console.print(Text(line))
     for line in view.total_field_lines(sensor, st):
@@ -199,7 +202,8 @@ def _render_state(st, sensor, analysis, console, unit, all_runs, hints):
                            "field here: the sensor can point anywhere.", style="bold red"))
     if hints:
         for remedy in st.remedies:
-            console.print(Text(f"  → {words.remedy_text(remedy, unit, analysis.plan.source)}"))
+            text = words.remedy_text(remedy, unit, analysis.plan.source, sensor.budget.unit)
+            console.print(Text(f"  → {text}"))
 
 
 class progress_bar:
@@ -233,7 +237,8 @@ class progress_bar:
 def render_spots(search, plan, console, seconds):
     unit = plan.site.units
     sensor = search.sensor
-    table = Table(title=Text(f"Best spots for {sensor.name} (budget {sensor.budget_deg:g}°)"),
+    figure_unit = sensor.budget.unit
+    table = Table(title=Text(f"Best spots for {sensor.name} (budget {words.budget_text(sensor)})"),
                   box=_box(console), title_justify="left")
     table.add_column("#", justify="right")
     if any(s.name for s in search.spots):
@@ -242,7 +247,7 @@ def render_spots(search, plan, console, seconds):
     axis_unit, axis_digits = ("in", 1) if unit in ("ft", "in") else ("m", 3)
     for axis in "xyz":
         table.add_column(f"{axis} {axis_unit}", justify="right", no_wrap=True)
-    table.add_column("figure °", justify="right")
+    table.add_column(f"figure {figure_unit.label}", justify="right")
     table.add_column("worst state")
     table.add_column("dominated by", overflow="fold")
     for rank, s in enumerate(search.spots, start=1):
@@ -251,11 +256,11 @@ def render_spots(search, plan, console, seconds):
         coordinates = (words.number(v / LENGTH_UNITS[axis_unit], axis_digits)
                        for v in s.position_m)
         table.add_row(str(rank), *(Text(n) for n in named), *coordinates,
-                      Text(degrees(s.budget_used_deg), style=_ok(s.within_budget)),
+                      Text(words.figure_number(s.held, figure_unit), style=_ok(s.within_budget)),
                       Text(s.worst_state), Text(runs or "—"))
     if search.spots and not search.within_budget:
-        table.caption = Text(f"No spot meets the {sensor.budget_deg:g}° budget: the best found "
-                             f"uses {words.with_degree_sign(search.spots[0].budget_used_deg)}.",
+        table.caption = Text(f"No spot meets the {words.budget_text(sensor)} budget: the best "
+                             f"found uses {words.figure_text(search.spots[0].held, figure_unit)}.",
                              style="bold red")
         table.caption_justify = "left"
     console.print(table)
@@ -284,7 +289,7 @@ def render_spots(search, plan, console, seconds):
                   if v.kind == "keep out" and v.contains(now.position_m)[0]]
         where = f' (inside keep-out "{inside[0]}")' if inside else ""
         console.print(Text(f"Where it is now {words.position(now.position_m, unit)}{where}: "
-                           f"{words.with_degree_sign(now.budget_used_deg)} in {now.worst_state}"))
+                           f"{words.figure_text(now.held, figure_unit)} in {now.worst_state}"))
     if search.step_m:
         console.print(Text(f"Searched {search.evaluated:,} positions for a {search.grid_points:,}-point "
                       f"grid at {format_length(search.step_m, unit)} steps in {seconds:.1f} s."))

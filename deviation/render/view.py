@@ -10,14 +10,19 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..quantities import Budget, Status
 from . import words
+
+#: The style class of each status in the renderers.
+STATUS_CLASS = {Status.WITHIN: "ok", Status.OVER: "over", Status.OVERWHELMED: "over",
+                Status.NOT_USED: "unused"}
 
 
 @dataclass(frozen=True)
 class SummaryCell:
     state: str
-    figure_deg: float
-    text: str                         # "1.23", "overwhelmed", or "1.23" for an unused state
+    figure: float                     # the held figure, in the budget's unit
+    text: str                         # "1.23", "5.96 nT", "overwhelmed"
     status: str                       # "ok", "over" or "unused"
 
 
@@ -25,7 +30,7 @@ class SummaryCell:
 class SummaryRow:
     sensor: str
     kind: str
-    budget_deg: float
+    budget: Budget
     reference_state: str | None
     max_heel_deg: float
     max_pitch_deg: float
@@ -41,14 +46,14 @@ def summary_rows(analysis) -> tuple[SummaryRow, ...]:
     for result in analysis.sensors:
         s = result.sensor
         total_field = words.is_total_field(s)
-        cells = tuple(SummaryCell(st.state, st.budget_used_deg,
+        cells = tuple(SummaryCell(st.state, st.held,
                                   words.held_text(s, st) if total_field else
-                                  words.degrees(st.budget_used_deg, st.overwhelmed),
-                                  "unused" if not st.used else "ok" if st.within_budget else "over")
+                                  words.degrees(st.held, st.overwhelmed),
+                                  STATUS_CLASS[st.status])
                       for st in result.states)
-        over = [c.state for c in cells if c.status == "over"]
+        over = result.over_in
         verdict = "within budget" if not over else "over in " + ", ".join(over)
-        rows.append(SummaryRow(s.name, s.kind, s.budget_deg, s.reference_state, s.max_heel_deg,
+        rows.append(SummaryRow(s.name, s.kind, s.budget, s.reference_state, s.max_heel_deg,
                                s.max_pitch_deg, words.budget_text(s), cells,
                                result.within_budget, verdict,
                                None if total_field else result.adjustment_absorbs_deg))
@@ -65,9 +70,9 @@ class BudgetRow:
     nearest_m: float
     horizontal_t: float               # level horizontal size of its field (or bound)
     vertical_t: float | None          # None for a bound of unknown direction
-    max_deviation_deg: float          # this row alone, absolute, level
+    max_deviation_deg: float | None   # this row alone, absolute, level (heading sensors)
     change_deg: float | None          # its own residual (sensor with a reference state)
-    counted_deg: float                # what it adds to the held figure (0 when adjusted out)
+    counted: float                    # what it adds to the held figure, in the budget's unit
     share_of_budget: float
     bound: bool                       # a figure of unknown direction (an upper bound)
     compensated: bool = False
@@ -84,8 +89,8 @@ def budget_rows(sensor, st, all_runs=True) -> tuple[tuple[BudgetRow, ...], int]:
     hidden = 0
     if not all_runs:
         # In the reference state the shares are zero by definition: show what is absorbed.
-        key = (lambda r: r.max_deviation_deg / sensor.budget_deg) if st.is_reference else (
-            lambda r: r.share_of_budget)
+        key = (lambda r: sensor.budget.share(r.max_deviation_deg)) if (
+            st.is_reference and sensor.budget.degrees) else (lambda r: r.share_of_budget)
         shown = [r for r in runs if key(r) >= NEGLIGIBLE_SHARE] or list(runs[:1])
         hidden = len(runs) - len(shown)
         runs = shown
@@ -93,16 +98,14 @@ def budget_rows(sensor, st, all_runs=True) -> tuple[tuple[BudgetRow, ...], int]:
         rows.append(BudgetRow(r.name, False, r.current_a, r.nearest_m,
                               float(np.hypot(r.field_t[0], r.field_t[1])), float(r.field_t[2]),
                               r.max_deviation_deg, r.change_from_reference_deg,
-                              r.share_of_budget * sensor.budget_deg, r.share_of_budget,
-                              r.bound_t > 0))
+                              r.held, r.share_of_budget, r.bound_t > 0))
     for item in st.equipment:
         oriented = item.field_t is not None
         size = float(np.hypot(item.field_t[0], item.field_t[1])) if oriented else item.bound_t
-        counted = 0.0 if item.compensated else item.max_deviation_deg
         rows.append(BudgetRow(item.name, True, None, item.distance_m, size,
                               float(item.field_t[2]) if oriented else None,
                               item.max_deviation_deg, None if not sensor.reference_state else
-                              counted, counted, counted / sensor.budget_deg, not oriented,
+                              item.held, item.held, sensor.budget.share(item.held), not oriented,
                               item.compensated))
     return tuple(rows), hidden
 
@@ -115,6 +118,8 @@ class TotalRow:
 
 
 def total_rows(sensor, st) -> tuple[TotalRow, ...]:
+    if words.is_total_field(sensor):
+        return ()                       # no heading figures: see total_field_lines
     rows = [TotalRow("all together (vector sum), level", st.vector_deviation_deg),
             TotalRow("if every field lined up, level", st.magnitude_bound_deg)]
     if st.equipment_bound_t:
@@ -123,10 +128,8 @@ def total_rows(sensor, st) -> tuple[TotalRow, ...]:
         rows.append(TotalRow("absolute, worst attitude", st.heeled_max_deviation_deg))
     if sensor.reference_state:
         rows.append(TotalRow("residual after adjustment, level", st.change_from_reference_deg))
-    if words.is_total_field(sensor):
-        return tuple(rows)              # the held figure is in nT: see total_field_lines
     rows.append(TotalRow(f"held against the budget ({words.held_figure(sensor)})",
-                         st.budget_used_deg, held=True))
+                         st.held, held=True))
     return tuple(rows)
 
 

@@ -6,7 +6,8 @@ the reports and the JSON say the same thing in the same words.
 
 from __future__ import annotations
 
-from ..budget import OVERWHELMED_DEG
+from ..constants import OVERWHELMED_DEG
+from ..quantities import Status, Unit
 from ..units import LENGTH_UNITS, format_length
 
 CAUTIONS = (
@@ -47,32 +48,42 @@ def microtesla(value_t) -> str:
     return number(value_t * 1e6, 3)
 
 
+#: A status in the words of a state's line.
+STATUS_WORDS = {Status.WITHIN: "within", Status.OVER: "OVER", Status.OVERWHELMED: "OVERWHELMED",
+                Status.NOT_USED: "not used"}
+
+
 def verdict(state_result) -> str:
-    if not state_result.used:
-        return "not used"
-    if state_result.overwhelmed:
-        return "OVERWHELMED"
-    return "within" if state_result.within_budget else "OVER"
+    return STATUS_WORDS[state_result.status]
 
 
 def is_total_field(sensor) -> bool:
-    from ..schema import TOTAL_FIELD_KIND
-
-    return sensor.kind == TOTAL_FIELD_KIND
+    return not sensor.budget.degrees
 
 
 def budget_text(sensor) -> str:
     """A sensor's budget with its unit: degrees, or nT for a total-field magnetometer."""
-    if is_total_field(sensor):
-        return f"{sensor.budget_nt:g} nT"
-    return f"{sensor.budget_deg:g}°"
+    return str(sensor.budget)
+
+
+def figure_text(value, unit, overwhelmed=False) -> str:
+    """A figure held against a budget, with the budget's unit: '1.23°', '5.96 nT', or
+    'overwhelmed'."""
+    if unit is Unit.NANOTESLA:
+        return "—" if value is None else f"{value:.2f} nT"
+    return with_degree_sign(value, overwhelmed)
+
+
+def figure_number(value, unit, overwhelmed=False) -> str:
+    """The same without the unit (for a column headed with it)."""
+    if unit is Unit.NANOTESLA:
+        return "—" if value is None else f"{value:.2f}"
+    return degrees(value, overwhelmed)
 
 
 def held_text(sensor, state_result) -> str:
     """The held figure with its unit."""
-    if is_total_field(sensor):
-        return f"{state_result.total_field_error_t * 1e9:.2f} nT"
-    return with_degree_sign(state_result.budget_used_deg, state_result.overwhelmed)
+    return figure_text(state_result.held, sensor.budget.unit, state_result.overwhelmed)
 
 
 def held_figure(sensor) -> str:
@@ -110,10 +121,10 @@ def example_rows(skipped) -> str | None:
             f"delete {'them' if count != 1 else 'it'}")
 
 
-def share(share_of_budget, deviation_deg) -> str:
-    """A share of the budget in per cent; "—" where the figure is "overwhelmed" (its share would
-    only repeat the placeholder figure)."""
-    if deviation_deg is not None and deviation_deg >= OVERWHELMED_DEG:
+def share(share_of_budget, figure, unit=Unit.DEGREES) -> str:
+    """A share of the budget in per cent; "—" where a deviation is "overwhelmed" (its share
+    would only repeat the placeholder figure)."""
+    if unit is Unit.DEGREES and figure is not None and figure >= OVERWHELMED_DEG:
         return "—"
     return f"{share_of_budget * 100:.0f} %"
 
@@ -165,7 +176,7 @@ def fix_step_action(step, unit_system) -> str:
     return remedy_action(step, unit_system)
 
 
-def fix_set_lines(fixes, unit_system) -> list[str]:
+def fix_set_lines(fixes, unit_system, unit=Unit.DEGREES) -> list[str]:
     """A sensor's set of fixes as numbered lines, with the held figure after each."""
     if fixes is None:
         return []
@@ -174,21 +185,21 @@ def fix_set_lines(fixes, unit_system) -> list[str]:
     lines = []
     for i, step in enumerate(fixes.steps, start=1):
         lines.append(f"{i}. {fix_step_action(step, unit_system)}: then "
-                     f"{with_degree_sign(step.after_deg)}"
+                     f"{figure_text(step.after, unit)}"
                      + (" (within budget)" if step.within_after else ""))
     if not fixes.reaches_budget:
         lines.append("no combination of rerouting the largest culprits fixes it; move the sensor")
     return lines
 
 
-def remedy_text(remedy, unit_system, plan_source="PLAN") -> str:
-    """The action and, where computed, the figure before and after."""
+def remedy_text(remedy, unit_system, plan_source="PLAN", unit=Unit.DEGREES) -> str:
+    """The action and, where computed, the figure before and after (in the budget's unit)."""
     action = remedy_action(remedy, unit_system, plan_source)
-    if remedy.after_deg is None:
+    if remedy.after is None:
         return action
     result = "within budget" if remedy.within_after else "still over budget"
-    return (f"{action}: {with_degree_sign(remedy.before_deg)} → "
-            f"{with_degree_sign(remedy.after_deg)} ({result})")
+    return (f"{action}: {figure_text(remedy.before, unit)} → "
+            f"{figure_text(remedy.after, unit)} ({result})")
 
 
 def finding_message(finding) -> str:

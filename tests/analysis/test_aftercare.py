@@ -362,8 +362,8 @@ def test_swing_state_cli_on_the_sample_exits_1_over_budget():
     assert helm["reference_state"] == "harbour" and helm["in_plan"]
     # The plan's reference state gives exactly what check holds (regression figure, test_cli).
     check = json.loads(run_cli("check", SAMPLES / "cruising_sailboat", "--json").output)
-    held = max(s["budget_used_deg"] for s in check["sensors"][0]["states"] if s["used"])
-    assert helm["worst_held_deg"] == pytest.approx(held, abs=1e-4)
+    held = max(s["held"] for s in check["sensors"][0]["states"] if s["used"])
+    assert helm["worst_held"] == pytest.approx(held, abs=1e-4)
 
 
 # Gauss's helper ----------------------------------------------------------------------------------

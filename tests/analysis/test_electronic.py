@@ -427,7 +427,7 @@ def test_area_figures_scale_as_one_over_h_and_name_the_worst_place(plan_dir):
         ref = model.calculate(place.latitude_deg, place.longitude_deg, 0.0, 2027.0)
         assert place.site.horizontal_t == pytest.approx(ref.h * 1e-9, abs=1e-12)
         horizontal[place.name] = ref.h * 1e-9
-        held = place.analysis.sensors[0].states[0].budget_used_deg
+        held = place.analysis.sensors[0].states[0].held
         # asin(|b_h| / H), |b_h| the 100 m wire's mu0 I/(4 pi d) 2 sin(theta), sin(theta) =
         # 50/sqrt(50^2 + 1) (textbook finite wire): the same field, scaled by 1/H.
         beta = 1e-7 * 0.1 / 1.0 * 2 * 50 / math.hypot(50, 1)
@@ -475,7 +475,7 @@ def test_survey_boom_sample_judges_its_total_field_sensor_in_nt():
     result = run("check", SAMPLES / "survey_boom", "--json")
     data = json.loads(result.output)
     boom = next(s for s in data["sensors"] if s["kind"] == "total-field magnetometer")
-    assert boom["budget_nt"] == 2
+    assert boom["budget"] == {"value": 2, "unit": "nT"}
     line = next(s for s in boom["states"] if s["state"] == "survey line")
     # The only change from the compensation state is the 3 A scanner switching on: about
     # 3 A x its largest change per ampere (per-amp table), well inside 2 nT.

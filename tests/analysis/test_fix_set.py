@@ -42,7 +42,7 @@ def test_fix_set_is_no_longer_than_brute_force_over_every_subset():
             shortest = size if shortest is None else min(shortest, size)
     assert shortest == 2
     assert fixes.reaches_budget and len(fixes.steps) <= shortest
-    assert fixes.steps[-1].within_after and fixes.steps[-1].after_deg <= 1.0
+    assert fixes.steps[-1].within_after and fixes.steps[-1].after <= 1.0
     # Each step's figure is the sensor's held figure with that step and those before it made.
     runs = list(plan.runs)
     for step in fixes.steps:
@@ -50,7 +50,7 @@ def test_fix_set_is_no_longer_than_brute_force_over_every_subset():
         runs[r] = next(rerouted for kind, rerouted, *_ in _reroutings(plan.runs[r])
                        if kind == step.kind)
         again = deviation.check(dataclasses.replace(plan, runs=tuple(runs)), remedies=False)
-        assert again.sensors[0].worst.budget_used_deg == step.after_deg
+        assert again.sensors[0].worst.held == step.after
 
 
 def test_no_combination_of_rerouting_is_said_plainly():

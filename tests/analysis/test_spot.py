@@ -9,7 +9,7 @@ from click.testing import CliRunner
 from conftest import SAMPLES, straight_wire_plan
 from deviation import spot as spot_module
 from deviation.analysis import analyse, parts_at
-from deviation.budget import budget_figures, equipment_fields
+from deviation.budget import equipment_fields, sensor_figures
 from deviation.cli import main
 from deviation.physics.field import segment_field
 from deviation.reader import read_plan
@@ -40,7 +40,7 @@ def test_search_finds_the_midline_where_the_fields_cancel(plan_dir):
     best = result.spots[0]
     assert abs(best.position_m[1]) <= step / 2 + 1e-12
     assert abs(best.position_m[2]) <= step / 2 + 1e-12
-    assert best.budget_used_deg < 1e-6
+    assert best.held < 1e-6
     assert result.grid_points > result.evaluated          # coarse to fine, not every point
 
 
@@ -60,10 +60,10 @@ def test_coarse_to_fine_matches_brute_force_on_a_sample(monkeypatch):
                               conductors.segment_currents(plan.run_currents_a), points,
                               radius_m=conductors.radius_m, return_inside=True)
     items = equipment_fields(plan, sensor, points, analysis.site.horizontal_t)
-    figures = budget_figures(plan, sensor, analysis.site.horizontal_t, parts_at(plan, points),
-                             items)
-    brute = np.where(inside, np.inf, figures.budget_used_deg.max(axis=1))
-    assert result.spots[0].budget_used_deg == pytest.approx(brute.min(), abs=1e-9)
+    figures = sensor_figures(plan, sensor, analysis.site, parts_at(plan, points), points,
+                             items=items)
+    brute = np.where(inside, np.inf, figures.held.max(axis=1))
+    assert result.spots[0].held == pytest.approx(brute.min(), abs=1e-9)
 
 
 def test_spots_sheet_is_ranked_best_first(plan_dir):
@@ -72,7 +72,7 @@ def test_spots_sheet_is_ranked_best_first(plan_dir):
                                         [s.position_m for s in plan.spots],
                                         [s.name for s in plan.spots])
     assert [s.name for s in result.spots] == ["midline", "off", "far off"]
-    assert result.spots[0].budget_used_deg < 1e-9
+    assert result.spots[0].held < 1e-9
 
 
 def test_spot_command_json_layout_and_plot(plan_dir, tmp_path):
@@ -85,9 +85,9 @@ def test_spot_command_json_layout_and_plot(plan_dir, tmp_path):
     data = json.loads(result.output)
     assert data["sensor"] == "compass"
     first = data["spots"][0]
-    assert set(first) >= {"position_m", "budget_used_deg", "worst_state"}
+    assert set(first) >= {"position_m", "held", "worst_state"}
     assert abs(first["position_m"][1]) <= 0.01
-    figures = [s["budget_used_deg"] for s in data["spots"]]
+    figures = [s["held"] for s in data["spots"]]
     assert figures == sorted(figures)
     assert plot.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
 

@@ -7,7 +7,7 @@ import pytest
 from conftest import straight_wire_plan
 from deviation import spot as spot_module
 from deviation.analysis import analyse, parts_at
-from deviation.budget import budget_figures, equipment_fields
+from deviation.budget import equipment_fields, sensor_figures
 from deviation.physics.field import segment_field
 from deviation.plan import PlanError
 from deviation.reader import read_plan
@@ -46,9 +46,9 @@ def brute_best(plan, analysis, sensor, points):
                               conductors.segment_currents(plan.run_currents_a), points,
                               radius_m=conductors.radius_m, return_inside=True)
     items = equipment_fields(plan, sensor, points, analysis.site.horizontal_t)
-    figures = budget_figures(plan, sensor, analysis.site.horizontal_t, parts_at(plan, points),
-                             items)
-    return np.where(inside, np.inf, figures.budget_used_deg.max(axis=1)).min()
+    figures = sensor_figures(plan, sensor, analysis.site, parts_at(plan, points), points,
+                             items=items)
+    return np.where(inside, np.inf, figures.held.max(axis=1)).min()
 
 
 def in_box(points, low, high):
@@ -69,7 +69,7 @@ def test_unconstrained_optimum_is_inside_the_keep_out_box_used_below(plan_dir):
     result = spot_module.search_box(plan, analyse(plan), plan.sensor("compass"), SLICE_LOW,
                                     SLICE_HIGH, STEP)
     assert in_box(result.spots[0].position_m, [-1, -0.1, -0.05], [1, 0.1, 0.05])[0]
-    assert result.spots[0].budget_used_deg < 1e-9
+    assert result.spots[0].held < 1e-9
 
 
 def test_search_never_returns_a_spot_inside_a_keep_out_box(plan_dir, monkeypatch):
@@ -87,9 +87,9 @@ def test_search_never_returns_a_spot_inside_a_keep_out_box(plan_dir, monkeypatch
     # applied only to the coarse stage would let refined points inside win with 0 deg).
     points = slice_points()
     allowed = points[~in_box(points, low, high)]
-    assert result.spots[0].budget_used_deg == pytest.approx(
+    assert result.spots[0].held == pytest.approx(
         brute_best(plan, analysis, sensor, allowed), abs=1e-9)
-    assert result.spots[0].budget_used_deg > 0.5              # pushed out of the cancelling line
+    assert result.spots[0].held > 0.5              # pushed out of the cancelling line
     assert [v.name for v in result.volumes] == ["midline"]
 
 
@@ -104,7 +104,7 @@ def test_mount_in_box_restricts_the_spots_to_it(plan_dir):
     positions = np.array([s.position_m for s in result.spots])
     assert in_box(positions, low, high).all()
     points = slice_points()
-    assert result.spots[0].budget_used_deg == pytest.approx(
+    assert result.spots[0].held == pytest.approx(
         brute_best(plan, analysis, sensor, points[in_box(points, low, high)]), abs=1e-9)
     # The figure grows away from the cancelling line: the best is the box's nearest edge to it.
     assert result.spots[0].position_m[1] == pytest.approx(0.2, abs=1e-9)

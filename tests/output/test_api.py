@@ -44,16 +44,16 @@ def test_a_what_if_plan_is_routed_afresh(plan_dir):
     # gives mu0 I/(4 pi d) * 2 sin(theta), sin(theta) = 50/sqrt(50^2 + 10.5^2), on 20 uT
     # (Griffiths ch. 5, finite segment; NGA Pub. 226).
     plan = deviation.read_plan(plan_dir(straight_wire_plan()))
-    near = deviation.check(plan).sensors[0].states[0].budget_used_deg
+    near = deviation.check(plan).sensors[0].states[0].held
     run = plan.runs[0]
     moved = run.geometry.route_m + [0.0, 0.0, -10.0]
     what_if = dataclasses.replace(plan, runs=(dataclasses.replace(
         run, geometry=dataclasses.replace(run.geometry, route_m=moved)),))
-    far = deviation.check(what_if).sensors[0].states[0].budget_used_deg
+    far = deviation.check(what_if).sensors[0].states[0].held
     assert near == pytest.approx(11.54, abs=0.005)
     b_ut = 0.1 * 10 / 10.5 * 2 * 50 / math.hypot(50, 10.5)
     assert far == pytest.approx(math.degrees(math.asin(b_ut / 20)), rel=1e-6)
-    assert deviation.check(plan).sensors[0].states[0].budget_used_deg == near
+    assert deviation.check(plan).sensors[0].states[0].held == near
 
 
 def test_the_plan_is_frozen():
@@ -98,8 +98,8 @@ def test_json_and_terminal_show_the_same_figures():
     text = runner.invoke(main, ["check", sample, "--width", "200"]).output
     for sensor in data["sensors"]:
         for state in sensor["states"]:
-            figure = f"{state['budget_used_deg']:.2f}°"
-            assert f"{state['state']}: {figure} of {sensor['budget_deg']:g}°" in text
+            figure = f"{state['held']:.2f}°"
+            assert f"{state['state']}: {figure} of {sensor['budget']['value']:g}°" in text
             for total in state["totals"]:
                 if total["deg"] is not None and total["deg"] < 180:
                     assert f"{total['figure']}: {total['deg']:.2f}°" in text.replace("\n", " ")

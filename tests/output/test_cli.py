@@ -55,16 +55,17 @@ def test_json_has_the_documented_layout_and_nothing_else():
                                  "inclination_deg", "source", "zone"}
     assert data["within_budget"] is False
     sensor = data["sensors"][0]
-    assert set(sensor) >= {"sensor", "kind", "position_m", "budget_deg", "reference_state",
-                           "states"}
+    assert set(sensor) >= {"sensor", "kind", "position_m", "budget", "reference_state",
+                           "states", "status", "over_in"}
+    assert sensor["budget"] == {"value": 1.0, "unit": "deg"}
     state = sensor["states"][1]
     assert set(state) >= {"state", "field_ut", "max_deviation_deg", "change_from_reference_deg",
-                          "heeled_max_deviation_deg", "budget_used_deg", "within_budget", "runs",
+                          "heeled_max_deviation_deg", "held", "status", "within_budget", "runs",
                           "hints"}
     run_entry = state["runs"][0]
     assert set(run_entry) >= {"run", "current_a", "field_ut", "max_deviation_deg", "nearest_m"}
     assert run_entry["run"] == "instrument feed"
-    assert state["hints"][0]["after_deg"] < state["budget_used_deg"]
+    assert state["hints"][0]["after"] < state["held"]
     # Runs sorted largest contribution first.
     shares = [r["share_of_budget"] for r in state["runs"]]
     assert shares == sorted(shares, reverse=True)

@@ -477,7 +477,7 @@ def test_worst_switching_of_independent_loads_matches_brute_force_over_every_com
         b = sum(s * i * f for s, i, f in zip(choice, currents, fields))
         if math.hypot(b[0], b[1]) > worst:
             worst, worst_choice = math.hypot(b[0], b[1]), choice
-    assert st.budget_used_deg == pytest.approx(deviation_of(worst), rel=1e-7)
+    assert st.held == pytest.approx(deviation_of(worst), rel=1e-7)
     on = dict(st.switched_on)
     assert [on.get(c, 0) for c in CIRCUITS[1:]] == list(worst_choice[1:])
 
@@ -485,7 +485,7 @@ def test_worst_switching_of_independent_loads_matches_brute_force_over_every_com
 def test_switching_with_the_states_counts_only_the_stated_currents():
     result = deviation.check(switching_plan({}), remedies=False)
     b = sum(i * b_wire(a, c, 1.0) for i, (a, c) in zip(CURRENTS, RUNS))
-    assert result.sensors[0].states[0].budget_used_deg == pytest.approx(
+    assert result.sensors[0].states[0].held == pytest.approx(
         deviation_of(math.hypot(b[0], b[1])), rel=1e-7)
 
 
@@ -501,8 +501,8 @@ def test_worst_switching_at_heel_and_pitch_against_dense_attitudes():
     for windlass, radio in itertools.product((0, 1), (0, 1)):
         b = sum(s * i * f for s, i, f in zip((1, windlass, 1, radio), currents, fields))
         worst = max(worst, dense_attitude_max(b, heel, pitch))
-    assert deviation_of(worst) <= st.budget_used_deg + 1e-9
-    assert st.budget_used_deg == pytest.approx(deviation_of(worst), abs=2e-3)
+    assert deviation_of(worst) <= st.held + 1e-9
+    assert st.held == pytest.approx(deviation_of(worst), abs=2e-3)
 
 
 def dense_attitude_max(b, heel, pitch):
@@ -535,12 +535,12 @@ def test_worst_heel_and_pitch_is_found_inside_the_range():
     size = np.hypot(np.cos(pitch) * f + np.sin(pitch) * d1, s1)
     where = np.unravel_index(np.argmax(size), size.shape)
     assert 0 < where[0] < size.shape[0] - 1            # the sampled optimum is inside in pitch
-    assert st.budget_used_deg >= deviation_of(size.max()) - 1e-12
-    assert st.budget_used_deg == pytest.approx(deviation_of(size.max()), abs=1e-4)
+    assert st.held >= deviation_of(size.max()) - 1e-12
+    assert st.held == pytest.approx(deviation_of(size.max()), abs=1e-4)
     # Heel alone, or the ends of the ranges alone, give less: the test would catch either.
     ends = max(dense_attitude_max(b, np.radians(h), np.radians(p)) for h in (-10, 10)
                for p in (-40, 40))
-    assert deviation_of(ends) < st.budget_used_deg - 0.01
+    assert deviation_of(ends) < st.held - 0.01
 
 
 def test_heel_starboard_down_turns_an_upward_field_east_on_north():
@@ -576,26 +576,26 @@ def pair_plan(lie):
 
 def test_pair_one_above_the_other_counts_the_worse_of_above_and_below():
     st = deviation.check(pair_plan("one above the other"), remedies=False).sensors[0].states[0]
-    assert st.budget_used_deg == pytest.approx(max(pair_deviation(90), pair_deviation(270)),
+    assert st.held == pytest.approx(max(pair_deviation(90), pair_deviation(270)),
                                                rel=1e-7)
     # Two-wire line (Griffiths ch. 5, superposition): with the return 5 mm above the supply, on the
     # line to the sensor, |B| = mu0 I s / (2 pi r1 r2), r1 = 0.3 m, r2 = 0.295 m, horizontal.
     two_wire = MU0 * 10 * 0.005 / (2 * math.pi * 0.3 * 0.295)
-    assert st.budget_used_deg == pytest.approx(deviation_of(two_wire), rel=1e-3)
+    assert st.held == pytest.approx(deviation_of(two_wire), rel=1e-3)
 
 
 def test_pair_side_by_side_leaves_the_field_nearly_vertical():
     st = deviation.check(pair_plan("side by side"), remedies=False).sensors[0].states[0]
-    assert st.budget_used_deg == pytest.approx(max(pair_deviation(0), pair_deviation(180)),
+    assert st.held == pytest.approx(max(pair_deviation(0), pair_deviation(180)),
                                                rel=1e-7)
-    assert st.budget_used_deg < 0.1 * pair_deviation(90)
+    assert st.held < 0.1 * pair_deviation(90)
 
 
 def test_pair_of_unknown_lie_counts_its_worst_turn_as_a_bound():
     st = deviation.check(pair_plan(None), remedies=False).sensors[0].states[0]
     worst = max(pair_deviation(a) for a in range(0, 360, 2))
     # Never less than the worst turn; at most the circumscribed octagon's 1/cos(pi/8) more.
-    assert worst <= st.budget_used_deg <= worst / math.cos(math.pi / 8) + 1e-9
+    assert worst <= st.held <= worst / math.cos(math.pi / 8) + 1e-9
     assert st.runs[0].bound_t > 0
 
 
@@ -616,7 +616,7 @@ def test_change_from_the_reference_is_the_deviation_of_the_residual_field():
     night = reference + 9.0 * b_wire((0.5, -30, -0.2), (0.5, 30, -0.2), 1.0)
     residual = night - reference
     expected = deviation_of(math.hypot(residual[0], residual[1]))
-    assert result.state("night").budget_used_deg == pytest.approx(expected, rel=1e-7)
+    assert result.state("night").held == pytest.approx(expected, rel=1e-7)
     # The other model, the change of deviation delta(b) - delta(b_ref) over headings, differs
     # here by more than the tolerance: the test tells the two apart.
     psi = np.radians(np.arange(0, 360, 0.05))
@@ -653,8 +653,8 @@ def test_equipment_bound_with_a_reference_state_is_the_worst_over_its_direction(
     north = fields[:, 0] * np.cos(psi) + fields[:, 1] * np.sin(psi)
     east = fields[:, 0] * np.sin(psi) - fields[:, 1] * np.cos(psi)
     brute = np.abs(np.degrees(np.arctan2(east, H + north))).max()
-    assert brute <= st.budget_used_deg + 1e-9
-    assert st.budget_used_deg == pytest.approx(brute, abs=2e-3)
+    assert brute <= st.held + 1e-9
+    assert st.held == pytest.approx(brute, abs=2e-3)
     # Adding the bound in quadrature would come out short of the brute-force worst case.
     quadrature = deviation_of(math.hypot(math.hypot(*residual[:2]), beta))
     assert quadrature < brute - 0.05

@@ -84,7 +84,7 @@ def test_a_template_with_its_examples_left_in_checks_only_the_real_rows_and_says
     # Not counted: the same figure as the plan without them. A 100 m wire at 0.5 m: B = µ0 I /
     # (2π r) = 4 µT against H = 20 µT, the worst heading asin(4/20) (long-wire formula, textbook;
     # the 50 m half-lengths take 2.5e-5 of it).
-    held = api.check(plan).sensors[0].states[0].budget_used_deg
+    held = api.check(plan).sensors[0].states[0].held
     assert held == pytest.approx(math.degrees(math.asin(4.0 / 20.0)), rel=1e-4)
     result = run("check", path, "--width", 160)
     assert result.exit_code == 1, result.output
@@ -123,8 +123,8 @@ def test_example_rows_are_skipped_in_every_sheet_of_a_csv_plan(plan_dir):
     marked = read_plan(plan_dir(sheets, "marked"))
     assert marked.skipped_examples == (("site", 2), ("points", 2), ("runs", 2), ("states", 2),
                                        ("sensors", 2))
-    a = api.check(plain).sensors[0].states[0].budget_used_deg
-    b = api.check(marked).sensors[0].states[0].budget_used_deg
+    a = api.check(plain).sensors[0].states[0].held
+    b = api.check(marked).sensors[0].states[0].held
     assert a == b                                   # the same plan, read twice
 
 
@@ -296,7 +296,7 @@ def test_every_command_on_every_sample_shows_clean_text(name, tmp_path):
         ("site", "--lat", site.latitude_deg, "--lon", site.longitude_deg, "--date",
          site.date_text),
         ("clearance", "--lat", site.latitude_deg, "--lon", site.longitude_deg, "--date",
-         site.date_text, "--budget-deg", plan.sensor(sensor).budget_deg, "--units",
+         site.date_text, "--budget-deg", plan.sensor(sensor).budget.value, "--units",
          "ft" if plan.imperial else "m", "--width", 160),
     ]
     for command in commands:
@@ -353,13 +353,13 @@ def test_an_overwhelmed_compass_shows_the_word_never_the_placeholder_figure(plan
     assert_clean_text(page.split("Predicted deviation card")[0], "html report")
     assert run("check", path, "--report", tmp_path / "o.xlsx").exit_code == 1
     book = openpyxl.load_workbook(tmp_path / "o.xlsx")
-    degree_columns = {"summary": "FG", "budget compass": "FGH", "hints and findings": "EF"}
+    degree_columns = {"summary": "GH", "budget compass": "FGH", "hints and findings": "EF"}
     for title, letters in degree_columns.items():
         for letter in letters:
             for cell in book[title][letter]:
                 assert not (isinstance(cell.value, (int, float)) and cell.value >= 180), (
                     title, cell.coordinate, cell.value)
-    assert book["summary"]["F6"].value == "overwhelmed"
+    assert book["summary"]["G6"].value == "overwhelmed"
 
 
 def test_names_with_brackets_are_shown_as_written(plan_dir):

@@ -61,13 +61,13 @@ def test_a_semicolon_plan_with_decimal_commas_reads_to_the_same_figures_as_the_c
         assert (a.geometry.spacing_m, a.geometry.lay_m) == (b.geometry.spacing_m, b.geometry.lay_m)
     np.testing.assert_array_equal(comma.run_currents_a, semicolon.run_currents_a)
     assert semicolon.run_currents_a[2, 0] == 1.5              # "1,5" A, instruments in harbour
-    assert [s.budget_deg for s in semicolon.sensors] == [s.budget_deg for s in comma.sensors]
+    assert [s.budget.value for s in semicolon.sensors] == [s.budget.value for s in comma.sensors]
     assert semicolon.equipment[0].safe_distance_m == 0.9     # "0,9 m"
     np.testing.assert_array_equal(semicolon.equipment[0].position_m, [1.2, 0.45, 1.55])
     assert (semicolon.site.latitude_deg, semicolon.site.longitude_deg) == (43.29, 9.35)
     first, second = analyse(comma), analyse(semicolon)
-    assert [[s.budget_used_deg for s in r.states] for r in second.sensors] == \
-        [[s.budget_used_deg for s in r.states] for r in first.sensors]
+    assert [[s.held for s in r.states] for r in second.sensors] == \
+        [[s.held for s in r.states] for r in first.sensors]
 
 
 def test_a_tab_separated_plan_reads_like_the_comma_plan(tmp_path):

@@ -205,7 +205,7 @@ def test_random_sheets_give_findings_or_a_plan_never_anything_else(tmp_path_fact
     analysis = analyse(plan)                         # a plan that reads also computes
     for result in analysis.sensors:
         for state in result.states:
-            assert math.isfinite(state.budget_used_deg)
+            assert math.isfinite(state.held)
 
 
 plan_values = st.floats(-5, 5, allow_nan=False).map(lambda v: round(v, 3))
@@ -244,7 +244,7 @@ def test_a_valid_plan_round_trips_through_the_writer_and_reader(tmp_path_factory
         assert a.geometry.spacing_m == b.geometry.spacing_m and a.geometry.lay_m == b.geometry.lay_m
     np.testing.assert_array_equal(original.run_currents_a, again.run_currents_a)
     assert original.state_names == again.state_names
-    assert original.sensors[0].budget_deg == again.sensors[0].budget_deg
+    assert original.sensors[0].budget == again.sensors[0].budget
     np.testing.assert_array_equal(original.sensors[0].position_m, again.sensors[0].position_m)
     assert original.site.decimal_year == again.site.decimal_year
 
@@ -257,7 +257,7 @@ def test_sample_plans_round_trip_to_the_same_budget(tmp_path):
         again = analyse(read_plan(path))
         for a, b in zip(original.sensors, again.sensors):
             for sa, sb in zip(a.states, b.states):
-                assert sa.budget_used_deg == pytest.approx(sb.budget_used_deg, rel=1e-12, abs=1e-12)
+                assert sa.held == pytest.approx(sb.held, rel=1e-12, abs=1e-12)
 
 
 # Numerical edge cases ----------------------------------------------------------------------------
@@ -315,11 +315,11 @@ def test_very_long_run_and_tiny_spacing_give_finite_small_figures(plan_dir):
 
 def test_zero_current_and_thousands_of_amperes(plan_dir):
     code, data = check_json(plan_dir(straight_wire_plan(current=0), name="zero"))
-    assert code == 0 and data["sensors"][0]["states"][0]["budget_used_deg"] == 0
+    assert code == 0 and data["sensors"][0]["states"][0]["held"] == 0
     path = plan_dir(straight_wire_plan(current=5000, depth_m=0.1), name="huge")
     code, data = check_json(path)
     state = data["sensors"][0]["states"][0]
-    assert code == 1 and state["overwhelmed"] is True and state["budget_used_deg"] == 180
+    assert code == 1 and state["overwhelmed"] is True and state["held"] == 180
     text = run("check", path)
     no_nan(text)
     assert "overwhelmed" in text.output and "can point anywhere" in text.output

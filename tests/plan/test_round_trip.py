@@ -58,9 +58,9 @@ def assert_same_plan(a, b):
         if g.return_route_m is not None:
             np.testing.assert_array_equal(g.return_route_m, h.return_route_m)
     for s, t in zip(a.sensors, b.sensors, strict=True):
-        assert (s.name, s.kind, s.budget_deg, s.reference_state, s.max_heel_deg,
+        assert (s.name, s.kind, s.budget.value, s.reference_state, s.max_heel_deg,
                 s.max_pitch_deg, s.used_in, s.note) == (
-            t.name, t.kind, t.budget_deg, t.reference_state, t.max_heel_deg, t.max_pitch_deg,
+            t.name, t.kind, t.budget.value, t.reference_state, t.max_heel_deg, t.max_pitch_deg,
             t.used_in, t.note)
         np.testing.assert_array_equal(s.position_m, t.position_m)
     for e, f in zip(a.equipment, b.equipment, strict=True):
@@ -81,7 +81,7 @@ def assert_same_figures(a, b):
     for s, t in zip(first.sensors, again.sensors, strict=True):
         for x, y in zip(s.states, t.states, strict=True):
             # The same plan computed twice (exact inputs, the same code path).
-            assert y.budget_used_deg == pytest.approx(x.budget_used_deg, rel=1e-9, abs=1e-12)
+            assert y.held == pytest.approx(x.held, rel=1e-9, abs=1e-12)
             np.testing.assert_allclose(y.field_t, x.field_t, rtol=1e-9, atol=1e-18)
 
 
