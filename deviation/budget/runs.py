@@ -344,7 +344,76 @@ def turn_cover(samples, tau, strip, harmonics):
     generators = generators.reshape(generators.shape[:-3] + (4 * harmonics, 3))
     remainder = np.min(strip * _remainder_factor(tau, n_turns), axis=-1)
     bound = size[..., harmonics:].sum(axis=-1) + remainder
+    # The other cover: the circle holding the sampled curve in the first harmonic's plane.
+    shift, octagon, apart = _circle_cover(u, w, size)
+    # Keep whichever is smaller on average over directions (the mean half-width of a
+    # segment [-g, g] is |g|/2, of a ball its radius).
+    width = np.linalg.norm(generators, axis=-1).sum(axis=-1) / 2 + bound
+    width_circle = np.linalg.norm(octagon, axis=-1).sum(axis=-1) / 2 + apart + remainder
+    circle = np.isfinite(width_circle) & (width_circle < width)
+    centre = np.where(circle[..., None], centre + shift, centre)
+    padded = np.zeros_like(generators)
+    padded[..., :4, :] = octagon
+    generators = np.where(circle[..., None, None], padded, generators)
+    bound = np.where(circle, apart + remainder, bound)
     return centre, generators, bound, remainder, size.sum(axis=-1)
+
+
+#: Points per period at which the sampled series is evaluated for the circle cover, per sample.
+_CIRCLE_POINTS_PER_SAMPLE = 4
+
+
+def _circle_cover(u, w, size):
+    r"""A second cover of the series :math:`p(a) = \sum_n u_n\cos na + w_n\sin na` (about its
+    mean): shift (..., 3), octagon generators (..., 4, 3) and a bound (...); infinite where the
+    first harmonic has no plane.
+
+    Notes
+    -----
+    Near a pair its turning field runs on a circle that the harmonics alone cover loosely: for
+    an infinite pair (see :func:`turn_cover`) :math:`1/(z - s e^{ia})` is a circle through the
+    inversion, of radius :math:`s/(\rho^2 - s^2)` about a centre moved
+    :math:`s^2/(\rho(\rho^2 - s^2))` from the mean, while the harmonics add up to the larger
+    :math:`s/(\rho(\rho - s))` in every direction. So p is evaluated at J equally spaced turns
+    and written as x U + y W + o in the plane of the first harmonic (U = u_1, W = w_1, o the
+    part out of it); the circle of centre (x_c, y_c), the middle of the extent of x and of y,
+    and radius lambda, the largest distance of a sample from it in (x, y), holds every sample's
+    in-plane part; its circumscribed octagon (generators as for a harmonic, of lambda U and
+    lambda W) holds it too. Between two samples the curve stays within
+    :math:`(\Delta^2/8)\sup|p''| \le (\Delta^2/8)\sum_n n^2 \sigma_n` of the chord
+    (:math:`\Delta = 2\pi/J`, sigma_n the largest size of harmonic n), and the distance to a
+    convex set is at most its larger value at the chord's ends; so every p(a) lies within
+    :math:`\max|o| + (\Delta^2/8)\sum n^2\sigma_n` of the octagon.
+    """
+    n_h = u.shape[-2]
+    count = max(64, _CIRCLE_POINTS_PER_SAMPLE * 2 * (n_h + 1))
+    turns = 2 * np.pi * np.arange(count) / count
+    order = np.arange(1, n_h + 1)
+    cos, sin = np.cos(np.outer(turns, order)), np.sin(np.outer(turns, order))   # (J, H)
+    curve = (np.einsum("jh,...hc->...jc", cos, u)
+             + np.einsum("jh,...hc->...jc", sin, w))                           # (..., J, 3)
+    first, second = u[..., 0, :], w[..., 0, :]
+    gram = np.stack([np.stack([np.einsum("...c,...c->...", first, first),
+                               np.einsum("...c,...c->...", first, second)], -1),
+                     np.stack([np.einsum("...c,...c->...", first, second),
+                               np.einsum("...c,...c->...", second, second)], -1)], -2)
+    det = gram[..., 0, 0] * gram[..., 1, 1] - gram[..., 0, 1] ** 2
+    flat = ~(det > 1e-12 * np.maximum(gram[..., 0, 0] * gram[..., 1, 1], 1e-300))
+    inverse = np.stack([np.stack([gram[..., 1, 1], -gram[..., 0, 1]], -1),
+                        np.stack([-gram[..., 0, 1], gram[..., 0, 0]], -1)], -2)
+    inverse = inverse / np.where(flat, 1.0, det)[..., None, None]
+    along = np.stack([np.einsum("...jc,...c->...j", curve, first),
+                      np.einsum("...jc,...c->...j", curve, second)], -1)        # (..., J, 2)
+    xy = np.einsum("...ab,...jb->...ja", inverse, along)
+    out = curve - xy[..., :1] * first[..., None, :] - xy[..., 1:] * second[..., None, :]
+    middle = (xy.max(axis=-2) + xy.min(axis=-2)) / 2                            # (..., 2)
+    radius = np.linalg.norm(xy - middle[..., None, :], axis=-1).max(axis=-1)
+    step = 2 * np.pi / count
+    margin = step ** 2 / 8 * (size * order ** 2).sum(axis=-1)
+    apart = np.linalg.norm(out, axis=-1).max(axis=-1) + margin
+    shift = middle[..., :1] * first + middle[..., 1:] * second
+    octagon = _octagon(radius[..., None] * first, radius[..., None] * second)
+    return shift, octagon, np.where(flat, np.inf, apart)
 
 
 def _known_lie(samples):
