@@ -46,10 +46,10 @@ def run_fields_at(conductors, n_runs, points_m, *, nearest=True, inside=None):
 #: Harmonics of a turning part's field whose ellipses the exact worst-case search sees (each as
 #: the four generators of its circumscribed octagon): two for a pair of unknown lie, one for each
 #: untwisted end of a twisted run. Higher harmonics are counted by size (see :func:`turn_cover`).
-PAIR_HARMONICS = 2
+PAIR_HARMONICS = 1
 END_HARMONICS = 1
 #: Generators of a run's spread: four per harmonic seen.
-SPREAD_GENERATORS = 4 * PAIR_HARMONICS
+SPREAD_GENERATORS = 8
 #: Turns sampled for a part of unknown turn, tried in this order at each point until the
 #: certified remainder (see :func:`turn_cover`) is within TURN_REMAINDER_SHARE of the part's
 #: spread, the last taken whatever it leaves.
@@ -57,7 +57,7 @@ TURN_SAMPLES = (16, 64, 256)
 TURN_REMAINDER_SHARE = 0.01
 #: Fractions of the widest strip of analyticity tried for the remainder (the smallest bound
 #: is taken; each is rigorous).
-_STRIP_FRACTIONS = (0.3, 0.5, 0.65, 0.8, 0.9, 0.95)
+_STRIP_FRACTIONS = (0.5, 0.75, 0.9)
 #: Per ampere [T/A]: what a part of unknown turn counts where the point lies within its reach
 #: (closer to the supply than the return's offset, where a turn may bring the return onto it).
 #: Large enough to overwhelm any sensor at any current a plan carries.
@@ -204,24 +204,29 @@ class _Turning:
         with np.errstate(divide="ignore"):
             reach = np.where(a[None, :] > 0, np.log(rho / np.where(a > 0, a, 1.0)[None, :]),
                              np.inf)                                              # (P, S)
+        firsts = np.flatnonzero(np.r_[True, np.diff(self.part) != 0])
+        present = self.part[firsts]
         widest = np.full((len(points), self.n_parts), np.inf)
-        np.minimum.at(widest.T, self.part, reach.T)
+        widest[:, present] = np.minimum.reduceat(reach, firsts, axis=1)
         n_f = len(fractions)
         tau = widest[..., None] * np.asarray(fractions)[None, None, :]             # (P, n, F)
         bound = np.zeros((len(points), self.n_parts, n_f))
+        moving = (a > 0) | (a_step > 0)
+        kappa = a[None, :] / rho
         for f in range(n_f):
             t = tau[:, self.part, f]                                              # (P, S)
             with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-                kappa = a[None, :] / rho
-                phi = (1 - kappa * np.exp(t)) * (1 - kappa * np.exp(-t))
-                c2 = np.sqrt(np.cosh(2 * t))
+                grow = np.exp(t)
+                phi = (1 - kappa * grow) * (1 - kappa / grow)
+                c2 = np.sqrt((grow * grow + 1 / (grow * grow)) / 2)               # cosh 2t
                 psi = 1 + kappa * c2
-                term = (a_step[None, :] * c2 * psi / (phi ** 1.5 * rho ** 2)
-                        + a[None, :] * c2 * (1 + 3 * psi ** 2 / phi) / phi ** 1.5
-                        * (j3 + a_step[None, :] * c2 / rho ** 3))
-            term = np.where((a[None, :] > 0) | (a_step[None, :] > 0), term, 0.0)
+                root = phi * np.sqrt(phi)
+                term = (a_step * c2 * psi / (root * rho ** 2)
+                        + a * c2 * (1 + 3 * psi ** 2 / phi) / root
+                        * (j3 + a_step * c2 / rho ** 3))
+            term = np.where(moving, term, 0.0)
             term = np.where(np.isfinite(t) & (phi > 0), term, np.inf)
-            np.add.at(bound[:, :, f].T, self.part, term.T)
+            bound[:, present, f] = np.add.reduceat(term, firsts, axis=1)
         bound *= MU0_OVER_4PI
         bound[~(widest > 0)] = np.inf
         return tau, bound
@@ -230,12 +235,14 @@ class _Turning:
 def _remainder_factor(tau, n_turns):
     """sup |f - (DFT series of f up to harmonic N/2 - 1)| / K for a period analytic in the strip
     |Im a| < tau with |f| <= K there, from N samples (see :func:`turn_cover`)."""
+    half = n_turns // 2
     with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
         q = np.exp(-np.asarray(tau, dtype=float))
-        q_n = q ** n_turns
-        n = np.arange(1, n_turns // 2)
-        aliases = (q[..., None] ** (n_turns + n) + q[..., None] ** (n_turns - n)).sum(axis=-1)
-        factor = 2 * (q_n + aliases) / (1 - q_n) + 2 * q ** (n_turns // 2) / (1 - q)
+        q_half = q ** half
+        q_n = q_half * q_half
+        # sum over n = 1..N/2-1 of q^(N+n) + q^(N-n), in closed form
+        aliases = (q_n + q_half) * q * (1 - q_half / q) / (1 - q)
+        factor = 2 * (q_n + aliases) / (1 - q_n) + 2 * q_half / (1 - q)
     return np.where(tau > 0, factor, np.inf)
 
 
@@ -246,7 +253,7 @@ def _octagon(u, w):
                      for j in range(4)], axis=-2)
 
 
-def turn_cover(samples, tau, strip, harmonics):
+def turn_cover(samples, tau, strip, harmonics, circle=True):
     r"""A zonotope and a bound that hold every turn of a part, from equally spaced samples.
 
     Parameters
@@ -258,6 +265,10 @@ def turn_cover(samples, tau, strip, harmonics):
         (:meth:`_Turning.strip_bound`).
     harmonics : int
         Harmonics M whose ellipses become generators.
+    circle : bool
+        Also try the circle that holds the sampled curve (:func:`_circle_cover`) where the
+        higher harmonics are more than CIRCLE_TRIAL_SHARE of the first, and keep it where it
+        is smaller.
 
     Returns
     -------
@@ -335,30 +346,41 @@ def turn_cover(samples, tau, strip, harmonics):
     SIAM Review 56(3), 385-458, 2014, sections 3 and 7.
     """
     n_turns = samples.shape[-2]
-    coefficients = np.fft.fft(samples, axis=-2) / n_turns                  # (..., N, 3)
-    centre = coefficients[..., 0, :].real
-    u = 2 * coefficients[..., 1:n_turns // 2, :].real                        # (..., N/2-1, 3)
-    w = -2 * coefficients[..., 1:n_turns // 2, :].imag
+    cos, sin = _dft_tables(n_turns)                                         # (N/2, N)
+    centre = samples.mean(axis=-2)
+    u = 2 * np.matmul(cos, samples)                                         # (..., N/2-1, 3)
+    w = 2 * np.matmul(sin, samples)
     size = _sigma(u, w)                                                      # (..., N/2-1)
     generators = _octagon(u[..., :harmonics, :], w[..., :harmonics, :])      # (..., M, 4, 3)
     generators = generators.reshape(generators.shape[:-3] + (4 * harmonics, 3))
     remainder = np.min(strip * _remainder_factor(tau, n_turns), axis=-1)
     bound = size[..., harmonics:].sum(axis=-1) + remainder
-    # The other cover: the circle holding the sampled curve in the first harmonic's plane.
-    shift, octagon, apart = _circle_cover(u, w, size)
+    if not circle:
+        return centre, generators, bound, remainder, size.sum(axis=-1)
+    # The other cover: the circle holding the sampled curve in the first harmonic's plane, tried
+    # where the higher harmonics matter (elsewhere both covers are the first harmonic's).
+    trial = size[..., 1:].sum(axis=-1) > CIRCLE_TRIAL_SHARE * size[..., 0]
+    if not trial.any():
+        return centre, generators, bound, remainder, size.sum(axis=-1)
+    shift, octagon, apart = _circle_cover(u[trial], w[trial], size[trial])
     # Keep whichever is smaller on average over directions (the mean half-width of a
     # segment [-g, g] is |g|/2, of a ball its radius).
-    width = np.linalg.norm(generators, axis=-1).sum(axis=-1) / 2 + bound
-    width_circle = np.linalg.norm(octagon, axis=-1).sum(axis=-1) / 2 + apart + remainder
-    circle = np.isfinite(width_circle) & (width_circle < width)
-    centre = np.where(circle[..., None], centre + shift, centre)
-    padded = np.zeros_like(generators)
-    padded[..., :4, :] = octagon
-    generators = np.where(circle[..., None, None], padded, generators)
-    bound = np.where(circle, apart + remainder, bound)
+    width = np.linalg.norm(generators[trial], axis=-1).sum(axis=-1) / 2 + bound[trial]
+    width_circle = (np.linalg.norm(octagon, axis=-1).sum(axis=-1) / 2 + apart
+                    + remainder[trial])
+    better = np.zeros(trial.shape, dtype=bool)
+    better[trial] = np.isfinite(width_circle) & (width_circle < width)
+    keep = better[trial]
+    centre[better] += shift[keep]
+    generators[better] = 0.0
+    generators[better, :4] = octagon[keep]
+    bound[better] = apart[keep] + remainder[better]
     return centre, generators, bound, remainder, size.sum(axis=-1)
 
 
+#: Higher harmonics, as a share of the first, above which :func:`turn_cover` also tries the
+#: circle cover.
+CIRCLE_TRIAL_SHARE = 0.005
 #: Points per period at which the sampled series is evaluated for the circle cover, per sample.
 _CIRCLE_POINTS_PER_SAMPLE = 4
 
@@ -390,8 +412,7 @@ def _circle_cover(u, w, size):
     turns = 2 * np.pi * np.arange(count) / count
     order = np.arange(1, n_h + 1)
     cos, sin = np.cos(np.outer(turns, order)), np.sin(np.outer(turns, order))   # (J, H)
-    curve = (np.einsum("jh,...hc->...jc", cos, u)
-             + np.einsum("jh,...hc->...jc", sin, w))                           # (..., J, 3)
+    curve = np.matmul(cos, u) + np.matmul(sin, w)                               # (..., J, 3)
     first, second = u[..., 0, :], w[..., 0, :]
     gram = np.stack([np.stack([np.einsum("...c,...c->...", first, first),
                                np.einsum("...c,...c->...", first, second)], -1),
@@ -402,9 +423,8 @@ def _circle_cover(u, w, size):
     inverse = np.stack([np.stack([gram[..., 1, 1], -gram[..., 0, 1]], -1),
                         np.stack([-gram[..., 0, 1], gram[..., 0, 0]], -1)], -2)
     inverse = inverse / np.where(flat, 1.0, det)[..., None, None]
-    along = np.stack([np.einsum("...jc,...c->...j", curve, first),
-                      np.einsum("...jc,...c->...j", curve, second)], -1)        # (..., J, 2)
-    xy = np.einsum("...ab,...jb->...ja", inverse, along)
+    along = np.matmul(curve, np.stack([first, second], -1))                     # (..., J, 2)
+    xy = np.matmul(along, np.swapaxes(inverse, -1, -2))
     out = curve - xy[..., :1] * first[..., None, :] - xy[..., 1:] * second[..., None, :]
     middle = (xy.max(axis=-2) + xy.min(axis=-2)) / 2                            # (..., 2)
     radius = np.linalg.norm(xy - middle[..., None, :], axis=-1).max(axis=-1)
@@ -416,6 +436,13 @@ def _circle_cover(u, w, size):
     return shift, octagon, np.where(flat, np.inf, apart)
 
 
+def _dft_tables(n_turns):
+    """(N/2 - 1, N) cos(n a_k)/N and sin(n a_k)/N, n = 1..N/2-1, a_k = 2 pi k/N."""
+    order = np.arange(1, n_turns // 2)[:, None]
+    turns = 2 * np.pi * np.arange(n_turns)[None, :] / n_turns
+    return np.cos(order * turns) / n_turns, np.sin(order * turns) / n_turns
+
+
 def _known_lie(samples):
     """Centre, one generator (..., 1, 3) and zero bound of a part at exactly two turns."""
     first, second = samples[..., 0, :], samples[..., 1, :]
@@ -423,12 +450,13 @@ def _known_lie(samples):
             np.zeros(samples.shape[:-2]))
 
 
-def _turned_part_covers(turning, points, harmonics):
+def _turned_part_covers(turning, points, harmonics, *, refine=True, circle=True):
     """Cover of each part of unknown turn at each point: centre (P, n, 3), generators
     (P, n, 4M, 3), bound (P, n), the field at turn 0 (P, n, 3), and within reach (P, n) bool.
 
-    Sampled at TURN_SAMPLES[0] turns everywhere, then more densely at the points where the
-    certified remainder exceeds TURN_REMAINDER_SHARE of the part's spread.
+    Sampled at TURN_SAMPLES[0] turns everywhere, then (``refine``) more densely at the points
+    where the certified remainder exceeds TURN_REMAINDER_SHARE of the part's spread; ``circle``
+    as for :func:`turn_cover`.
     """
     n_p, n = len(points), turning.n_parts
     centre = np.zeros((n_p, n, 3))
@@ -437,8 +465,9 @@ def _turned_part_covers(turning, points, harmonics):
     at_zero = np.zeros((n_p, n, 3))
     todo = np.ones((n_p, n), dtype=bool)
     tau, strip = turning.strip_bound(points)
-    for level, n_turns in enumerate(TURN_SAMPLES):
-        last = level == len(TURN_SAMPLES) - 1
+    levels = TURN_SAMPLES if refine else TURN_SAMPLES[:1]
+    for level, n_turns in enumerate(levels):
+        last = level == len(levels) - 1
         # Everything at the first level; then, part by part, only the points left to do.
         for j in ([None] if level == 0 else range(n)):
             rows = np.arange(n_p) if j is None else np.flatnonzero(todo[:, j])
@@ -448,7 +477,7 @@ def _turned_part_covers(turning, points, harmonics):
             sub = turning if j is None else turning.subset(cols)
             samples = sub.fields(points[rows], 2 * np.pi * np.arange(n_turns) / n_turns)
             c, g, b, rest, spread = turn_cover(samples, tau[rows][:, cols], strip[rows][:, cols],
-                                               harmonics)
+                                               harmonics, circle)
             ix = np.ix_(rows, cols)
             centre[ix], generators[ix], bound[ix] = c, g, b
             at_zero[ix] = samples[:, :, 0]
@@ -542,21 +571,29 @@ def twisted_floor(runs, points, unit_t, spread_t, bound_t):
     lengths, about 50 dB below the same pair untwisted. Beyond that a run is held no weaker
     than that fraction f of the same run laid as a pair of unknown lie, in the figure the budget
     holds: the largest horizontal part at the worst attitude. Whatever the heel and pitch, the
-    pair's held figure is at most its largest 3-D size over its cover, U (the worst attitude can
-    at most lay the whole vector level), and the twisted run's is at least its largest level
-    horizontal size over its own cover plus its bound, L (level is one attitude). Adding
+    pair's held figure is at most the largest 3-D size over its cover, U (the worst attitude can
+    at most lay the whole vector level; U is taken as the centre's size plus each octagon's
+    farthest reach, 1/cos(pi/8) times its ellipse's, plus its bound), and the twisted run's is
+    at least its largest level horizontal size over its own cover plus its bound, L (level is
+    one attitude). Adding
     max(0, f U - L) as a bound of unknown direction therefore holds the run at no less than
     f times the pair at every attitude, and adds nothing where the run is already above it.
     """
     pairs = [r.geometry for r in runs]
     fixed_parts = [turning_run(as_paired(g)) for g in pairs]
     turning = _Turning.of([parts[0] for _, parts in fixed_parts])
-    centre, generators, extra, _, _ = _turned_part_covers(turning, points, PAIR_HARMONICS)
+    # An upper bound on the pair is all the floor needs: sampled once, no circle.
+    centre, generators, extra, _, _ = _turned_part_covers(turning, points, PAIR_HARMONICS,
+                                                          refine=False, circle=False)
     supply = np.stack([segment_field_by_group(*fixed[:2], fixed[2], np.zeros(len(fixed[2]),
                                                                               dtype=int),
                                               1, points)[0][:, 0]
                        for fixed, _ in fixed_parts], axis=1)                  # (P, n, 3)
-    reversing = np.ones(generators.shape[-2], dtype=bool)
-    pair_3d = worst_combination(supply + centre, generators, reversing, 0.0, 90.0)[0] + extra
+    # Each octagon of generators tan(pi/8) (cos(j pi/4) U + sin(j pi/4) W) lies within
+    # 1/cos(pi/8) of its ellipse, whose farthest point is the largest singular value of [U W].
+    blocks = generators.reshape(generators.shape[:-2] + (-1, 4, 3))
+    reach = _sigma(blocks[..., 0, :], blocks[..., 2, :]) / math.tan(math.pi / 8)
+    pair_3d = (np.linalg.norm(supply + centre, axis=-1)
+               + reach.sum(axis=-1) / math.cos(math.pi / 8) + extra)
     own = worst_combination(unit_t, spread_t, np.ones(spread_t.shape[-2], dtype=bool))[0]
     return np.maximum(TWISTED_FLOOR_FRACTION * pair_3d - (own + bound_t), 0.0)
