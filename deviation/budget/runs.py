@@ -345,6 +345,11 @@ def turn_cover(samples, tau, strip, harmonics, circle=True):
     L. N. Trefethen and J. A. C. Weideman, "The exponentially convergent trapezoidal rule",
     SIAM Review 56(3), 385-458, 2014, sections 3 and 7.
     """
+    samples = np.asarray(samples, dtype=float)
+    if samples.ndim == 2:                        # one part at one point
+        out = turn_cover(samples[None], np.asarray(tau)[None], np.asarray(strip)[None],
+                         harmonics, circle)
+        return tuple(value[0] for value in out)
     n_turns = samples.shape[-2]
     cos, sin = _dft_tables(n_turns)                                         # (N/2, N)
     centre = samples.mean(axis=-2)
