@@ -346,3 +346,80 @@ def test_the_floor_compares_the_horizontal_figure_not_the_3d_size():
                           np.zeros((1, 1)))
     assert added[0, 0] >= FLOOR * pair
     assert added[0, 0] <= FLOOR * pair / math.cos(math.pi / 8) * 1.05
+
+
+def test_the_remainder_factor_is_the_sum_of_every_alias_and_the_tail():
+    # Written here from |a_n| <= K q^|n|: the DFT coefficient of harmonic n (|n| < N/2) carries
+    # the aliases a_{n + jN}, j != 0, and the series stops below N/2, so
+    # sup|e| / K = sum_{j != 0} q^{|jN|} + 2 sum_{n=1}^{N/2-1} sum_{j != 0} q^{|n + jN|}
+    #              + 2 sum_{n >= N/2} q^n   (summed directly, far enough to converge).
+    from deviation.budget.runs import _remainder_factor
+
+    for n_turns in (16, 64):
+        for tau in (0.05, 0.3, 1.0, 3.0):
+            q = math.exp(-tau)
+            js = [j for j in range(-400, 401) if j]
+            direct = sum(q ** abs(j * n_turns) for j in js)
+            direct += 2 * sum(q ** abs(n + j * n_turns) for n in range(1, n_turns // 2)
+                              for j in js)
+            direct += 2 * sum(q ** n for n in range(n_turns // 2, 20000))
+            assert _remainder_factor(np.array(tau), n_turns) == pytest.approx(direct, rel=1e-9)
+
+
+def test_the_circle_cover_holds_curves_whose_extremes_fall_between_its_samples():
+    # Random trigonometric curves up to the seventh harmonic, the last one strong: the cover
+    # (a shifted octagon and a bound) must hold every point of the dense curve, in every
+    # direction (support functions); without the chord's second-order margin it does not.
+    from deviation.budget.runs import _circle_cover, _sigma
+
+    rng = np.random.default_rng(0)
+    turns = np.linspace(0, 2 * np.pi, 8001)
+    order = np.arange(1, 8)
+    directions = rng.normal(size=(300, 3))
+    directions /= np.linalg.norm(directions, axis=1, keepdims=True)
+    for _ in range(60):
+        weight = (0.6 ** np.arange(7))[:, None] * np.r_[np.ones(6), 3.0][:, None]
+        u, w = rng.normal(size=(7, 3)) * weight, rng.normal(size=(7, 3)) * weight
+        shift, octagon, bound = _circle_cover(u[None], w[None], _sigma(u, w)[None])
+        curve = np.cos(np.outer(turns, order)) @ u + np.sin(np.outer(turns, order)) @ w
+        assert _support_holds(curve, shift[0], octagon[0], bound[0], directions)
+
+
+def _complex_field(part, at, turns, nodes=200):
+    """(T, 3) the part's field minus its field with the return laid on the supply, at complex
+    turns: Biot-Savart integrated along each segment by Gauss-Legendre quadrature in complex
+    arithmetic (principal branch of the 3/2 power), written here."""
+    lam, weights = np.polynomial.legendre.leggauss(nodes)
+    lam, weights = (lam + 1) / 2, weights / 2
+    c, s = np.cos(turns)[:, None], np.sin(turns)[:, None]                  # (T, 1)
+    total = np.zeros((len(turns), 3), dtype=complex)
+    for i in range(len(part)):
+        for moved in (1.0, 0.0):
+            a = part.base_start_m[i] + moved * (c * part.turn_start_m[i, 0]
+                                                + s * part.turn_start_m[i, 1])   # (T, 3)
+            b = part.base_end_m[i] + moved * (c * part.turn_end_m[i, 0]
+                                              + s * part.turn_end_m[i, 1])
+            r = np.asarray(at)[None, None] - (a[:, None] + lam[None, :, None]
+                                              * (b - a)[:, None])             # (T, L, 3)
+            q = (r * r).sum(axis=-1)
+            integrand = np.cross((b - a)[:, None, :], r) / (q ** 1.5)[..., None]
+            total += ((moved * 2 - 1) * part.sign[i]
+                      * (weights[None, :, None] * integrand).sum(axis=1))
+    return 1e-7 * total
+
+
+@pytest.mark.parametrize("kind, route, at", [
+    ("paired", [[0, 0, 0], [0.3, 0, 0]], (0.31, 0.015, 0.0)),          # beside its end
+    ("paired", [[0, 0, 0], [0.3, 0, 0]], (0.33, 0.0, 0.0)),            # on its axis, beyond
+    ("paired", [[0, 0, 0], [0.3, 0, 0], [0.3, 0.3, 0]], (0.32, -0.01, 0.01)),    # a corner
+    ("twisted", [[0, 0, 0], [0.6, 0, 0]], (0.62, 0.01, 0.005))])       # an untwisted end
+def test_the_strip_bound_holds_off_the_real_line_for_ends_and_corners(kind, route, at):
+    geometry = RunGeometry("r", np.asarray(route, float), kind, spacing_m=0.01,
+                           lay_m=0.04 if kind == "twisted" else None)
+    _, parts = turning_run(geometry)
+    for part in parts:
+        tau, bound = _Turning.of([part]).strip_bound(np.asarray(at, float)[None])
+        real = np.linspace(0, 2 * np.pi, 48, endpoint=False)
+        for t, k in zip(tau[0, 0], bound[0, 0]):
+            turns = np.r_[real + 1j * t, real - 1j * t]
+            assert np.linalg.norm(_complex_field(part, at, turns), axis=-1).max() <= k
