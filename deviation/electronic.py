@@ -427,8 +427,9 @@ def electronic_states(plan, result, site, compensation) -> tuple[ElectronicState
     unit + sum_j s_j g_j, plus a vector no longer than its bound) the residual stays within
     the zonotope of the generators |w_kr| g_j, found exactly with the switching
     (:func:`deviation.budget.held`), plus |w_kr| times its bound. With independent circuits
-    w depends on the switching; the largest |w| over switchings is taken (a bound). Where the
-    fit is exact (each circuit measured), w is zero and only the equipment's bound remains.
+    w is affine in the switching; its largest size over the switchings (each circuit at the
+    extreme of its own term) is taken, the same for every switching (a bound). Where the fit is
+    exact (each circuit measured), w is zero and only the equipment's bound remains.
     """
     sensor = result.sensor
     heel, pitch = sensor.max_heel_deg, sensor.max_pitch_deg
@@ -447,8 +448,13 @@ def electronic_states(plan, result, site, compensation) -> tuple[ElectronicState
         n_runs = len(plan.runs)
         weight_base, weight_switched = compensated_residual(
             plan, sensor, measured, np.eye(n_runs), np.zeros((n_states, n_runs)))
-        # Largest share of each run's own field left over the switchings: (R, K).
-        scale = (np.abs(weight_base) + np.abs(weight_switched).sum(axis=1)).T
+        # Largest share of each run's own field left over the switchings (R, K): the weight is
+        # affine in the switching, so its extremes take each circuit at its own extreme.
+        lower = np.where(reversing[None, :, None], -np.abs(weight_switched),
+                         np.minimum(weight_switched, 0.0)).sum(axis=1)
+        upper = np.where(reversing[None, :, None], np.abs(weight_switched),
+                         np.maximum(weight_switched, 0.0)).sum(axis=1)
+        scale = np.maximum(np.abs(weight_base + lower), np.abs(weight_base + upper)).T
         scalar = parts.bound_t @ scale + item_bound                         # (1, K)
         unknown = (parts.bound_t + np.linalg.norm(parts.spread_t, axis=-1).sum(axis=-1)
                    ) @ scale                                                # (1, K)
