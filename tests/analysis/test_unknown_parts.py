@@ -160,20 +160,22 @@ def test_compensation_with_an_independent_pair_counts_the_worst_switching_and_li
 
 # Bounds scaled by independent circuits -----------------------------------------------------------
 
-def windlass_plan(current, kind="paired", extra=None):
+def windlass_plan(current, kind="paired", extra=None, reference=""):
     runs = [{"run": "windlass feed", "circuits": "windlass", "route": "-2, 0, -0.05 > 2, 0, -0.05",
              "return": kind, "spacing": "8 mm", **(extra or {})}]
     states = [{"circuit": "windlass", "harbour": current, "switching": "independent reversing"}]
     return {"site": site(), "runs": runs, "states": states,
             "sensors": [{"sensor": "compass", "at": "0, 0, 0", "kind": "magnetic compass",
-                         "budget_deg": 1.0}]}
+                         "budget_deg": 1.0, "reference_state": reference}]}
 
 
+@pytest.mark.parametrize("reference", ["", "harbour"])
 @pytest.mark.parametrize("current", [4.0, -4.0])
-def test_a_pair_of_unknown_lie_on_an_independent_load_counts_its_worst_turn(current):
+def test_a_pair_of_unknown_lie_on_an_independent_load_counts_its_worst_turn(current, reference):
     # The windlass switches on its own, either way round: its pair's lie counts at the current
-    # it may carry, whatever its sign. Brute force over turns with the load on (magpylib).
-    held = check(windlass_plan(current)).sensors[0].states[0].held
+    # it may carry, whatever its sign, and a compass adjusted with it off sees all of it.
+    # Brute force over turns with the load on (magpylib).
+    held = check(windlass_plan(current, reference=reference)).sensors[0].states[0].held
     turns = np.radians(np.arange(0, 360, 1.0))
     b = abs(current) * turned_pair_fields([[-2, 0, -0.05], [2, 0, -0.05]], 0.008, turns)
     worst = math.degrees(math.asin(np.hypot(b[:, 0], b[:, 1]).max() / H))
