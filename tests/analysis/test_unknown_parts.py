@@ -237,22 +237,6 @@ def test_the_fit_subtracts_the_reference_state():
     assert np.linalg.norm(raw - k) > 0.1 * np.linalg.norm(k)
 
 
-def test_without_a_reference_the_fit_learns_the_constant_field_too():
-    # A magnet of known axis present in every state gives a constant field, which the host
-    # learns as its offset b0 (mean b - k mean m); the residual is that of the wires alone,
-    # I (uA - uB)/2 in "a on" (closed form, one channel).
-    magnet = [{"item": "speaker", "at": "0.3, 0.2, 0.1", "moment_am2": 0.5, "axis": "1, 0, 0"}]
-    states = [{"circuit": "feed a", "off": 0, "a on": 10, "b on": 0},
-              {"circuit": "feed b", "off": 0, "a on": 0, "b on": 10}]
-    report = report_of(wires(states, "total", "", magnet))
-    constant = dipole([0.5, 0, 0], [0.3, 0.2, 0.1])
-    assert np.linalg.norm(constant) > 1e-6
-    np.testing.assert_allclose(report.compensation.offset_t, constant, rtol=1e-9)
-    a_on = next(s for s in report.states if s.state == "a on")
-    residual = 10 * (U_A - U_B) / 2
-    assert a_on.compensated_horizontal_t == pytest.approx(math.hypot(*residual[:2]), rel=1e-9)
-
-
 def test_what_is_left_counts_equipment_of_known_orientation():
     # A magnet present only in "b on", each wire measured alone: the host fits k_b to the change
     # in "b on", magnet included (k_b = u_b + M/10), so it cancels there; in "both" (A and B
