@@ -70,7 +70,7 @@ class PerAmpere:
     and the sensor's axes: the part of known direction (a pair whose lie is not fixed counts at
     the centre of its lies). ``unknown_t_per_a`` [T/A] is the size of the part of unknown
     direction: a pair's spread over the lies the plan leaves open (for a pair its field per
-    ampere is the centre plus or minus up to this), a twisted run's floor.
+    ampere is the centre plus or minus up to this), a twisted run's ends and floor.
     ``peak_current_a`` is the largest |current| the plan gives it.
     For a total-field magnetometer ``total_field_per_a`` is (smallest, largest) change of the
     reading per ampere over headings and attitudes [T/A], else None.
