@@ -167,8 +167,9 @@ def render_per_ampere(analysis, reports, console, unit):
                           "the host subtracts these times the measured currents.")
         console.print()
     console.print("Vectors are the part of known direction. ± unknown is the size of what the plan "
-                  "leaves open (which side of its supply a pair's return lies, a twisted run's "
-                  "floor): give a run whose vector matters a separate return route, or measure "
+                  "leaves open (which side of its supply a pair's return lies, how a twisted "
+                  "run's untwisted ends lie, its floor): give a run whose vector matters a "
+                  "separate return route, or measure "
                   "the compensation after installation.")
 
 

@@ -182,7 +182,7 @@ def _render_state(st, sensor, analysis, console, unit, all_runs, hints):
     if any(row.bound for row in rows):
         console.print("  ≤ includes an upper bound: a labelled safe distance (IEC 60945), a magnet "
                       "of unknown orientation, a pair whose lie the plan does not say, or a twisted "
-                      "run's floor")
+                      "run's untwisted ends and floor")
     for total in view.total_rows(sensor, st):
         line = f"  {total.label}: {words.with_degree_sign(total.value_deg)}"
         if total.held:
