@@ -74,7 +74,7 @@ def main():
     st = result.sensors[0].state("under way")
     print(f"{args.circuits} independent circuits, heel 20, pitch 10, reference state: check "
           f"{t_check:.3f} s, with remedies and the set of fixes {t_full:.2f} s; held "
-          f"{st.budget_used_deg:.4f}°, {len(st.switched_on)} circuits on in the worst case")
+          f"{st.held:.4f}°, {len(st.switched_on)} circuits on in the worst case")
     small = min(args.circuits, 12)
     plan = plan_with(small)
     result = deviation.check(plan, remedies=False)

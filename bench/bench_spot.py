@@ -50,7 +50,7 @@ def main():
     result = spot.search_box(plan, analysis, sensor, low, high, step)
     t_search = time.perf_counter() - t0
     print(f"coarse to fine: {result.grid_points:,} grid positions, {result.evaluated:,} evaluated, "
-          f"{t_search:.2f} s; best {result.spots[0].budget_used_deg:.4f}° at "
+          f"{t_search:.2f} s; best {result.spots[0].held:.4f}° at "
           f"{np.round(result.spots[0].position_m, 3).tolist()}")
     if args.no_brute:
         return
@@ -61,7 +61,7 @@ def main():
     print(f"brute force: all {len(points):,} positions in {t_brute:.2f} s "
           f"({len(points) * len(conductors) / t_brute:.3g} pairs/s); best {brute.min():.4f}°")
     print(f"coarse to fine is {t_brute / t_search:.1f}x faster; same best figure: "
-          f"{abs(brute.min() - result.spots[0].budget_used_deg) < 1e-6}")
+          f"{abs(brute.min() - result.spots[0].held) < 1e-6}")
 
 if __name__ == "__main__":
     main()

@@ -13,8 +13,9 @@ import numpy as np
 
 from .budget import RunParts, circuit_currents, equipment_fields, parts_of_runs, sensor_figures
 from .constants import ISO25862_BIPOLAR_RADIUS_M
-from .electronic import electronic_states, interference_grade
+from .electronic import Standing, electronic_sensor
 from .physics.routing import hint_lay_m
+from .progress import counter
 from .schema import VECTOR_ELECTRONIC_KINDS
 from .spot import search_box_around
 from .units import conductor_size
@@ -83,7 +84,8 @@ class RuleFinding:
 
     ``rule`` is the finding's id; ``subject`` the run or item it is about; ``distance_m`` how far
     it is from the sensor; ``limit_m`` the distance the rule or label asks for; ``fraction`` a
-    share of the Earth's field where the rule is about that.
+    share of the Earth's field where the rule is about that; ``figure`` and ``within`` a
+    computed figure (budget's unit) and whether it is within the sensor's budget.
     """
 
     sensor: str | None
@@ -94,6 +96,8 @@ class RuleFinding:
     limit_m: float | None = None
     fraction: float | None = None
     label: str | None = None
+    figure: float | None = None
+    within: bool | None = None
 
 
 # Rule findings ------------------------------------------------------------------------------------
@@ -105,9 +109,8 @@ RULE_SOURCES = {
     "unknown-safe-distance": "ISO 25862 Annex E: items of unknown safe distance kept at least "
                              "5 m away",
     "inside-safe-distance": "IEC 60945 compass safe distance",
-    "magnetometer-share": "common practice in open-source flight-controller documentation, from "
-                          "memory: under 30 % of the Earth's field acceptable, 30-60 % marginal, "
-                          "over 60 % move the sensor",
+    "compensation": "computed: the least-squares current compensation the host can learn from "
+                    "the currents the plan says it measures",
 }
 
 
@@ -134,12 +137,14 @@ def rule_findings(analysis) -> tuple[RuleFinding, ...]:
                 found.append(RuleFinding(sensor.name, None, "inside-safe-distance", item.name,
                                          distance, item.safe_distance_m,
                                          label=item.safe_distance_for))
-        if sensor.kind in VECTOR_ELECTRONIC_KINDS:
-            # The interference at full current graded as a share of F (electronic.grade_of).
-            grade = interference_grade(electronic_states(plan, result, analysis.site, None))
-            if grade is not None and grade.grade != "acceptable":
-                found.append(RuleFinding(sensor.name, grade.state, "magnetometer-share",
-                                         fraction=grade.fraction, label=grade.grade))
+        if sensor.kind in VECTOR_ELECTRONIC_KINDS and sensor.measured_currents and \
+                not result.within_budget:
+            # Over as installed: would the host's current compensation bring it within?
+            grade = electronic_sensor(analysis, result).grade
+            if grade is not None and grade.compensated is not None:
+                found.append(RuleFinding(sensor.name, grade.compensated_state, "compensation",
+                                         figure=grade.compensated,
+                                         within=grade.standing is Standing.WITHIN_COMPENSATED))
     return tuple(found)
 
 
@@ -301,7 +306,9 @@ def remedies_for(analysis, result) -> dict[str, tuple[Remedy, ...]]:
     evaluator = _Evaluator(analysis, result)
     by_name = {r.name: i for i, r in enumerate(plan.runs)}
     out = {}
+    tick = counter(f"remedies for {sensor.name}, state by state", len(result.states))
     for k, st in enumerate(result.states):
+        tick()
         if not st.used:
             out[st.state] = ()
             continue
@@ -342,6 +349,7 @@ def remedies_for(analysis, result) -> dict[str, tuple[Remedy, ...]]:
             chosen.append(Remedy(sensor.name, st.state, "move sensor", None, st.held,
                                  box_low_m=low, box_high_m=high))
         out[st.state] = tuple(chosen)
+    tick.done()
     return out
 
 
@@ -396,13 +404,23 @@ def fix_set(analysis, result) -> FixSet:
     ranked = sorted((name for name, share in largest.items() if share >= FIX_SET_SHARE),
                     key=lambda name: (-largest[name], name))[:FIX_SET_RUNS]
     runs = [by_name[name] for name in ranked]
-    changed, steps, figure = {}, [], before
     target = sensor.budget.value * CLEARANCE_MARGIN
 
     def held_of(figures):
         return evaluator.held(figures)[0]
 
+    tick = counter(f"the set of fixes for {sensor.name}, change by change", MAX_FIX_STEPS)
+    try:
+        return _grow_fix_set(evaluator, plan, sensor, runs, before, target, held_of, tick)
+    finally:
+        tick.done()
+
+
+def _grow_fix_set(evaluator, plan, sensor, runs, before, target, held_of, tick):
+    """The greedy loop of :func:`fix_set`; ``tick`` counts the changes."""
+    changed, steps, figure = {}, [], before
     while True:
+        tick()
         options = []                       # (finishes, held, run index, changed run, step)
         for r in runs:
             if r in changed:
@@ -438,11 +456,14 @@ def fix_set(analysis, result) -> FixSet:
             return FixSet(before, tuple(steps), False)
 
 
-def with_remedies(analysis):
+def with_remedies(analysis, sensors_named=None):
     """The analysis with every state's remedies and each sensor's set of fixes attached (a new
-    value)."""
+    value); with ``sensors_named``, only for the sensors of those names (the others keep none)."""
     sensors = []
     for result in analysis.sensors:
+        if sensors_named is not None and result.sensor.name not in sensors_named:
+            sensors.append(result)
+            continue
         remedies = remedies_for(analysis, result)
         states = tuple(replace(st, remedies=remedies[st.state]) for st in result.states)
         fixes = None if result.within_budget else fix_set(analysis, result)

@@ -22,10 +22,18 @@ from .budget import (
     run_fields_at,
     sensor_figures,
 )
+from .constants import (
+    MAX_FIXES_INDEPENDENT_CIRCUITS,
+    MAX_FIXES_STATES,
+    MAX_INDEPENDENT_CIRCUITS,
+    MAX_STATES,
+)
+from .errors import Problem
 from .physics import heading
 from .physics.routing import Conductors, route_runs
 from .physics.total_field import total_field_error_range
-from .plan import Plan, Sensor, conductors_of, frozen_array
+from .plan import Finding, Plan, PlanError, Sensor, conductors_of, frozen_array
+from .progress import counter
 from .quantities import Status, status_of
 from .sitefield import SiteField, site_field
 
@@ -43,8 +51,9 @@ class RunContribution:
     held: float                       # what it alone makes of the held figure, budget's unit
     share_of_budget: float            # held / the budget
     return_kind: str
-    bound_t: float = 0.0              # the part of unknown direction (lie of a pair, floor)
+    bound_t: float = 0.0              # the part of unknown direction of its horizontal size
     ends_share: float | None = None   # twisted: share of its field from the untwisted ends
+    unknown_t: float = 0.0            # the 3-D size of its parts of unknown direction
 
 
 @dataclass(frozen=True)
@@ -173,6 +182,27 @@ class Analysis:
 
         return summary_frame(self)
 
+    def verdict_frame(self):
+        """One row per sensor: budget, held figure per state, status (what a notebook shows)."""
+        from .frames import verdict_frame
+
+        return verdict_frame(self)
+
+    def __repr__(self) -> str:
+        parts = []
+        for result in self.sensors:
+            worst = result.worst
+            held = f"{worst.held:.2f}{result.sensor.budget.unit.symbol}"
+            if worst.overwhelmed:
+                held = "overwhelmed"
+            parts.append(f"{result.sensor.name} {result.status.value} ({held} of "
+                         f"{result.sensor.budget} in {worst.state})")
+        verdict = "within budget" if self.within_budget else "over budget"
+        return f"<CheckResult {self.plan.source!r}: {verdict}; {'; '.join(parts)}>"
+
+    def _repr_html_(self) -> str:
+        return self.verdict_frame()._repr_html_()
+
     def runs_frame(self):
         from .frames import runs_frame
 
@@ -264,7 +294,7 @@ def evaluate_sensor(plan: Plan, sensor: Sensor, site: SiteField, parts: RunParts
             None if alone.change_deg is None else float(alone.change_deg[k, r]),
             float(alone.held[k, r]), sensor.budget.share(alone.held[k, r]),
             run.geometry.return_kind, float(alone.bound_t[k, r]),
-            None if ends_share is None else ends_share[r])
+            None if ends_share is None else ends_share[r], float(alone.unknown_t[k, r]))
             for r, run in enumerate(plan.runs)]
         order = sorted(range(len(runs)), key=lambda r: (-rank[r], runs[r].name))
         on = tuple((name, int(s)) for name, s in zip(split.names, figures.combination[0, k]) if s)
@@ -312,15 +342,84 @@ def _one(parts: RunParts, i: int) -> RunParts:
                     parts.nearest_m[i:i + 1], parts.inside[i:i + 1])
 
 
+def check_sensors_outside_conductors(plan: Plan) -> None:
+    """A sensor inside a conductor of the plan as routed is a modelling error, reported as a
+    located finding (the field there is not the field of a line current).
+
+    Raises
+    ------
+    PlanError
+        With one finding per such sensor, at its row and ``at`` column.
+    """
+    from .physics.field import point_segment_distance
+
+    conductors = conductors_of(plan)
+    if not len(conductors) or not plan.sensors:
+        return
+    positions = np.array([s.position_m for s in plan.sensors])
+    distance = point_segment_distance(conductors.start_m, conductors.end_m, positions)
+    inside = distance <= conductors.radius_m[None, :]
+    findings = []
+    for i, sensor in enumerate(plan.sensors):
+        if not inside[i].any():
+            continue
+        s = int(np.argmax(inside[i]))
+        run = plan.runs[conductors.run_index[s]]
+        findings.append(Finding(
+            plan.source, "sensors", sensor.row, "at", f'sensor "{sensor.name}" lies inside run '
+            f'"{run.name}" ({distance[i, s] * 1000:.1f} mm from a conductor\'s axis, radius '
+            f"{conductors.radius_m[s] * 1000:.1f} mm); move the sensor or the run",
+            Problem.INCONSISTENT))
+    if findings:
+        raise PlanError(findings)
+
+
+def check_ceilings(plan: Plan, *, fixes: bool = False) -> None:
+    """Refuse a plan beyond what a check is made for (constants.MAX_*): a :class:`PlanError`
+    whose finding is at the first state or independent circuit past the ceiling. With
+    ``fixes``, the lower ceilings of the remedies and the set of fixes apply."""
+    states = MAX_FIXES_STATES if fixes else MAX_STATES
+    independent = MAX_FIXES_INDEPENDENT_CIRCUITS if fixes else MAX_INDEPENDENT_CIRCUITS
+    what = "the remedies and the set of fixes are worked out for" if fixes else "a plan may have"
+    instead = ("; check with --no-fixes (remedies=False), which gives the same budget and "
+               "verdict" if fixes else "")
+    findings = []
+    if len(plan.state_names) > states:
+        findings.append(Finding(plan.source, "states", 1, plan.state_names[states],
+                                f"{len(plan.state_names)} operating states is more than the "
+                                f"{states} {what}{instead}"))
+    switched = [c for c in plan.circuits if c.independent]
+    if len(switched) > independent:
+        findings.append(Finding(plan.source, "states", switched[independent].row, "switching",
+                                f"{len(switched)} independent circuits is more than the "
+                                f"{independent} {what} (their worst combination grows about as "
+                                f"their number cubed){instead}"))
+    if findings:
+        raise PlanError(findings)
+
+
 def analyse(plan: Plan) -> Analysis:
-    """Compute the deviation budget of every sensor in every state."""
+    """Compute the deviation budget of every sensor in every state.
+
+    Raises
+    ------
+    PlanError
+        A sensor lies inside a conductor (:func:`check_sensors_outside_conductors`), or the
+        plan is beyond the ceilings (:func:`check_ceilings`).
+    """
+    check_ceilings(plan)
+    check_sensors_outside_conductors(plan)
     site = site_field(plan.site)
     positions = np.array([s.position_m for s in plan.sensors]).reshape(-1, 3)
     parts = parts_at(plan, positions)
     shares = _ends_shares(plan, positions, parts.unit_t)
-    sensors = tuple(evaluate_sensor(plan, sensor, site, _one(parts, i), shares[i])
-                    for i, sensor in enumerate(plan.sensors))
-    return Analysis(plan, site, sensors)
+    tick = counter("the budget of each sensor", len(plan.sensors))
+    sensors = []
+    for i, sensor in enumerate(plan.sensors):
+        sensors.append(evaluate_sensor(plan, sensor, site, _one(parts, i), shares[i]))
+        tick()
+    tick.done()
+    return Analysis(plan, site, tuple(sensors))
 
 
 def _ends_shares(plan, points, unit_t):

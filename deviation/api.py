@@ -54,14 +54,17 @@ def plan_from_tables(tables: Mapping[str, object], source: str = "<tables>") -> 
     return make(tables, source)
 
 
-def check(plan: Plan, *, remedies: bool = True) -> CheckResult:
+def check(plan: Plan, *, remedies: bool = True,
+          fixes_for: Sequence[str] | None = None) -> CheckResult:
     """The deviation budget of every sensor in every state, with remedies and rule findings.
 
     Parameters
     ----------
     plan : Plan
     remedies : bool
-        Compute the rerouting remedies (the slowest part on big plans).
+        Compute the rerouting remedies and the set of fixes (the slowest part on big plans).
+    fixes_for : sequence of str, optional
+        Compute them only for these sensors (names in the plan).
 
     Returns
     -------
@@ -71,7 +74,7 @@ def check(plan: Plan, *, remedies: bool = True) -> CheckResult:
     """
     from .checking import check_plan
 
-    return check_plan(plan, remedies=remedies)
+    return check_plan(plan, remedies=remedies, fixes_for=fixes_for)
 
 
 def _sensor(plan: Plan, sensor: str | Sensor) -> Sensor:
@@ -118,6 +121,25 @@ def site_field(latitude_deg: float, longitude_deg: float, date=None,
                altitude_m: float = 0.0) -> SiteField:
     """The geomagnetic field from WMM2025 at a place and date (default: today)."""
     return model_field(latitude_deg, longitude_deg, date, altitude_m)
+
+
+def electronic_figures(plan_or_result: Plan | Analysis, sensor: str | None = None):
+    """Every electronic compass's and magnetometer's figures (per ampere, compensation, grade,
+    model check; total-field error for a scalar one), each with ``to_frame()`` and
+    ``per_ampere_frame()``; ``sensor`` limits them to one."""
+    from .electronic import electronic_report
+
+    analysis = (plan_or_result if isinstance(plan_or_result, Analysis)
+                else check(plan_or_result, remedies=False))
+    return electronic_report(analysis, sensor)
+
+
+def operating_area(plan: Plan):
+    """The plan at every place of its operating area (the site sheet's place rows), with
+    ``to_frame()``: where each sensor's figure is worst."""
+    from .area import area_check
+
+    return area_check(plan)
 
 
 def to_json(result: CheckResult) -> dict:

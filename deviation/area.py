@@ -50,6 +50,12 @@ class AreaResult:
     verdict_changes: bool            # within at some places, over at others
     within_budget: bool              # within at every place
 
+    def to_frame(self):
+        """One row per place and sensor (see :func:`deviation.frames.area_frame`)."""
+        from .frames import area_frame
+
+        return area_frame(self)
+
 
 def plan_at(plan, latitude_deg: float, longitude_deg: float):
     """The plan moved to another place: the model's field there, nothing else changed."""

@@ -1,4 +1,13 @@
-"""The predicted deviation card: deviation at every few degrees of magnetic heading, per state."""
+"""The predicted deviation card: deviation at every few degrees of magnetic heading, per state,
+with the band that the parts of unknown direction may add and the figure the budget holds.
+
+A card is drawn level, for the field of known direction in the state's worst switching of the
+independent loads; the parts the plan does not fix (a pair's lie, a twist's floor and untwisted
+ends, equipment of unknown orientation) may move it anywhere within the band at each heading.
+The card carries the state's held figure too, which also counts the worst attitude, so a card
+never looks smaller than what the budget holds. A total-field magnetometer gets its total-field
+error against heading instead, in nT.
+"""
 
 from __future__ import annotations
 
@@ -6,23 +15,54 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .budget import TESLA_PER_NT, circuit_currents, equipment_fields
 from .physics import heading
 from .plan import frozen_array
+from .quantities import Status, Unit
 
+#: Sensor kinds with no heading to steer by (survey and flight-controller magnetometers).
+NOT_STEERED = ("magnetometer", "total-field magnetometer")
 #: Heading step of the curves drawn in plots [deg].
 CURVE_STEP_DEG = 1.0
 
 
 @dataclass(frozen=True)
 class CardState:
+    """One state's card.
+
+    headings_deg : magnetic headings of the rows
+    deviation_deg : what the sensor shows at each, east positive, level (heading sensors; for a
+        total-field magnetometer its total-field error in nT)
+    band : at each heading, how far the parts of unknown direction may move that figure either
+        way (degrees, or nT); the true figure lies in deviation +- band
+    compass_deg : the compass heading to steer for each magnetic heading (compasses)
+    unadjusted_deg : for an adjusted sensor, the deviation before adjustment (no band)
+    field_t : (3,) [T] the field of known direction the card is drawn from (residual if adjusted)
+    unknown_t : [T] the size of the parts of unknown direction (the band's source)
+    held : the state's figure held against the budget (budget's unit), at the worst attitude
+    status : where the held figure stands (not used: shown, not held)
+    curve_headings_deg, curve_deviation_deg, curve_band : every CURVE_STEP_DEG, for plots
+    """
+
     state: str
-    headings_deg: np.ndarray          # magnetic headings
-    deviation_deg: np.ndarray         # what the sensor shows: east positive, level
-    compass_deg: np.ndarray           # compass heading to steer for each magnetic heading
-    unadjusted_deg: np.ndarray | None # for an adjusted sensor: the deviation before adjustment
-    field_t: np.ndarray               # (3,) the field the card is drawn from (residual if adjusted)
-    curve_headings_deg: np.ndarray    # every CURVE_STEP_DEG, for plots
+    headings_deg: np.ndarray
+    deviation_deg: np.ndarray
+    band: np.ndarray
+    compass_deg: np.ndarray | None
+    unadjusted_deg: np.ndarray | None
+    field_t: np.ndarray
+    unknown_t: float
+    held: float
+    status: Status
+    overwhelmed: bool
+    curve_headings_deg: np.ndarray
     curve_deviation_deg: np.ndarray
+    curve_band: np.ndarray
+
+    @property
+    def level_worst(self) -> float:
+        """The largest figure the card allows at any heading, level: max |figure| + band."""
+        return float(np.max(np.abs(self.curve_deviation_deg) + self.curve_band))
 
 
 @dataclass(frozen=True)
@@ -31,24 +71,52 @@ class Card:
     states: tuple[CardState, ...]
 
     @property
+    def unit(self) -> Unit:
+        return self.sensor.budget.unit
+
+    @property
     def steers(self) -> bool:
         """A heading to steer means something for a compass, not for a survey magnetometer."""
-        return self.sensor.kind != "magnetometer"
+        return self.sensor.kind not in NOT_STEERED
 
     def to_frame(self):
         """One row per magnetic heading and state."""
         import pandas
 
+        name = "deviation_deg" if self.unit is Unit.DEGREES else "total_field_error_nt"
+        band = "band_deg" if self.unit is Unit.DEGREES else "band_nt"
         return pandas.DataFrame([{
             "sensor": self.sensor.name, "state": st.state, "magnetic_deg": float(psi),
-            "deviation_deg": float(st.deviation_deg[i]),
-            "compass_deg": float(st.compass_deg[i]) if self.steers else None,
-            "unadjusted_deg": None if st.unadjusted_deg is None else float(st.unadjusted_deg[i])}
+            name: float(st.deviation_deg[i]), band: float(st.band[i]),
+            "compass_deg": float(st.compass_deg[i]) if st.compass_deg is not None else None,
+            "unadjusted_deg": None if st.unadjusted_deg is None else float(st.unadjusted_deg[i]),
+            "held": st.held, "status": st.status.value}
             for st in self.states for i, psi in enumerate(st.headings_deg)])
 
 
+def _band_deg(b_t, unknown_t, horizontal_t, headings_deg):
+    """How far a horizontal disturbance of size at most ``unknown_t`` may turn the needle at each
+    heading [deg]: the needle lies along H + b_h, and adding e with |e| <= beta turns it by at
+    most asin(beta / |H + b_h|) (180 where beta reaches |H + b_h|: it can point anywhere).
+    Over all headings the largest |delta| + band is asin((|b_h| + beta)/H), the budget's own
+    level figure (NGA Pub. 226, semicircular deviation, with the bound added as in the budget).
+    """
+    north, east = heading.level_disturbance(b_t, headings_deg)[..., :2].T
+    length = np.hypot(horizontal_t + north, east)
+    ratio = np.divide(unknown_t, length, out=np.full_like(length, np.inf), where=length > 0)
+    return np.where(ratio < 1.0, np.degrees(np.arcsin(np.clip(ratio, 0.0, 1.0))), 180.0)
+
+
+def _total_field_nt(b_t, horizontal_t, vertical_t, headings_deg):
+    """Level total-field error |F + C(psi) b| - |F| at each heading [nT]."""
+    north, east, down = heading.level_disturbance(b_t, headings_deg).T
+    total = np.hypot(horizontal_t, vertical_t)
+    seen = np.sqrt((horizontal_t + north) ** 2 + east ** 2 + (vertical_t + down) ** 2)
+    return (seen - total) / TESLA_PER_NT
+
+
 def deviation_card(analysis, sensor_result, step_deg=15.0) -> Card:
-    """The card of one sensor: for each state, deviation at every ``step_deg`` of magnetic heading.
+    """The card of one sensor: for each state, the figure at every ``step_deg`` of heading.
 
     Parameters
     ----------
@@ -64,33 +132,66 @@ def deviation_card(analysis, sensor_result, step_deg=15.0) -> Card:
     Notes
     -----
     The level deviation :math:`\\delta(\\psi) = \\operatorname{atan2}(b_E, H + b_N)`, east
-    positive; Compass = Magnetic - Deviation. For a sensor adjusted in a reference state, b is the
-    residual b_state - b_ref that the correctors or the calibration leave, so the card is the one
-    to steer by after adjustment; the unadjusted deviation is kept beside it. Bounds of unknown
-    direction (labelled safe distances, magnets of unknown orientation) have no heading
-    dependence to draw and are not in the card; they are in the budget.
+    positive; Compass = Magnetic - Deviation. b is the field of known direction in the state's
+    worst switching of independent loads; for a sensor adjusted in a reference state it is the
+    residual b - b_ref that the correctors or the calibration leave (b_ref with the independent
+    loads off, as adjusted), so the card is the one to steer by after adjustment. The band at
+    each heading is the most that the parts of unknown direction (size beta, counted as the
+    budget counts them: each pair's lies and twisted ends by the triangle inequality, floors,
+    equipment bounds) can turn the needle there. A total-field magnetometer's card is its level
+    total-field error |F + C b| - |F| in nT, +- beta.
 
     References
     ----------
     NGA, *Handbook of Magnetic Compass Adjustment* (Pub. 226); Magnetic = Compass + Deviation
     (standard navigation practice).
     """
+    plan, site = analysis.plan, analysis.site
+    sensor = sensor_result.sensor
     headings = np.arange(0.0, 360.0, step_deg)
     curve = np.arange(0.0, 360.0 + CURVE_STEP_DEG / 2, CURVE_STEP_DEG)
-    h = analysis.site.horizontal_t
-    reference = sensor_result.sensor.reference_state
-    b_ref = sensor_result.state(reference).field_t if reference else np.zeros(3)
+    h, z = site.horizontal_t, site.vertical_t
+    split = circuit_currents(plan)
+    parts = sensor_result.parts
+    items = equipment_fields(plan, sensor, sensor.position_m[None, :], h)
+    base = parts.unit_t[0].T @ split.base_a + items.oriented[0].T          # (3, K)
+    reference = sensor.reference_state
+    k_ref = plan.state_index(reference) if reference else None
+    b_ref = base[:, k_ref] if reference else np.zeros(3)
+    # Each run's parts of unknown direction per ampere, as sizes (triangle inequality).
+    per_ampere = parts.bound_t[0] + np.linalg.norm(parts.spread_t[0], axis=-1).sum(axis=-1)
+    unknown = per_ampere @ split.scale_a(k_ref) + (items.changing[0] if reference
+                                                  else items.bound[0])      # (K,)
+    scalar = sensor.budget.unit is Unit.NANOTESLA
     states = []
-    for st in sensor_result.states:
+    for k, st in enumerate(sensor_result.states):
         seen = np.asarray(st.field_t) - b_ref
-        deviation = heading.deviation_deg(seen, h, headings)
-        unadjusted = heading.deviation_deg(st.field_t, h, headings) if reference else None
+        # What rounding leaves of a field equal to the reference is no field at all.
+        scale = max(float(np.linalg.norm(st.field_t)), float(np.linalg.norm(b_ref)))
+        seen = np.where(np.abs(seen) <= 1e-12 * scale, 0.0, seen)
+        beta = float(unknown[k])
+        if scalar:
+            figure = _total_field_nt(seen, h, z, headings)
+            curve_figure = _total_field_nt(seen, h, z, curve)
+            band = np.full(len(headings), beta / TESLA_PER_NT)
+            curve_band = np.full(len(curve), beta / TESLA_PER_NT)
+            compass = unadjusted = None
+        else:
+            figure = heading.deviation_deg(seen, h, headings)
+            curve_figure = heading.deviation_deg(seen, h, curve)
+            band = _band_deg(seen, beta, h, headings)
+            curve_band = _band_deg(seen, beta, h, curve)
+            # A heading within rounding of 360 is steered as 000.
+            compass = (np.round(heading.compass_from_magnetic(headings, figure), 9) % 360.0
+                       if sensor.kind not in NOT_STEERED else None)
+            unadjusted = heading.deviation_deg(st.field_t, h, headings) if reference else None
         states.append(CardState(
-            st.state, frozen_array(headings), frozen_array(deviation),
-            frozen_array(heading.compass_from_magnetic(headings, deviation)),
-            None if unadjusted is None else frozen_array(unadjusted), frozen_array(seen),
-            frozen_array(curve), frozen_array(heading.deviation_deg(seen, h, curve))))
-    return Card(sensor_result.sensor, tuple(states))
+            st.state, frozen_array(headings), frozen_array(figure), frozen_array(band),
+            None if compass is None else frozen_array(compass),
+            None if unadjusted is None else frozen_array(unadjusted), frozen_array(seen), beta,
+            st.held, st.status, st.overwhelmed, frozen_array(curve),
+            frozen_array(curve_figure), frozen_array(curve_band)))
+    return Card(sensor, tuple(states))
 
 
 def cards(analysis, step_deg=15.0, sensor_name=None) -> tuple[Card, ...]:

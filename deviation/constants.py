@@ -59,16 +59,9 @@ MIN_LAY_PER_OUTER_DIAMETER = 12.0
 #: about 20 twists per metre, easily done by hand or bought as twisted pair.
 HINT_LAY_M = 0.05
 
-#: Interference grading of an electronic compass or magnetometer: the wiring's field at full
-#: current as a share of the Earth's total field F. Common practice in open-source
-#: flight-controller documentation, from memory: below 30 % acceptable, 30-60 % marginal (current
-#: compensation needed, check it after installation), above 60 % move the sensor.
-INTERFERENCE_ACCEPTABLE_FRACTION = 0.30
-INTERFERENCE_MOVE_FRACTION = 0.60
-
-#: Pre-arming checks of the field against the model (common practice in open-source
-#: flight-controller documentation, from memory): the measured total field within 0.2 gauss
-#: (20 µT) of the model's, and its inclination within 20 degrees of the model's.
+#: A sanity check of the field an electronic sensor's host sees against the model before use
+#: (common practice, no source; the figures from memory): its total field within 20 µT of the
+#: model's and its inclination within 20 degrees of the model's.
 MODEL_FIELD_TOLERANCE_T = 20e-6
 MODEL_INCLINATION_TOLERANCE_DEG = 20.0
 
@@ -77,7 +70,8 @@ MODEL_INCLINATION_TOLERANCE_DEG = 20.0
 SURVEY_FIGURE_OF_MERIT_NT = (1.0, 2.0)
 
 #: Independent switchings tried one by one for the total-field worst case and the compensation
-#: fit (2**12): beyond this the switching is chosen by the sign of F-hat . v_i (first order).
+#: fit (2**12): beyond this the total-field figures score the zonotope's vertices
+#: (physics.total_field.vertex_switchings) and the fit samples each circuit alone.
 MAX_SWITCHINGS_ENUMERATED = 4096
 
 #: Field units of the electronic-sensor outputs: tesla per unit (1 mG = 0.1 µT = 100 nT, since
@@ -87,3 +81,32 @@ FIELD_UNITS_T = {"uT": 1e-6, "nT": 1e-9, "mG": 1e-7}
 #: Deviation reported where the disturbance's horizontal part reaches H: the sensor can point
 #: anywhere (renderers say "overwhelmed", never this number).
 OVERWHELMED_DEG = 180.0
+
+# What a plan may say: figures beyond these are typing slips or unit mistakes, and each is a
+# located finding (docs/robustness.md, "Numbers within physics"). Common practice, no source:
+# they are far beyond any vessel or vehicle, so that no real plan meets them.
+#: Largest distance of a point from the plan's origin [m]: the largest ships are under 500 m
+#: long; a coordinate beyond 10 km is a slip (1e300, or kilometres typed as metres twice).
+MAX_COORDINATE_M = 10_000.0
+#: Largest length of any kind (a spacing, a lay, an untwisted end) [m].
+MAX_LENGTH_M = 10_000.0
+#: Largest compass safe distance a label may give [m]: IEC 60945 labels of marine equipment
+#: give well under 10 m.
+MAX_SAFE_DISTANCE_M = 100.0
+#: Largest magnetic moment of an item [A·m²]: a large loudspeaker is about 1, an engine block
+#: some hundreds; a whole steel hull's permanent moment is of order 1e5.
+MAX_MOMENT_AM2 = 1e6
+#: Largest current of a circuit, a run or a reading [A]: a large DC system's main bus carries
+#: some thousands of amperes.
+MAX_CURRENT_A = 100_000.0
+#: Ceilings of a check, where the work grows faster than the plan (measured with
+#: bench/bench_limits.py; the figures are in docs/robustness.md). The worst combination of
+#: independent circuits at the worst attitude grows about as their number cubed (200: seconds and
+#: 200 MB); the remedies and the set of fixes re-check the whole budget for every candidate change
+#: in every state, so they grow as the states squared and much faster with independent circuits
+#: (100 states or 100 independent circuits: about a minute). Above the MAX_FIXES_* ceilings a
+#: check runs without them (``--no-fixes``), or is refused.
+MAX_STATES = 1000
+MAX_INDEPENDENT_CIRCUITS = 200
+MAX_FIXES_STATES = 100
+MAX_FIXES_INDEPENDENT_CIRCUITS = 100

@@ -7,10 +7,9 @@ Pure computation over a plan and its checked result (:func:`deviation.check`):
   current-compensation setting takes;
 * the compensation a host that measures some currents would learn (:func:`fit_compensation`)
   and the residual it leaves in each state, in degrees and in % of F;
-* the grade of the interference at full current as a share of the Earth's field
-  (:func:`interference_grade`);
-* the field and inclination the sensor sees against the model's (the check a flight controller
-  makes before arming);
+* the sensor's grade against its own budget, as installed and with current compensation
+  (:func:`grade_of`), beside the interference as a plain share of the Earth's field;
+* the field and inclination the sensor sees against the model's (a sanity check before use);
 * total-field (scalar) magnetometers: the change of the reading per ampere.
 
 Frames as in :mod:`deviation.physics.heading`: vessel x forward, y to port, z up.
@@ -18,6 +17,7 @@ Frames as in :mod:`deviation.physics.heading`: vessel x forward, y to port, z up
 
 from __future__ import annotations
 
+import enum
 from dataclasses import dataclass
 
 import numpy as np
@@ -32,19 +32,16 @@ from .budget import (
     sensor_field_parts,
 )
 from .constants import (
-    INTERFERENCE_ACCEPTABLE_FRACTION,
-    INTERFERENCE_MOVE_FRACTION,
     MAX_SWITCHINGS_ENUMERATED,
     MODEL_FIELD_TOLERANCE_T,
     MODEL_INCLINATION_TOLERANCE_DEG,
 )
 from .physics.total_field import (
     all_switchings,
-    candidate_switchings,
     count_switchings,
+    error_over_switchings,
     first_order_range,
-    inclination_range_deg,
-    total_field_error_range,
+    inclination_over_switchings,
 )
 from .physics.worst_case import worst_combination
 from .plan import name_key
@@ -343,23 +340,30 @@ class ElectronicState:
     #                                            unknown direction, counted in compensated_*
 
 
+class Standing(str, enum.Enum):
+    """Where an electronic sensor stands against its own budget, as installed and with the
+    current compensation its host can learn from the currents it measures."""
+
+    WITHIN = "within"                            # within its budget as installed (calibrated)
+    WITHIN_COMPENSATED = "within compensated"    # over as installed, within once compensated
+    OVER = "over"                                # over, even compensated where it can be
+
+
 @dataclass(frozen=True)
 class Grade:
-    """The interference at full current graded as "acceptable", "marginal" or "move"."""
+    """An electronic sensor graded by what the check computes: its held figure (calibrated in
+    its reference state, the worst used state, attitude and switching) and, where its host
+    measures currents, the same after current compensation, both against the sensor's own
+    budget. ``fraction`` (the largest interference as a share of the Earth's field, in
+    ``fraction_state``) is a plain number beside it, not a grade."""
 
-    grade: str
-    fraction: float
+    standing: Standing
+    held: float                       # as installed, in the budget's unit, worst used state
     state: str
-
-
-def grade_of(fraction: float) -> str:
-    """Grade a share of the Earth's field (constants.INTERFERENCE_*; common practice in
-    open-source flight-controller documentation, from memory)."""
-    if fraction < INTERFERENCE_ACCEPTABLE_FRACTION:
-        return "acceptable"
-    if fraction <= INTERFERENCE_MOVE_FRACTION:
-        return "marginal"
-    return "move"
+    compensated: float | None         # after compensation [deg], worst used state; None: none
+    compensated_state: str | None
+    fraction: float
+    fraction_state: str
 
 
 @dataclass(frozen=True)
@@ -373,6 +377,18 @@ class ElectronicSensor:
     states: tuple[ElectronicState, ...]  # vector sensors only
     state_results: tuple                 # the check's StateResults (total-field figures)
 
+    def to_frame(self):
+        """One row per state (see :func:`deviation.frames.electronic_frame`)."""
+        from .frames import electronic_frame
+
+        return electronic_frame((self,))
+
+    def per_ampere_frame(self):
+        """One row per circuit (see :func:`deviation.frames.per_ampere_frame`)."""
+        from .frames import per_ampere_frame
+
+        return per_ampere_frame((self,))
+
 
 def _largest(base, vectors, reversing, heel, pitch):
     """Largest level horizontal part (with heel and pitch) over the switchings, exactly."""
@@ -385,18 +401,17 @@ def _largest(base, vectors, reversing, heel, pitch):
 
 def _departures(base, vectors, reversing, bound, site, heel, pitch):
     """Largest departure of |F + b| and of the inclination from the model's, over headings,
-    attitudes and switchings (every switching up to the enumeration limit, else the sign-split
-    candidates), with a bound of unknown direction ``bound`` [T]."""
+    attitudes and switchings (every switching up to the enumeration limit, else the zonotope's
+    vertices, with the safe-side bounds of ``error_over_switchings`` and
+    ``inclination_over_switchings`` in :mod:`deviation.physics.total_field`), with a bound of
+    unknown direction ``bound`` [T]."""
     h, z = site.horizontal_t, site.vertical_t
     total = site.total_t
-    choices, _ = candidate_switchings(vectors, reversing, MAX_SWITCHINGS_ENUMERATED)
-    fields = base[None, :] + choices @ vectors
-    low, high = total_field_error_range(fields, h, z, heel, pitch)
-    field = float(max(np.max(high), -np.min(low))) + bound
-    i_lo, i_hi = inclination_range_deg(fields, h, z, heel, pitch)
+    worst = error_over_switchings(base, vectors, reversing, h, z, heel, pitch)
+    field = max(worst.high, -worst.low) + bound
+    i_lo, i_hi, size = inclination_over_switchings(base, vectors, reversing, h, z, heel, pitch)
     model = np.degrees(np.arctan2(z, h))
-    inclination = float(max(np.max(i_hi) - model, model - np.min(i_lo)))
-    size = float(np.max(np.linalg.norm(fields, axis=-1)))
+    inclination = float(max(i_hi - model, model - i_lo))
     # A field of unknown direction of size beta turns the sensor's field, at least F - |b|
     # long, by at most asin(beta / (F - |b|)).
     if bound > 0:
@@ -494,14 +509,32 @@ def electronic_states(plan, result, site, compensation) -> tuple[ElectronicState
     return tuple(out)
 
 
-def interference_grade(states) -> Grade | None:
-    """The grade of the largest interference over the states the sensor is used in."""
+def grade_of(result, states) -> Grade | None:
+    """The grade of a vector sensor from its check result and its electronic states.
+
+    Within as installed when the check holds it within its budget in every state it is used
+    in; else within compensated when the figure current compensation leaves is within the
+    budget in every used state; else over. No borrowed thresholds: the only limit is the
+    sensor's own budget.
+    """
     used = [s for s in states if s.used] or list(states)
     if not used:
         return None
-    worst = max(used, key=lambda s: s.interference_fraction)
-    fraction = float(worst.interference_fraction)
-    return Grade(grade_of(fraction), fraction, worst.state)
+    worst = result.worst
+    loudest = max(used, key=lambda s: s.interference_fraction)
+    compensated = [s for s in used if s.compensated_deg is not None]
+    after = max(compensated, key=lambda s: s.compensated_deg) if compensated else None
+    budget = result.sensor.budget
+    if result.within_budget:
+        standing = Standing.WITHIN
+    elif after is not None and after.compensated_deg <= budget.value:
+        standing = Standing.WITHIN_COMPENSATED
+    else:
+        standing = Standing.OVER
+    return Grade(standing, worst.held, worst.state,
+                 None if after is None else float(after.compensated_deg),
+                 None if after is None else after.state, float(loudest.interference_fraction),
+                 loudest.state)
 
 
 def electronic_sensor(analysis, result) -> ElectronicSensor:
@@ -516,7 +549,7 @@ def electronic_sensor(analysis, result) -> ElectronicSensor:
         items = equipment_fields(plan, sensor, sensor.position_m[None, :], site.horizontal_t)
         compensation = fit_compensation(plan, sensor, result.unit_fields_t, items.oriented[0])
     states = electronic_states(plan, result, site, compensation)
-    return ElectronicSensor(sensor, rows, compensation, interference_grade(states), states,
+    return ElectronicSensor(sensor, rows, compensation, grade_of(result, states), states,
                             result.states)
 
 
@@ -528,15 +561,16 @@ def electronic_report(analysis, sensor_name: str | None = None) -> tuple[Electro
 
 
 def is_acceptable(report: ElectronicSensor) -> bool:
-    """No "move" grade, every used state within the model tolerances, and for a total-field
-    magnetometer every used state within budget_nt."""
+    """Within its budget (as installed, or with the current compensation its host can learn),
+    every used state within the model tolerances; a total-field magnetometer within its budget
+    in every used state."""
     if report.sensor.kind == TOTAL_FIELD_KIND:
         return all(s.within_budget for s in report.state_results if s.used)
-    return (report.grade is None or report.grade.grade != "move") and all(
+    return (report.grade is None or report.grade.standing is not Standing.OVER) and all(
         s.model_ok for s in report.states if s.used)
 
 
 __all__ = ["AxesError", "Compensation", "ElectronicSensor", "ElectronicState", "Grade",
            "PerAmpere", "circuit_fields_t", "electronic_report", "electronic_sensor",
-           "electronic_states", "fit_compensation", "grade_of", "interference_grade",
+           "electronic_states", "fit_compensation", "grade_of", "Standing",
            "is_acceptable", "measured_matrix", "parse_axes", "per_ampere_rows", "sensor_axes"]

@@ -13,6 +13,26 @@ def _pandas():
     return pandas
 
 
+def _frame(rows, columns=None):
+    """A DataFrame of ``rows`` (dicts) in which a figure that does not apply (None) is pandas'
+    missing value ``<NA>`` in a nullable float column, never NaN: a NaN in a frame would be a
+    figure that broke, and tests look for it (docs/robustness.md)."""
+    import numpy as np
+
+    pandas = _pandas()
+    frame = pandas.DataFrame(rows, columns=columns)
+    for column in frame.columns:
+        values = [row.get(column) for row in rows]
+        numbers = [v for v in values if v is not None]
+        if len(numbers) < len(values) and all(
+                isinstance(v, (int, float, np.integer, np.floating)) and not isinstance(v, bool)
+                for v in numbers):
+            data = np.array([0.0 if v is None else float(v) for v in values])
+            mask = np.array([v is None for v in values], dtype=bool)
+            frame[column] = pandas.arrays.FloatingArray(data, mask)
+    return frame
+
+
 def summary_frame(analysis):
     """One row per sensor and state: the held figure and the figures behind it."""
     rows = []
@@ -37,7 +57,7 @@ def summary_frame(analysis):
                 "equipment_bound_ut": st.equipment_bound_t * 1e6,
                 "total_field_error_nt": (None if st.total_field_error_t is None
                                          else st.total_field_error_t * 1e9)})
-    return _pandas().DataFrame(rows)
+    return _frame(rows)
 
 
 def runs_frame(analysis):
@@ -68,7 +88,7 @@ def runs_frame(analysis):
                              "held": e.held, "unit": s.budget.unit.value,
                              "share_of_budget": s.budget.share(e.held), "bound": e.bound,
                              "bound_ut": e.bound_t * 1e6})
-    return _pandas().DataFrame(rows)
+    return _frame(rows)
 
 
 def remedies_frame(analysis):
@@ -78,11 +98,95 @@ def remedies_frame(analysis):
     rows = [{c: result.sensor.budget.unit.value if c == "unit" else getattr(m, c)
              for c in columns}
             for result in analysis.sensors for st in result.states for m in st.remedies]
-    return _pandas().DataFrame(rows, columns=columns)
+    return _frame(rows, columns)
 
 
 def findings_frame(analysis):
     """One row per rule finding."""
     columns = ["sensor", "state", "rule", "subject", "distance_m", "limit_m", "fraction"]
     rows = [{c: getattr(f, c) for c in columns} for f in analysis.findings]
-    return _pandas().DataFrame(rows, columns=columns)
+    return _frame(rows, columns)
+
+
+def verdict_frame(analysis):
+    """One row per sensor: its budget with its unit, the held figure in each state (NaN-free:
+    every state has one) and its status, the verdict; what a notebook shows for a result."""
+    rows = []
+    for result in analysis.sensors:
+        s = result.sensor
+        row = {"sensor": s.name, "kind": s.kind, "budget": s.budget.value,
+               "unit": s.budget.unit.value}
+        for st in result.states:
+            row[st.state] = st.held
+            row[f"{st.state} status"] = st.status.value
+        row["status"] = result.status.value
+        row["over_in"] = ", ".join(result.over_in)
+        rows.append(row)
+    return _frame(rows)
+
+
+def electronic_frame(reports):
+    """One row per electronic sensor and state: interference [µT] and as a share of F, what
+    current compensation leaves [µT, deg], the departures from the model, the model check; for
+    a total-field magnetometer its errors [nT]."""
+    rows = []
+    for report in reports:
+        s = report.sensor
+        if report.states:
+            for st in report.states:
+                rows.append({
+                    "sensor": s.name, "kind": s.kind, "state": st.state, "used": st.used,
+                    "interference_ut": st.interference_t * 1e6,
+                    "percent_of_total_field": st.interference_fraction * 100,
+                    "compensated_horizontal_ut": (None if st.compensated_horizontal_t is None
+                                                  else st.compensated_horizontal_t * 1e6),
+                    "compensated_deg": st.compensated_deg,
+                    "unknown_ut": st.unknown_t * 1e6,
+                    "field_departure_ut": st.field_departure_t * 1e6,
+                    "inclination_departure_deg": st.inclination_departure_deg,
+                    "model_check_ok": st.model_ok,
+                    "standing": None if report.grade is None else report.grade.standing.value})
+        else:
+            for st in report.state_results:
+                rows.append({
+                    "sensor": s.name, "kind": s.kind, "state": st.state, "used": st.used,
+                    "total_field_low_nt": st.total_field_low_t * 1e9,
+                    "total_field_high_nt": st.total_field_high_t * 1e9,
+                    "total_field_error_nt": st.total_field_error_t * 1e9,
+                    "heading_peak_to_peak_nt": st.heading_peak_to_peak_t * 1e9,
+                    "status": st.status.value})
+    return _frame(rows)
+
+
+def per_ampere_frame(reports):
+    """One row per electronic sensor and circuit: its field per ampere in the vessel's and the
+    sensor's axes [µT/A], its size and the size of its part of unknown direction."""
+    rows = []
+    for report in reports:
+        for row in report.per_ampere:
+            vessel, own = row.vessel_t_per_a * 1e6, row.sensor_t_per_a * 1e6
+            rows.append({
+                "sensor": report.sensor.name, "circuit": row.circuit,
+                "switching": row.switching, "peak_current_a": row.peak_current_a,
+                "vessel_x_ut_per_a": vessel[0], "vessel_y_ut_per_a": vessel[1],
+                "vessel_z_ut_per_a": vessel[2], "sensor_x_ut_per_a": own[0],
+                "sensor_y_ut_per_a": own[1], "sensor_z_ut_per_a": own[2],
+                "size_ut_per_a": row.size_t_per_a * 1e6,
+                "unknown_ut_per_a": row.unknown_t_per_a * 1e6})
+    return _frame(rows)
+
+
+def area_frame(area):
+    """One row per place and sensor: the place, its field, the sensor's worst held figure
+    there (in its budget's unit) and its status."""
+    rows = []
+    for place in area.places:
+        for result in place.analysis.sensors:
+            rows.append({
+                "place": place.name, "latitude_deg": place.latitude_deg,
+                "longitude_deg": place.longitude_deg,
+                "horizontal_ut": place.site.horizontal_t * 1e6,
+                "vertical_ut": place.site.vertical_t * 1e6, "sensor": result.sensor.name,
+                "held": result.worst.held, "unit": result.sensor.budget.unit.value,
+                "worst_state": result.worst.state, "status": result.status.value})
+    return _frame(rows)

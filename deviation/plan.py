@@ -13,7 +13,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from .errors import DeviationError, UnknownSensorError
+from .errors import DeviationError, Problem, UnknownSensorError
 from .physics.routing import RunGeometry
 from .quantities import Budget
 from .schema import SAFE_DISTANCE_FOR, SENSOR_KINDS  # noqa: F401  (re-exported)
@@ -45,13 +45,18 @@ def name_key(name) -> str:
 
 @dataclass(frozen=True)
 class Finding:
-    """One problem in a plan, located by file, sheet, row and column."""
+    """One problem in a plan or a readings sheet, located by file, sheet, row and column.
+
+    ``kind`` says what is wrong (:class:`~deviation.errors.Problem`; None where no kind is
+    given), so code can act on a finding without reading its message.
+    """
 
     file: str
     sheet: str | None
     row: int | None
     column: str | None
     message: str
+    kind: Problem | None = None
 
     def __str__(self):
         where = [self.sheet] if self.sheet else []
@@ -64,10 +69,18 @@ class Finding:
 
 
 class PlanError(DeviationError):
-    """A plan with problems; ``findings`` lists all of them, each located."""
+    """A plan with problems; ``findings`` lists all of them, each located.
+
+    With a single finding, the error's own ``sheet``, ``row``, ``column`` and ``kind`` are that
+    finding's.
+    """
 
     def __init__(self, findings):
         self.findings = tuple(findings)
+        if len(self.findings) == 1:
+            only = self.findings[0]
+            self.sheet, self.row, self.column, self.kind = (only.sheet, only.row, only.column,
+                                                            only.kind)
         super().__init__("\n".join(str(f) for f in self.findings))
 
 
@@ -85,6 +98,10 @@ class Site:
     # Further places of the operating area: (name, latitude_deg, longitude_deg), from the site
     # sheet's "place" rows; the area command evaluates the plan at each of them too.
     places: tuple[tuple[str, float, float], ...] = ()
+    # Who and what the reports are for (the site sheet's vessel, owner and installer rows).
+    vessel: str | None = None
+    owner: str | None = None
+    installer: str | None = None
 
 
 @dataclass(frozen=True)
@@ -247,6 +264,43 @@ class Plan:
         for name in ("runs", "state_names", "circuits", "sensors", "equipment", "spots",
                      "points"):
             object.__setattr__(self, name, tuple(getattr(self, name)))
+        findings = consistency_findings(self)
+        if findings:
+            raise PlanError(findings)
+
+    def __repr__(self) -> str:
+        count = [f"{len(self.runs)} run{'s' * (len(self.runs) != 1)}",
+                 f"{len(self.circuits)} circuit{'s' * (len(self.circuits) != 1)}",
+                 f"{len(self.state_names)} state{'s' * (len(self.state_names) != 1)}",
+                 f"{len(self.sensors)} sensor{'s' * (len(self.sensors) != 1)}"]
+        if self.equipment:
+            count.append(f"{len(self.equipment)} equipment item"
+                         f"{'s' * (len(self.equipment) != 1)}")
+        return f"<Plan {self.source!r}: {', '.join(count)}>"
+
+    def _repr_html_(self) -> str:
+        import html
+
+        rows = "".join(
+            f"<tr><td>{html.escape(s.name)}</td><td>{html.escape(s.kind)}</td>"
+            f"<td>{html.escape(str(s.budget))}</td>"
+            f"<td>{html.escape(s.reference_state or '')}</td></tr>" for s in self.sensors)
+        states = ", ".join(html.escape(s) for s in self.state_names)
+        return (f"<p><b>Plan</b> {html.escape(self.source)}: {len(self.runs)} runs, "
+                f"{len(self.circuits)} circuits, states: {states}</p>"
+                "<table><tr><th>sensor</th><th>kind</th><th>budget</th>"
+                f"<th>reference state</th></tr>{rows}</table>")
+
+    def to_tables(self) -> dict:
+        """The plan as pandas DataFrames, one per sheet, in the workbook's layout and the plan's
+        own units and names (what ``new --from`` writes); ``plan_from_tables`` reads them back to
+        the same plan. Sheets with no rows are left out."""
+        import pandas
+
+        from .template import plan_rows
+
+        return {sheet: pandas.DataFrame(rows[1:], columns=rows[0])
+                for sheet, rows in plan_rows(self).items() if len(rows) > 1}
 
     @property
     def imperial(self) -> bool:
@@ -289,6 +343,64 @@ class Plan:
         states (independent circuits off)."""
         base = self.circuit_currents_a * ~self.independent[:, None]
         return self.circuit_matrix @ base
+
+
+def consistency_findings(plan) -> list[Finding]:
+    """What makes a plan unusable, each located by sheet, row and column: a run that cannot be
+    routed (too few waypoints, a paired or twisted run with no spacing, a twisted one with no
+    lay, a separate return with no route), a run naming a circuit the plan lacks, currents that
+    do not match the states, a sensor or item naming a state the plan lacks.
+
+    The reader finds all of these first, with better words; this is the safety net for plans
+    made or changed in Python (``dataclasses.replace``), so that a what-if never fails inside
+    routing with a TypeError.
+    """
+    out: list[Finding] = []
+
+    def add(sheet, row, column, message):
+        out.append(Finding(plan.source, sheet, row, column, message))
+
+    circuits = {name_key(c.name) for c in plan.circuits}
+    states = set(plan.state_names)
+    for run in plan.runs:
+        g = run.geometry
+        if len(np.asarray(g.route_m).reshape(-1, 3)) < 2:
+            add("runs", run.row, "route", f'run "{run.name}": a route needs at least two '
+                "waypoints")
+        if g.return_kind not in ("paired", "twisted", "separate", "none"):
+            add("runs", run.row, "return", f'run "{run.name}": "{g.return_kind}" is not a return '
+                "kind; expected one of paired, twisted, separate, none")
+        if g.return_kind in ("paired", "twisted") and not (g.spacing_m and g.spacing_m > 0):
+            add("runs", run.row, "spacing", f'run "{run.name}": a {g.return_kind} run needs a '
+                "spacing of more than zero")
+        if g.return_kind == "twisted" and not (g.lay_m and g.lay_m > 0):
+            add("runs", run.row, "lay", f'run "{run.name}": a twisted run needs a lay length of '
+                "more than zero")
+        if g.return_kind == "separate" and (
+                g.return_route_m is None or len(np.asarray(g.return_route_m).reshape(-1, 3)) < 2):
+            add("runs", run.row, "return_route", f'run "{run.name}": a separate return needs '
+                "its own route of at least two waypoints")
+        for name in run.circuits:
+            if name_key(name) not in circuits:
+                add("runs", run.row, "circuits", f'run "{run.name}": circuit "{name}" is not in '
+                    "the plan")
+    for circuit in plan.circuits:
+        if np.shape(circuit.currents_a) != (len(plan.state_names),):
+            add("states", circuit.row, "circuit", f'circuit "{circuit.name}": '
+                f"{np.size(circuit.currents_a)} currents for {len(plan.state_names)} states")
+    for sensor in plan.sensors:
+        for state in ((sensor.reference_state,) if sensor.reference_state else ()) + tuple(
+                sensor.used_in or ()):
+            if state not in states:
+                add("sensors", sensor.row, "reference_state" if state ==
+                    sensor.reference_state else "used_in",
+                    f'sensor "{sensor.name}": "{state}" is not a state of the plan')
+    for item in plan.equipment:
+        for state in item.states or ():
+            if state not in states:
+                add("equipment", item.row, "states",
+                    f'item "{item.name}": "{state}" is not a state of the plan')
+    return out
 
 
 _ROUTED: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()

@@ -7,19 +7,27 @@ only ever opened for reading.
 
 from __future__ import annotations
 
-import csv
 import datetime as dt
 import difflib
 import math
 import re
-import zipfile
-from dataclasses import dataclass, field, replace
+from collections.abc import Mapping
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
 
 from . import units
-from .constants import WMM_VALID_FROM, WMM_VALID_UNTIL
+from .constants import (
+    MAX_COORDINATE_M,
+    MAX_CURRENT_A,
+    MAX_LENGTH_M,
+    MAX_MOMENT_AM2,
+    MAX_SAFE_DISTANCE_M,
+    WMM_VALID_FROM,
+    WMM_VALID_UNTIL,
+)
+from .errors import Problem
 from .physics.geomag import decimal_year
 from .physics.routing import CHORDS_PER_LAY, RunGeometry
 from .plan import (
@@ -33,7 +41,6 @@ from .plan import (
     Run,
     Sensor,
     Site,
-    conductors_of,
     frozen_array,
     name_key,
 )
@@ -46,376 +53,109 @@ from .schema import (
     SENSOR_KINDS,
     SHEETS,
     SITE_SETTINGS,
+    SITE_TEXT_SETTINGS,
     STATES_TEXT_COLUMNS,
     SWITCHING,
     TOTAL_FIELD_KIND,
     VECTOR_ELECTRONIC_KINDS,
     columns_of,
 )
+from .sheets import (
+    EXAMPLE_MARK,
+    MAX_ROWS,
+    Collector,
+    Found,
+    Raw,
+    Sheet,
+    dash_hint,
+    grid_from_table,
+    is_example_row,
+    missing_sheet_message,
+    plan_canonical,
+    read_folder,
+    read_workbook,
+    spreadsheet_date_message,
+    table,
+    visible,
+)
 
-#: Rows per sheet beyond which a plan is refused (a wiring plan has hundreds, not millions).
-MAX_ROWS = 20_000
 #: Straight segments one run, and a whole plan, may need (a 100 m twisted run of 5 mm lay is
 #: 480 000; 10 million segments take about 0.7 GB).
 MAX_SEGMENTS_PER_RUN = 2_000_000
 MAX_SEGMENTS = 10_000_000
-#: Largest uncompressed size of a workbook and of one member, and largest expansion ratio, checked
-#: before parsing (a plan of 20 000 rows is a few MB).
-MAX_UNZIPPED_BYTES = 100 * 1024 * 1024
-MAX_MEMBER_BYTES = 50 * 1024 * 1024
-MAX_ZIP_RATIO = 200
 
 COLUMNS = {name: columns_of(name) for name in SHEETS if name != "states"}
+#: Each sheet's known columns, to tell a header of one column from a wrong separator.
+KNOWN_COLUMNS = {name: tuple(spec["known"]) for name, spec in COLUMNS.items()}
+KNOWN_COLUMNS["states"] = ("circuit",)
 
-
-def canonical(name) -> str:
-    """Sheet and column names: case-insensitive, surrounding spaces ignored, inner spaces as _."""
-    return re.sub(r"[\s_]+", "_", str(name).strip().lower())
-
+canonical = plan_canonical
 
 #: Names of runs, points, circuits, states, sensors: compared case- and space-insensitively.
 key = name_key
 
-
-@dataclass
-class Sheet:
-    name: str
-    label: str
-    columns: dict            # canonical column -> header text
-    rows: list               # (row number, {canonical column: value})
-    state_columns: list      # for the states sheet: (canonical, header text) in order
-    examples: list = field(default_factory=list)   # row numbers of template examples, skipped
-
-
-class _Collector:
-    def __init__(self, file):
-        self.file = file
-        self.findings = []
-        self._dependent = set()      # ids of findings that follow from one already reported
-
-    def add(self, sheet, row, column, message):
-        self.findings.append(Finding(self.file, sheet, row, column, message))
-
-    def add_dependent(self, sheet, row, column, message):
-        """A problem that only follows from one reported elsewhere (a row using a bad point):
-        it stops the row like any finding, but is not shown, so the cause is reported once."""
-        self.add(sheet, row, column, message)
-        self._dependent.add(id(self.findings[-1]))
-
-    def shown(self):
-        """The findings to report: all but the dependent ones."""
-        return [f for f in self.findings if id(f) not in self._dependent]
-
-
-# Reading the raw sheets ---------------------------------------------------------------------------
-
-def _blank(value):
-    return value is None or (isinstance(value, str) and value.strip() == "")
-
-
-def _clean(value):
-    if isinstance(value, str):
-        value = value.strip()
-        return None if value == "" else value
-    return value
-
-
-def _table(name, label, grid, first_row, collector):
-    """A sheet from a grid of cells (list of rows), the header in the first non-empty row."""
-    rows = [(first_row + i, r) for i, r in enumerate(grid)]
-    rows = [(n, r) for n, r in rows if any(not _blank(c) for c in r)]
-    if not rows:
-        collector.add(name, None, None, "the sheet is empty; it needs a header row")
-        return None
-    header_row, header = rows[0]
-    columns, positions, state_columns = {}, {}, []
-    for index, cell in enumerate(header):
-        if _blank(cell):
-            continue
-        col = canonical(cell)
-        if col in columns:
-            collector.add(name, header_row, str(cell).strip(), "this column appears twice")
-            continue
-        columns[col] = str(cell).strip()
-        positions[col] = index
-        # Free-text and switching columns of the states sheet are not operating states.
-        if name == "states" and index > 0 and col not in STATES_TEXT_COLUMNS:
-            state_columns.append((col, str(cell).strip()))
-    data, examples = [], []
-    for number, cells in rows[1:]:
-        if is_example_row(cells):
-            examples.append(number)
-            continue
-        values = {col: _clean(cells[i]) if i < len(cells) else None for col, i in positions.items()}
-        if name == "states" and header and not _blank(header[0]):
-            values["circuit"] = _clean(cells[0]) if cells else None
-        data.append((number, values))
-    if len(data) > MAX_ROWS:
-        collector.add(name, None, None, f"{len(data)} rows is more than the {MAX_ROWS} a plan may "
-                      "have; split the plan or remove empty formatted rows")
-        return None
-    return Sheet(name, label, columns, data, state_columns, examples)
-
-
-#: The template's worked examples begin their first cell with this (any case, spaces ignored);
-#: such rows are never read as data (docs/plan-format.md, docs/robustness.md).
-EXAMPLE_MARK = "e.g."
-_EXAMPLE = re.compile(r"^\s*e\s*\.\s*g\s*\.", re.I)
-
-
-def is_example_row(cells) -> bool:
-    """Whether a row is one of the template's worked examples: its first cell (column A) is text
-    beginning with "e.g."."""
-    first = cells[0] if len(cells) else None
-    return isinstance(first, str) and _EXAMPLE.match(first) is not None
-
-
-def _check_zip(path, collector):
-    """Refuse, before parsing, what is not a zip or would unpack to far more than a plan needs."""
-    try:
-        with zipfile.ZipFile(path) as archive:
-            members = archive.infolist()
-    except (zipfile.BadZipFile, OSError, ValueError):
-        collector.add(None, None, None, "this is not an .xlsx workbook (not a zip archive); "
-                      "save it from the spreadsheet as .xlsx, or give a folder of .csv sheets")
-        return False
-    unpacked = sum(m.file_size for m in members)
-    packed = max(1, sum(m.compress_size for m in members))
-    largest = max(members, key=lambda m: m.file_size, default=None)
-    if (unpacked > MAX_UNZIPPED_BYTES or (largest and largest.file_size > MAX_MEMBER_BYTES)
-            or (unpacked / packed > MAX_ZIP_RATIO and unpacked > 10e6)):
-        collector.add(None, None, None, f"the workbook would unpack to {unpacked / 1e6:.0f} MB "
-                      f"from {packed / 1e6:.1f} MB; refused as unsafe (a plan needs at most "
-                      f"{MAX_UNZIPPED_BYTES / 1e6:.0f} MB)")
-        return False
-    return True
-
-
-def _root_cause(error):
-    """The innermost cause of an exception, as one short line."""
-    seen = set()
-    while (error.__cause__ or error.__context__) and id(error) not in seen:
-        seen.add(id(error))
-        error = error.__cause__ or error.__context__
-    text = str(error).strip().splitlines()[0] if str(error).strip() else ""
-    text = text if len(text) <= 120 else text[:117] + "..."
-    return f"{error.__class__.__name__}: {text}" if text else error.__class__.__name__
-
-
-def _read_xlsx(path, collector):
-    if not _check_zip(path, collector):
-        return {}
-    import openpyxl  # with defusedxml installed (a dependency), openpyxl parses XML through it
-
-    try:
-        values = openpyxl.load_workbook(path, read_only=False, data_only=True)
-        formulas = openpyxl.load_workbook(path, read_only=False, data_only=False)
-    except Exception as error:  # noqa: BLE001  damaged or hostile files raise many kinds
-        collector.add(None, None, None, f"cannot be read as an .xlsx workbook ({_root_cause(error)})"
-                      "; open and save it again in the spreadsheet")
-        return {}
-    sheets = {}
-    for worksheet in values.worksheets:
-        name = canonical(worksheet.title)
-        if name not in SHEETS:
-            continue
-        if worksheet.max_row > MAX_ROWS + 100:
-            collector.add(name, None, None, f"{worksheet.max_row} rows is more than the {MAX_ROWS} "
-                          "a plan may have; delete the empty formatted rows or split the plan")
-            continue
-        for merged in worksheet.merged_cells.ranges:
-            collector.add(name, merged.min_row, str(worksheet.cell(1, merged.min_col).value or
-                                                    merged.coord),
-                          f"merged cells ({merged.coord}) are not allowed in a plan; unmerge them "
-                          "and fill each cell")
-        grid = [list(r) for r in worksheet.iter_rows(values_only=True)]
-        # Formulas: their saved results are used; one without a saved result cannot be.
-        source = formulas[worksheet.title]
-        header = grid[0] if grid else []
-        for row in source.iter_rows():
-            for cell in row:
-                if cell.data_type == "f" and grid[cell.row - 1][cell.column - 1] is None:
-                    column = header[cell.column - 1] if cell.column - 1 < len(header) else None
-                    collector.add(name, cell.row, str(column or cell.coordinate),
-                                  f"cell {cell.coordinate} holds a formula ({cell.value}) with no "
-                                  "saved result; open and save the workbook in the spreadsheet, "
-                                  "or type the value")
-        sheet = _table(name, worksheet.title, grid, 1, collector)
-        if sheet is not None:
-            sheets[name] = sheet
-    values.close()
-    formulas.close()
-    return sheets
-
-
-def _read_csv_folder(path, collector):
-    """Sheets from a folder of CSV files, each separated by , ; or tab (found from its header)."""
-    import io
-
-    sheets = {}
-    for file in sorted(path.iterdir()):
-        if file.suffix.lower() != ".csv" or canonical(file.stem) not in SHEETS:
-            continue
-        name = canonical(file.stem)
-        if file.stat().st_size > MAX_MEMBER_BYTES:
-            collector.add(name, None, None, f"{file.name} is {file.stat().st_size / 1e6:.0f} MB, "
-                          f"more than a plan's sheet may be ({MAX_MEMBER_BYTES / 1e6:.0f} MB)")
-            continue
-        try:
-            text = file.read_text(encoding="utf-8-sig")
-        except UnicodeDecodeError:
-            collector.add(name, None, None, f"{file.name} is not UTF-8 text; save it as CSV UTF-8")
-            continue
-        try:
-            separator = _csv_separator(text)
-            grid = list(csv.reader(io.StringIO(text, newline=""), delimiter=separator))
-        except csv.Error as error:                  # e.g. a cell beyond the csv module's limit
-            collector.add(name, None, None, f"{file.name} cannot be read as CSV ({error}); save "
-                          "it again from the spreadsheet as CSV")
-            continue
-        if _header_is_one_column(name, file.name, grid, collector):
-            continue
-        if separator == ";":
-            grid = _decimal_commas(name, grid, collector)
-        sheet = _table(name, file.name, grid, 1, collector)
-        if sheet is not None:
-            sheets[name] = sheet
-    return sheets
-
-
-#: Separators a CSV sheet may use, preferred in this order when the header splits equally.
-CSV_SEPARATORS = (",", ";", "\t")
-#: Columns holding positions (x, y, z, or routes of them joined by >) and names or free text;
-#: in a file separated by ";" the other cells may carry decimal commas.
-_POSITION_COLUMNS = ("route", "return_route", "at", "axis")
-_TEXT_COLUMNS = ("run", "circuits", "return", "point", "sensor", "kind", "reference_state", "item",
-                 "safe_distance_for", "states", "spot", "setting", "circuit", "note", "notes",
-                 "comment", "comments")
-# A number with a decimal comma and perhaps a unit: 1,5  -0,75  2,5 mm2  0,9 m  1,5e3
-_DECIMAL_COMMA = re.compile(r"^(\s*[-+]?\d*),(\d+(?:[eE][-+]?\d+)?"
-                            r"\s*(?:[A-Za-z\u00b5\u00b2^'\"]+\d?)?\s*)$")
-
-
-def _csv_separator(text):
-    """The separator of a CSV sheet: whichever of , ; tab splits its header line into most cells."""
-    header = next((line for line in text.splitlines() if line.strip()), "")
-    counts = [len(next(csv.reader([header], delimiter=d), [])) for d in CSV_SEPARATORS]
-    return CSV_SEPARATORS[counts.index(max(counts))]
-
-
-def _header_is_one_column(name, file_name, grid, collector):
-    """A header read as one cell (an unknown separator): one finding saying what was found."""
-    header_at = next((i for i, r in enumerate(grid) if any(not _blank(c) for c in r)), None)
-    if header_at is None:
-        return False
-    cells = [c for c in grid[header_at] if not _blank(c)]
-    if len(cells) != 1 or canonical(cells[0]) in COLUMNS.get(name, {}).get("known", ("circuit",)):
-        return False
-    text = cells[0].strip()
-    shown = text if len(text) <= 80 else text[:77] + "..."
-    marks = [c for c in text if not (c.isalnum() or c.isspace() or c in "_-")]
-    found = max(dict.fromkeys(marks), key=marks.count) if marks else None
-    if found in CSV_SEPARATORS:
-        hint = (f'the file seems to use "{found}" as separator, but the whole header is one quoted '
-                "cell; save the sheet again from the spreadsheet as CSV")
-    elif found:
-        hint = (f'the file seems to use "{found}" as separator; save it with commas, semicolons or '
-                "tabs between cells")
-    else:
-        needs = ", ".join(COLUMNS[name]["required"]) if name in COLUMNS else "circuit and a state"
-        hint = (f"the {name} sheet needs the columns {needs}, separated by commas, semicolons "
-                "or tabs")
-    collector.add(name, header_at + 1, None, f'the header of {file_name} reads as one column '
-                  f'"{shown}"; {hint}')
-    return True
-
-
-def _decimal_commas(name, grid, collector):
-    """Decimal commas of a sheet separated by ";" turned into points, as docs/robustness.md says.
-
-    Number cells: one comma between digits (1,5 or 2,5 mm2) is a decimal comma. Positions (each
-    waypoint): exactly two commas separate x, y, z; with more, the two not between digits
-    separate and those between digits are decimal commas (1,2, 0,5, 0,3); a position whose commas
-    can be read more than one way is reported, and its row is left out (one finding, not a second
-    one for the same cell).
-    """
-    header_at = next((i for i, r in enumerate(grid) if any(not _blank(c) for c in r)), None)
-    if header_at is None:
-        return grid
-    columns = [canonical(c) if not _blank(c) else None for c in grid[header_at]]
-    if name == "states":                            # circuit names, then currents or notes
-        columns = ["circuit"] + [None if c is None else c if c in _TEXT_COLUMNS else "current"
-                                 for c in columns[1:]]
-    out = grid[:header_at + 1]
-    for index, cells in enumerate(grid[header_at + 1:], start=header_at + 1):
-        row = list(cells)
-        for i, cell in enumerate(row):
-            column = columns[i] if i < len(columns) else None
-            if _blank(cell) or column is None or column in _TEXT_COLUMNS:
-                continue
-            if column in _POSITION_COLUMNS:
-                converted = _decimal_comma_position(cell)
-                if converted is None:
-                    collector.add(name, index + 1, column, f'"{cell.strip()}" cannot be read as '
-                                  'x, y, z: in a file separated by ";" a comma is either a decimal '
-                                  "comma or separates coordinates; put a space after each comma "
-                                  "between coordinates (1,2, 0,5, 0,3) or write decimal points "
-                                  "(1.2, 0.5, 0.3)")
-                    row = []
-                    break
-                row[i] = converted
-            else:
-                row[i] = _DECIMAL_COMMA.sub(r"\1.\2", cell)
-        out.append(row)
-    return out
-
-
-def _decimal_comma_position(text):
-    """A position or route with decimal commas written with points; None if it is ambiguous."""
-    waypoints = []
-    for part in text.split(">"):
-        tight = len(re.findall(r"(?<=\d),(?=\d)", part))
-        loose = part.count(",") - tight
-        if tight == 0 or part.count(",") == 2:
-            waypoints.append(part)                  # 1, 2, 3 or 1,2,3 or -1,2,-3 or a point name
-        elif loose == 2:
-            waypoints.append(re.sub(r"(?<=\d),(?=\d)", ".", part))
-        else:
-            return None
-    return ">".join(waypoints)
+# Every sheet is read by deviation.sheets; these names stay importable from here.
+__all__ = ["read_plan", "plan_from_tables", "is_example_row", "EXAMPLE_MARK", "MAX_ROWS",
+           "Sheet", "canonical"]
 
 
 # Cell readers -------------------------------------------------------------------------------------
 
-def _number(value, what, collector, sheet, row, column):
+def _sig(value) -> str:
+    """A number with sensible digits for a message (at most 6 significant: 20000, 1e+300)."""
+    return f"{value:.6g}"
+
+
+def _number(value, what, collector, sheet, row, column, *, limit=None, unit=""):
+    """A finite number, within +-``limit`` [``unit``] if given; None with a finding."""
     if isinstance(value, (dt.date, dt.datetime, dt.time)):
-        shown = value.isoformat()[:10] if isinstance(value, (dt.date, dt.datetime)) else value
-        collector.add(sheet, row, column, f"a date or time ({shown}) is not {what}; format the "
-                      "cell as a number")
+        collector.add(sheet, row, column, spreadsheet_date_message(value), Problem.SPREADSHEET_DATE)
         return None
-    if isinstance(value, bool):
-        collector.add(sheet, row, column, f'"{value}" is not {what}')
+    if isinstance(value, bool) or not isinstance(value, (int, float, str)):
+        collector.add(sheet, row, column, f'"{visible(value)}" is not {what}', Problem.NOT_A_VALUE)
         return None
     try:
-        number = float(str(value).strip()) if isinstance(value, str) else float(value)
-    except (TypeError, ValueError):
-        collector.add(sheet, row, column, f'"{value}" is not {what}')
+        number = float(value.strip()) if isinstance(value, str) else float(value)
+    except (TypeError, ValueError, OverflowError):
+        collector.add(sheet, row, column, dash_hint(value) or f'"{visible(value)}" is not {what}',
+                      Problem.NOT_A_VALUE)
         return None
     if not math.isfinite(number):
-        collector.add(sheet, row, column, f'"{value}" is not {what}')
+        collector.add(sheet, row, column, f'"{visible(value)}" is not {what} (not a finite number)',
+                      Problem.NOT_A_VALUE)
+        return None
+    if limit is not None and abs(number) > limit:
+        collector.add(sheet, row, column, f"{_sig(number)} {unit} is more than the {limit:,.0f} "
+                      f"{unit} any plan has (rule of thumb, no published source); check the digits "
+                      "and the unit", Problem.OUT_OF_RANGE)
         return None
     return number
 
 
-def _length(value, default_unit, collector, sheet, row, column):
-    if isinstance(value, (dt.date, dt.datetime, bool)):
-        collector.add(sheet, row, column, f'"{value}" is not a length')
+def _length(value, default_unit, collector, sheet, row, column, *, limit=MAX_LENGTH_M,
+            what="any length in a plan may be"):
+    """A length [m] within +-``limit``; None with a finding."""
+    if isinstance(value, (dt.date, dt.datetime, dt.time)):
+        collector.add(sheet, row, column, spreadsheet_date_message(value), Problem.SPREADSHEET_DATE)
+        return None
+    if isinstance(value, bool):
+        collector.add(sheet, row, column, f'"{value}" is not a length', Problem.NOT_A_VALUE)
         return None
     try:
-        return units.parse_length(value, default_unit)
-    except units.UnitError as error:
-        collector.add(sheet, row, column, str(error))
+        metres = units.parse_length(value, default_unit)
+    except (units.UnitError, OverflowError) as error:
+        collector.add(sheet, row, column, dash_hint(value) or visible(error), Problem.NOT_A_VALUE)
         return None
+    if abs(metres) > limit:
+        collector.add(sheet, row, column, f'"{visible(value)}" is {_sig(metres)} m, more than the '
+                      f"{_metres(limit)} {what} (rule of thumb, no published source); check "
+                      "the digits and the unit", Problem.OUT_OF_RANGE)
+        return None
+    return metres
+
+
+def _metres(value):
+    return f"{value / 1000:g} km" if value >= 1000 else f"{value:g} m"
 
 
 def _suggest(word, choices):
@@ -427,9 +167,28 @@ def _suggest(word, choices):
 
 
 def _position(text, points, default_unit, collector, sheet, row, column):
-    """A point name or ``x, y, z`` (each may carry a unit)."""
+    """A point name or ``x, y, z`` (each may carry a unit), or a tuple, list or array of three
+    coordinates (numbers in the plan's unit, or texts with units); each coordinate within
+    ``MAX_COORDINATE_M`` of the origin."""
+    if isinstance(text, (tuple, list, np.ndarray)):
+        values = list(np.asarray(text, dtype=object).ravel())
+        shown = "(" + ", ".join(visible(v) for v in values) + ")"
+        if len(values) != 3 or any(isinstance(v, bool) for v in values):
+            collector.add(sheet, row, column, f"{shown} is not x, y, z: a position is three "
+                          "coordinates", Problem.NOT_A_VALUE)
+            return None
+        coords = []
+        for value in values:
+            try:
+                coords.append(units.parse_length(value, default_unit))
+            except (units.UnitError, OverflowError) as error:
+                collector.add(sheet, row, column, f"{shown} is not x, y, z: "
+                              f"{dash_hint(value) or visible(error)}", Problem.NOT_A_VALUE)
+                return None
+        return _within_reach(np.array(coords), shown, collector, sheet, row, column)
     if isinstance(text, (int, float)) and not isinstance(text, bool):
-        collector.add(sheet, row, column, f'"{text}" is not a position; give a point name or x, y, z')
+        collector.add(sheet, row, column, f'"{text}" is not a position; give a point name or '
+                      "x, y, z", Problem.NOT_A_VALUE)
         return None
     text = str(text).strip()
     if key(text) in points:
@@ -444,14 +203,31 @@ def _position(text, points, default_unit, collector, sheet, row, column):
         for part in parts:
             try:
                 coords.append(units.parse_length(part, default_unit))
-            except units.UnitError:
+            except (units.UnitError, OverflowError):
+                hint = dash_hint(part)
+                if hint:
+                    collector.add(sheet, row, column, hint, Problem.NOT_A_VALUE)
+                    return None
                 coords = None
                 break
         if coords is not None:
-            return np.array(coords)
-    collector.add(sheet, row, column, f'"{text}" is neither a point in the points sheet nor '
-                  f'x, y, z{_suggest(text, points.names)}')
+            return _within_reach(np.array(coords), f'"{visible(text)}"', collector, sheet, row,
+                                 column)
+    collector.add(sheet, row, column, f'"{visible(text)}" is neither a point in the points sheet '
+                  f"nor x, y, z{_suggest(text, points.names)}",
+                  Problem.UNKNOWN_NAME if len(parts) != 3 else Problem.NOT_A_VALUE)
     return None
+
+
+def _within_reach(position_m, shown, collector, sheet, row, column):
+    """A position whose coordinates lie within ``MAX_COORDINATE_M`` of the origin, else None."""
+    if np.abs(position_m).max() > MAX_COORDINATE_M:
+        collector.add(sheet, row, column, f"{shown} lies {_sig(np.abs(position_m).max())} m from "
+                      f"the plan's origin, more than the {_metres(MAX_COORDINATE_M)} a plan's "
+                      "points may lie (rule of thumb, no published source); check the digits and "
+                      "the unit", Problem.OUT_OF_RANGE)
+        return None
+    return position_m
 
 
 class _Points(dict):
@@ -470,7 +246,8 @@ def _check_columns(sheet, collector):
         if col not in sheet.columns:
             close = difflib.get_close_matches(col, list(sheet.columns), n=1, cutoff=0.6)
             hint = f'; is "{sheet.columns[close[0]]}" meant to be it?' if close else ""
-            collector.add(sheet.name, None, col, f"the required column is missing{hint}")
+            collector.add(sheet.name, None, col, f"the required column is missing{hint}",
+                          Problem.MISSING)
             ok = False
     return ok
 
@@ -492,6 +269,12 @@ def _read_site(sheet, collector):
             if name == "place":             # a place of the operating area: one row each
                 place_rows.append((number, row.get("value"), row.get("note")))
                 continue
+            if name in rows and row.get("value") is None:
+                continue                    # a blank row (the template's) beside a filled one
+            if name in rows and values[name] is not None:
+                collector.add("site", number, "setting", f"{name} is given twice (rows "
+                              f"{rows[name]} and {number}); keep one", Problem.DUPLICATE)
+                continue
             values[name], rows[name] = row.get("value"), number
             if row.get("note") is not None:
                 notes.append((name, str(row["note"])))
@@ -501,7 +284,8 @@ def _read_site(sheet, collector):
             return None
         got = _number(values[name], what, collector, "site", rows[name], "value")
         if got is not None and not low <= got <= high:
-            collector.add("site", rows[name], "value", f"{name} {got:g} is outside {low:g} to {high:g}")
+            collector.add("site", rows[name], "value", f"{name} {_sig(got)} is outside {low:g} to "
+                          f"{high:g}", Problem.OUT_OF_RANGE)
             return None
         return got
 
@@ -527,21 +311,31 @@ def _read_site(sheet, collector):
             year, date_text = decimal_year(raw_date), raw_date.strftime("%Y-%m-%d")
         elif isinstance(raw_date, (int, float)) or re.fullmatch(r"\d{4}(\.\d+)?", str(raw_date)):
             year, date_text = float(raw_date), f"{float(raw_date):.2f}"
+            if not math.isfinite(year):
+                raise ValueError(raw_date)
         else:
             year, date_text = decimal_year(str(raw_date)), str(raw_date)
     except ValueError:
-        collector.add("site", rows.get("date"), "value", f'"{raw_date}" is not a date '
-                      "(YYYY-MM-DD or a decimal year such as 2027.5)")
+        collector.add("site", rows.get("date"), "value", f'"{visible(raw_date)}" is not a date '
+                      "(YYYY-MM-DD or a decimal year such as 2027.5)", Problem.NOT_A_VALUE)
         year, date_text = decimal_year(dt.date.today()), dt.date.today().isoformat()
     if horizontal is None and not WMM_VALID_FROM <= year <= WMM_VALID_UNTIL:
+        # The date as the plan gives it: a decimal year rounded for display could fall inside
+        # the span it is refused for (2024-12-31 is 2024.997).
+        given = (date_text if raw_date is None or isinstance(raw_date, (dt.date, dt.datetime))
+                 else visible(str(raw_date).strip()))
+        when = "before" if year < WMM_VALID_FROM else "after"
         collector.add("site", rows.get("date"), "value" if "date" in rows else None,
-                      f"{year:.2f} is outside the validity of WMM-2025 ({WMM_VALID_FROM:.1f}-"
-                      f"{WMM_VALID_UNTIL:.1f}); give the site's field from a measurement or a "
-                      "current model instead")
+                      f"the date {given} is {when} the span WMM-2025 is valid for (from "
+                      f"{int(WMM_VALID_FROM)}-01-01 up to {int(WMM_VALID_UNTIL)}-01-01); give the "
+                      "site's field from a measurement (horizontal_field_ut) or a current model "
+                      "instead", Problem.OUT_OF_RANGE)
     places = tuple(p for p in (_place(number, value, note, collector)
                                for number, value, note in place_rows) if p is not None)
+    text = {name: str(values[name]).strip() or None for name in SITE_TEXT_SETTINGS
+            if values.get(name) is not None}
     return Site(unit, latitude, longitude, year, date_text, altitude, horizontal, vertical,
-                tuple(notes), places=places)
+                tuple(notes), places=places, **text)
 
 
 def _place(number, value, note, collector):
@@ -581,7 +375,8 @@ def _read_points(sheet, unit, collector):
                 collector.add("points", number, axis, "a length is needed")
                 coords = None
                 break
-            value = _length(row[axis], unit, collector, "points", number, axis)
+            value = _length(row[axis], unit, collector, "points", number, axis,
+                            limit=MAX_COORDINATE_M, what="a point may lie from the plan's origin")
             coords = None if value is None or coords is None else coords + [value]
         if coords is not None:
             points[key(name)] = np.array(coords)
@@ -617,7 +412,8 @@ def _read_states(sheet, collector):
         for col, label in sheet.state_columns:
             cell = row.get(col)
             values.append(0.0 if cell is None else
-                          _number(cell, "a current in amperes", collector, "states", number, label))
+                          _number(cell, "a current in amperes", collector, "states", number, label,
+                                  limit=MAX_CURRENT_A, unit="A"))
         # A bad cell is reported above; the circuit stays known so runs naming it find it.
         currents[key(circuit)] = np.array([0.0 if v is None else v for v in values], dtype=float)
         names[key(circuit)] = str(circuit)
@@ -632,15 +428,35 @@ def _unique_name(row, column, what, seen, collector, sheet, number):
 
     ``seen`` holds the keys of the names met so far in the sheet; the name is added to it.
     """
-    name = row.get(column)
+    name = _name(row.get(column), what, collector, sheet, number, column)
     if name is None:
-        collector.add(sheet, number, column, f"the {what} has no name")
         return None
     if key(name) in seen:
-        collector.add(sheet, number, column, f'"{name}" is named twice')
+        collector.add(sheet, number, column, f'"{visible(name)}" is named twice',
+                      Problem.DUPLICATE)
         return None
     seen.add(key(name))
-    return str(name)
+    return name
+
+
+#: Texts that programs write for a missing value, never a name.
+MISSING_WORDS = ("nan", "none", "null", "nat", "<na>")
+
+
+def _name(value, what, collector, sheet, number, column):
+    """A name from a cell: text (or a number, read as written); None with a finding when blank
+    or a placeholder for a missing value."""
+    if value is None:
+        collector.add(sheet, number, column, f"the {what} has no name", Problem.MISSING)
+        return None
+    if not isinstance(value, (str, int, float)) or isinstance(value, bool):
+        collector.add(sheet, number, column, f'"{visible(value)}" is not a name', Problem.NOT_A_VALUE)
+        return None
+    if str(value).strip().lower() in MISSING_WORDS:
+        collector.add(sheet, number, column, f'"{visible(value)}" is what a program writes for a '
+                      f"missing value, not a name; give the {what} a name", Problem.NOT_A_VALUE)
+        return None
+    return str(value)
 
 
 def _choice(value, choices, default, collector, sheet, row, column, what):
@@ -651,8 +467,8 @@ def _choice(value, choices, default, collector, sheet, row, column, what):
     for choice in choices:
         if key(choice) == wanted or key(choice).replace(",", "") == wanted.replace(",", ""):
             return choice
-    collector.add(sheet, row, column, f'"{value}" is not {what}; expected one of '
-                  f'{", ".join(choices)}{_suggest(str(value), choices)}')
+    collector.add(sheet, row, column, f'"{visible(value)}" is not {what}; expected one of '
+                  f'{", ".join(choices)}{_suggest(str(value), choices)}', Problem.NOT_A_VALUE)
     return default
 
 
@@ -677,16 +493,17 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
         kind = row.get("return")
         kind = key(kind) if kind is not None else None
         if kind not in RETURN_KINDS:
-            given = "nothing" if kind is None else f'"{row.get("return")}"'
+            given = "nothing" if kind is None else f'"{visible(row.get("return"))}"'
             collector.add("runs", number, "return", f"{given} is not a return kind; expected one of "
-                          f'{", ".join(RETURN_KINDS)}{_suggest(kind or "", RETURN_KINDS)}')
+                          f'{", ".join(RETURN_KINDS)}{_suggest(kind or "", RETURN_KINDS)}',
+                          Problem.MISSING if kind is None else Problem.NOT_A_VALUE)
         size_label, radius, default_spacing, bare = None, 0.0, None, None
         if row.get("size") is not None:
             try:
                 size_label, bare, outer = units.conductor_size(row["size"])
                 radius, default_spacing = outer / 2, outer
             except units.UnitError as error:
-                collector.add("runs", number, "size", str(error))
+                collector.add("runs", number, "size", visible(error), Problem.NOT_A_VALUE)
         spacing = lay = back = None
         if kind in ("paired", "twisted"):
             if row.get("spacing") is not None:
@@ -727,7 +544,7 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
                 collector.add("runs", number, "current_a", "the run's current in amperes is needed")
             else:
                 value = _number(row["current_a"], "a number of amperes", collector, "runs", number,
-                                "current_a")
+                                "current_a", limit=MAX_CURRENT_A, unit="A")
                 run_current = np.array([value if value is not None else 0.0])
         elif row.get("circuits") is None:
             collector.add("runs", number, "circuits", "name the circuit(s) this run carries, "
@@ -736,8 +553,10 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
             circuits = tuple(c.strip() for c in str(row["circuits"]).split(";") if c.strip())
             for circuit in circuits:
                 if key(circuit) not in circuit_currents:
-                    collector.add("runs", number, "circuits", f'circuit "{circuit}" is not in the '
-                                  f"states sheet{_suggest(circuit, list(circuit_names.values()))}")
+                    collector.add("runs", number, "circuits", _listed_with_commas(
+                        circuit, circuit_names.values(), "circuit") or f'circuit '
+                        f'"{visible(circuit)}" is not in the states sheet'
+                        f"{_suggest(circuit, list(circuit_names.values()))}", Problem.UNKNOWN_NAME)
                 else:
                     run_current = run_current + circuit_currents[key(circuit)]
         if bare is not None and len(run_current):
@@ -766,13 +585,19 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
         geometry = RunGeometry(name, route, kind, back, spacing, lay, radius, ends)
         length = np.linalg.norm(np.diff(route, axis=0), axis=1).sum()
         if length == 0:
-            collector.add("runs", number, "route", "the route has no length (all waypoints coincide)")
+            collector.add("runs", number, "route", "the route has no length (all waypoints coincide)",
+                          Problem.NOT_A_VALUE)
+            continue
+        if not _fits_the_run(geometry, length, site.units, collector, number):
             continue
         segments = _segment_estimate(geometry, length)
         if segments > MAX_SEGMENTS_PER_RUN:
+            lay_mm = f"{lay * 1000:.1f}" if lay >= 1e-4 else _sig(lay * 1000)
+            count = f"{segments:,.0f}" if segments < 1e12 else f"{segments:.3g}"
             collector.add("runs", number, "lay", f"a twisted run of {length:.1f} m with a "
-                          f"{lay * 1000:.1f} mm lay needs {segments:,.0f} segments, more than the "
-                          f"{MAX_SEGMENTS_PER_RUN:,} a run may have; check the lay and the route")
+                          f"{lay_mm} mm lay needs {count} segments, more than the "
+                          f"{MAX_SEGMENTS_PER_RUN:,} a run may have; check the lay and the route",
+                          Problem.TOO_LARGE)
             continue
         runs.append(Run(name, circuits, geometry, size_label, str(row.get("note") or ""), number,
                         lie))
@@ -783,6 +608,36 @@ def _read_runs(sheet, site, points, circuit_currents, n_states, circuit_names, c
                       f"more than the {MAX_SEGMENTS:,} a plan may have (twisted runs take "
                       f"{CHORDS_PER_LAY * 2} per lay length); check the lay lengths")
     return runs, np.array(currents).reshape(len(runs), n_states)
+
+
+def _fits_the_run(geometry, length_m, plan_unit, collector, row):
+    """A pair spacing no longer than its run, and untwisted ends that leave some of it twisted."""
+    shown = units.format_length
+    if geometry.spacing_m is not None and geometry.spacing_m > length_m:
+        collector.add("runs", row, "spacing", f"a spacing of {shown(geometry.spacing_m, plan_unit)} "
+                      f"is more than the run's whole length ({shown(length_m, plan_unit)}); give "
+                      "the centre-to-centre distance of its two conductors", Problem.OUT_OF_RANGE)
+        return False
+    ends = geometry.untwisted_end_m
+    if geometry.return_kind == "twisted" and ends is not None and 2 * ends >= length_m > 0:
+        collector.add("runs", row, "untwisted_ends", f"untwisted ends of "
+                      f"{shown(ends, plan_unit)} at each end take the whole run "
+                      f"({shown(length_m, plan_unit)} long), so none of it is twisted; give the "
+                      "length left untwisted at each end, or make the run paired",
+                      Problem.OUT_OF_RANGE)
+        return False
+    return True
+
+
+def _listed_with_commas(text, names, what):
+    """For a cell naming several items separated by "," where ";" belongs: the message to give
+    (None when the commas are not that)."""
+    pieces = [p.strip() for p in str(text).split(",") if p.strip()]
+    known = {key(n) for n in names}
+    if len(pieces) < 2 or not any(key(p) in known for p in pieces):
+        return None
+    return (f'"{visible(text)}" names {what}s separated by ","; use ; between {what}s '
+            f'({"; ".join(visible(p) for p in pieces)})')
 
 
 def _check_spacing(text, spacing_m, small, plan_unit, size_label, outer_m, collector, row):
@@ -850,20 +705,31 @@ def _segment_estimate(geometry, length):
 
 
 def _route(text, points, unit, collector, row, column):
+    """Waypoints from the source to the load: text separated by >, or (from the library) a list
+    or array of waypoints, each a point name, ``x, y, z`` text or three coordinates."""
     if text is None:
-        collector.add("runs", row, column, "the route is empty; give waypoints separated by >")
+        collector.add("runs", row, column, "the route is empty; give waypoints separated by >",
+                      Problem.MISSING)
         return None
+    if isinstance(text, (list, tuple, np.ndarray)):
+        parts = list(text)
+        if parts and all(isinstance(p, (int, float)) and not isinstance(p, bool) for p in parts):
+            parts = [parts]                 # one point given as its coordinates
+    else:
+        parts = str(text).split(">")
     waypoints = []
-    for part in str(text).split(">"):
-        if not part.strip():
-            collector.add("runs", row, column, "an empty waypoint (two > in a row, or one at an end)")
+    for part in parts:
+        if isinstance(part, str) and not part.strip():
+            collector.add("runs", row, column, "an empty waypoint (two > in a row, or one at an "
+                          "end)", Problem.NOT_A_VALUE)
             return None
         position = _position(part, points, unit, collector, "runs", row, column)
         if position is None:
             return None
         waypoints.append(position)
     if len(waypoints) < 2:
-        collector.add("runs", row, column, "a route needs at least two waypoints, separated by >")
+        collector.add("runs", row, column, "a route needs at least two waypoints, separated by >",
+                      Problem.NOT_A_VALUE)
         return None
     return np.array(waypoints)
 
@@ -1007,8 +873,9 @@ def _state_list(value, states, collector, sheet, row, column):
             continue
         matches = [s for s in states if key(s) == key(part)]
         if not matches:
-            collector.add(sheet, row, column, f'"{part.strip()}" is not a state'
-                          f"{_suggest(part, states)}")
+            collector.add(sheet, row, column, _listed_with_commas(part.strip(), states, "state")
+                          or f'"{visible(part.strip())}" is not a state{_suggest(part, states)}',
+                          Problem.UNKNOWN_NAME)
         elif matches[0] not in found:
             found.append(matches[0])
     return tuple(found)
@@ -1018,9 +885,11 @@ def _read_equipment(sheet, site, points, states, collector):
     items = []
     if sheet is None or not _check_columns(sheet, collector):
         return items
+    seen = set()
     for number, row in sheet.rows:
         bad = len(collector.findings)
-        name = row.get("item") or f"row {number}"
+        name = (f"row {number}" if row.get("item") is None else
+                _unique_name(row, "item", "item", seen, collector, "equipment", number))
         position = None
         if row.get("at") is None:
             collector.add("equipment", number, "at", "where is it? give a point name or x, y, z")
@@ -1029,7 +898,8 @@ def _read_equipment(sheet, site, points, states, collector):
         safe = safe_for = moment = axis = None
         if row.get("safe_distance") is not None:
             safe = _length(row["safe_distance"], site.units, collector, "equipment", number,
-                           "safe_distance")
+                           "safe_distance", limit=MAX_SAFE_DISTANCE_M,
+                           what="a compass safe distance label gives")
             safe_for = key(row.get("safe_distance_for") or "")
             if safe_for not in SAFE_DISTANCE_FOR:
                 collector.add("equipment", number, "safe_distance_for", "say which compass the "
@@ -1038,17 +908,9 @@ def _read_equipment(sheet, site, points, states, collector):
                 collector.add("equipment", number, "safe_distance", "must be more than zero")
         elif row.get("moment_am2") is not None:
             moment = _number(row["moment_am2"], "a magnetic moment in A·m²", collector, "equipment",
-                             number, "moment_am2")
+                             number, "moment_am2", limit=MAX_MOMENT_AM2, unit="A·m²")
             if row.get("axis") is not None:
-                parts = str(row["axis"]).split(",")
-                try:
-                    axis = np.array([float(p) for p in parts])
-                    if axis.shape != (3,) or not np.linalg.norm(axis) > 0:
-                        raise ValueError
-                    axis = axis / np.linalg.norm(axis)
-                except ValueError:
-                    collector.add("equipment", number, "axis", f'"{row["axis"]}" is not a direction '
-                                  "x, y, z (blank: the worst orientation)")
+                axis = _direction(row["axis"], collector, "equipment", number, "axis")
         else:
             collector.add("equipment", number, "safe_distance", "give safe_distance (from the "
                           "label) or moment_am2")
@@ -1058,6 +920,23 @@ def _read_equipment(sheet, site, points, states, collector):
             items.append(Equipment(str(name), position, safe, safe_for, moment, axis, present,
                                    str(row.get("note") or ""), number))
     return items
+
+
+def _direction(value, collector, sheet, row, column):
+    """A unit vector from ``x, y, z`` text, or a tuple, list or array of three numbers."""
+    parts = (list(np.asarray(value, dtype=object).ravel())
+             if isinstance(value, (tuple, list, np.ndarray)) else str(value).split(","))
+    try:
+        if any(isinstance(p, bool) for p in parts):
+            raise ValueError
+        axis = np.array([float(p) for p in parts])
+        if axis.shape != (3,) or not np.all(np.isfinite(axis)) or not np.linalg.norm(axis) > 0:
+            raise ValueError
+        return axis / np.linalg.norm(axis)
+    except (TypeError, ValueError, OverflowError):
+        collector.add(sheet, row, column, dash_hint(value) or f'"{visible(value)}" is not a '
+                      "direction x, y, z (blank: the worst orientation)", Problem.NOT_A_VALUE)
+        return None
 
 
 def _for_sensor(value, sensors, collector, sheet, row):
@@ -1070,8 +949,9 @@ def _for_sensor(value, sensors, collector, sheet, row):
     names = [s.name for s in sensors]
     match = next((n for n in names if key(n) == key(value)), None)
     if match is None:
-        collector.add(sheet, row, "for_sensor", f'"{value}" is not a sensor in the sensors sheet '
-                      f"(blank or all: every sensor){_suggest(str(value), names)}")
+        collector.add(sheet, row, "for_sensor", f'"{visible(value)}" is not a sensor in the sensors '
+                      f"sheet (blank or all: every sensor){_suggest(str(value), names)}",
+                      Problem.UNKNOWN_NAME)
         return None, False
     return match, True
 
@@ -1080,14 +960,18 @@ def _read_spots(sheet, site, points, sensors, collector):
     spots = []
     if sheet is None or not _check_columns(sheet, collector):
         return spots
+    seen = set()
     for number, row in sheet.rows:
+        name = (f"row {number}" if row.get("spot") is None else
+                _unique_name(row, "spot", "spot", seen, collector, "spots", number))
         if row.get("at") is None:
-            collector.add("spots", number, "at", "where is it? give a point name or x, y, z")
+            collector.add("spots", number, "at", "where is it? give a point name or x, y, z",
+                          Problem.MISSING)
             continue
         position = _position(row["at"], points, site.units, collector, "spots", number, "at")
         owner, ok = _for_sensor(row.get("for_sensor"), sensors, collector, "spots", number)
-        if position is not None and ok:
-            spots.append(CandidateSpot(str(row.get("spot") or f"row {number}"), position, owner))
+        if position is not None and ok and name is not None:
+            spots.append(CandidateSpot(name, position, owner))
     return spots
 
 
@@ -1139,49 +1023,61 @@ def _read_volumes(sheet, site, points, sensors, collector):
     return volumes
 
 
-def _check_sensors_outside_conductors(plan, collector):
-    from .physics.field import point_segment_distance
+#: Columns of free text: a date or a spreadsheet error value there is text, not a mistake.
+NOTE_COLUMNS = ("note", "notes", "comment", "comments")
 
-    conductors = conductors_of(plan)
-    if not len(conductors) or not plan.sensors:
-        return
-    positions = np.array([s.position_m for s in plan.sensors])
-    distance = point_segment_distance(conductors.start_m, conductors.end_m, positions)
-    inside = distance <= conductors.radius_m[None, :]
-    for i, sensor in enumerate(plan.sensors):
-        if not inside[i].any():
-            continue
-        s = int(np.argmax(inside[i]))
-        run = plan.runs[conductors.run_index[s]]
-        collector.add("sensors", sensor.row, "at", f'sensor "{sensor.name}" lies inside run '
-                      f'"{run.name}" ({distance[i, s] * 1000:.1f} mm from a conductor\'s axis, '
-                      f"radius {conductors.radius_m[s] * 1000:.1f} mm); move the sensor or the run")
+
+def _sheets_of(found, collector):
+    """The plan's sheets, each header read and every cell looked at (deviation.sheets.table)."""
+    sheets = {}
+    for name, raw in found.sheets.items():
+        dates = ("value",) if name == "site" else ()
+        known = KNOWN_COLUMNS.get(name, ())
+
+        def free_text(column, name=name, known=known):
+            # Notes, and columns the plan does not know (kept as notes); in the states sheet
+            # every column but the text ones is a state's currents.
+            if column in NOTE_COLUMNS:
+                return True
+            return column not in known if name != "states" else column in STATES_TEXT_COLUMNS
+
+        sheet = table(name, raw.label, raw.grid, collector, canonical, date_columns=dates,
+                      free_text=free_text)
+        if sheet is not None:
+            sheets[name] = sheet
+    return sheets
 
 
 def read_plan(path) -> Plan:
     """Read and validate a plan (.xlsx workbook or folder of .csv sheets).
 
+    Only regular files are read, each with its size capped (docs/robustness.md): a sheet that is
+    a FIFO, a device, a folder or a link leading out of the plan's folder is a finding.
+
     Raises
     ------
     PlanError
         With every finding, each naming the file, sheet, row and column.
+    OSError
+        When the file system refuses to read a file (permission denied, an I/O error).
     """
     path = Path(path)
-    collector = _Collector(str(path))
-    if not path.exists():
-        raise PlanError([Finding(str(path), None, None, None, "no such file or folder")])
+    collector = Collector(str(path))
+    if not path.exists() and not path.is_symlink():
+        raise PlanError([Finding(str(path), None, None, None, "no such file or folder",
+                                 Problem.FILE)])
     if path.suffix.lower() in (".xls", ".ods", ".numbers"):     # .numbers may be a folder
         raise PlanError([Finding(str(path), None, None, None, "a plan is an .xlsx workbook or a "
                                  f"folder of .csv sheets, not an {path.suffix} file; save it as "
-                                 ".xlsx (Excel workbook) or as CSV sheets")])
+                                 ".xlsx (Excel workbook) or as CSV sheets", Problem.FILE)])
     if path.is_dir():
-        sheets = _read_csv_folder(path, collector)
+        found = read_folder(path, SHEETS, collector, canonical, KNOWN_COLUMNS)
     elif path.suffix.lower() in (".xlsx", ".xlsm"):
-        sheets = _read_xlsx(path, collector)
+        found = read_workbook(path, SHEETS, collector, canonical)
     else:
         raise PlanError([Finding(str(path), None, None, None, "a plan is an .xlsx workbook or a "
-                                 "folder of .csv sheets (site.csv, runs.csv, ...)")])
-    return _plan_from_sheets(sheets, str(path), collector)
+                                 "folder of .csv sheets (site.csv, runs.csv, ...)", Problem.FILE)])
+    return _plan_from_sheets(_sheets_of(found, collector), str(path), collector, found.others)
 
 
 def plan_from_tables(tables, source="<tables>") -> Plan:
@@ -1191,7 +1087,12 @@ def plan_from_tables(tables, source="<tables>") -> Plan:
     ----------
     tables : mapping of sheet name to table
         Each table is a pandas DataFrame, a list of dicts (one per row), or a list of rows whose
-        first row is the header, in the layout of the workbook (docs/plan-format.md).
+        first row is the header, in the layout of the workbook (docs/plan-format.md). A missing
+        value (None, NaN, pandas' NA or NaT) is a blank cell in every kind of table: a blank
+        current is 0 A, a blank name is a finding. Where a position is expected (``at``,
+        ``from``, ``to``, a route's waypoints, ``axis``) a tuple, list or array of three
+        numbers in the plan's unit may stand for ``x, y, z``; a route may be a list of
+        waypoints.
     source : str
         What findings name as the file.
 
@@ -1199,44 +1100,44 @@ def plan_from_tables(tables, source="<tables>") -> Plan:
     ------
     PlanError
         With every finding, located by sheet, row and column (rows counted as in a workbook:
-        the header is row 1).
+        the header is row 1); also for tables of the wrong type (a number, a list where a
+        mapping belongs).
     """
-    collector = _Collector(source)
-    sheets = {}
-    for label, table in tables.items():
+    collector = Collector(source)
+    if not isinstance(tables, Mapping):
+        kind = type(tables).__name__
+        raise PlanError([Finding(source, None, None, None, "the tables are a mapping of sheet name "
+                                 f"to table (a dict), not {'an' if kind[:1] in 'aeiou' else 'a'} "
+                                 f"{kind}", Problem.NOT_A_VALUE)])
+    found = Found()
+    labels = {}
+    for label, given in tables.items():
         name = canonical(label)
         if name not in SHEETS:
+            found.others.append(str(label))
             continue
-        sheet = _table(name, str(label), _grid(table), 1, collector)
-        if sheet is not None:
-            sheets[name] = sheet
-    return _plan_from_sheets(sheets, source, collector)
+        if name in labels:
+            collector.add(name, None, None, f'two tables are the {name} sheet: "{labels[name]}" '
+                          f'and "{visible(label)}"; keep one', Problem.DUPLICATE)
+            continue
+        labels[name] = visible(label)
+        grid = grid_from_table(given, name, collector)
+        if grid is not None:
+            found.sheets[name] = Raw(name, str(label), grid)
+    return _plan_from_sheets(_sheets_of(found, collector), source, collector, found.others)
 
 
-def _grid(table):
-    """A table as a header row and value rows."""
-    if hasattr(table, "columns") and hasattr(table, "itertuples"):        # a DataFrame
-        rows = [list(table.columns)] + [list(r) for r in table.itertuples(index=False)]
-        return [[None if _missing(v) else v for v in row] for row in rows]
-    table = list(table)
-    if table and isinstance(table[0], dict):
-        header = list(dict.fromkeys(k for row in table for k in row))
-        return [header] + [[row.get(k) for k in header] for row in table]
-    return [list(row) for row in table]
-
-
-def _missing(value):
-    return isinstance(value, float) and math.isnan(value)
-
-
-def _plan_from_sheets(sheets, source, collector) -> Plan:
+def _plan_from_sheets(sheets, source, collector, others=()) -> Plan:
     if collector.findings and not sheets:
-        raise PlanError(collector.findings)
+        raise PlanError(collector.shown())
     reported = {f.sheet for f in collector.findings}
     for name in REQUIRED_SHEETS:
         if name not in sheets and name not in reported:
-            collector.add(name, None, None, "the sheet is missing")
+            collector.add(name, None, None, missing_sheet_message(name, others), Problem.MISSING)
+    before = len(collector.findings)
     site = _read_site(sheets.get("site"), collector)
+    if "site" not in sheets and "site" in reported:     # the site table itself was refused
+        collector.keep_back_since(before)
     points = _read_points(sheets.get("points"), site.units, collector)
     circuit_currents, states, circuit_names, details = _read_states(sheets.get("states"),
                                                                     collector)
@@ -1266,8 +1167,6 @@ def _plan_from_sheets(sheets, source, collector) -> Plan:
                 item_notes=_item_notes(sheets))
     if not collector.findings:
         _check_measured_currents(plan, collector)
-    if not collector.findings:
-        _check_sensors_outside_conductors(plan, collector)
     if collector.findings:
         raise PlanError(collector.shown())
     return plan

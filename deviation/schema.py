@@ -153,7 +153,9 @@ SCHEMA: dict[str, SheetSpec] = {s.name: s for s in (
 SHEETS = tuple(SCHEMA)
 REQUIRED_SHEETS = ("runs", "sensors")
 SITE_SETTINGS = ("units", "latitude", "longitude", "date", "altitude_m", "horizontal_field_ut",
-                 "vertical_field_ut", "place")
+                 "vertical_field_ut", "place", "vessel", "owner", "installer")
+#: Site settings that are free text, shown on a report's first page and the deviation card.
+SITE_TEXT_SETTINGS = ("vessel", "owner", "installer")
 
 
 def columns_of(sheet: str) -> dict[str, tuple[str, ...]]:

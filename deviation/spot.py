@@ -22,6 +22,8 @@ import numpy as np
 
 from .analysis import evaluate_sensor, parts_at
 from .budget import SEARCH_EXACT_GENERATORS, circuit_currents, equipment_fields, sensor_figures
+from .errors import DeviationError
+from .progress import counter
 
 #: Largest number of points in the coarse stage.
 COARSE_POINTS = 40_000
@@ -29,6 +31,12 @@ COARSE_POINTS = 40_000
 REFINED_CELLS = 24
 #: Points evaluated per call of the field kernel (bounds memory: P x R x 3 doubles).
 CHUNK_POINTS = 20_000
+#: Ceilings of a search (measured, bench/bench_limits.py and docs/robustness.md): positions
+#: evaluated in all (about 2 000 to 300 000 a second, by the plan), and points of the grid at
+#: the step, along one axis and in all (the grid's axes are held in memory).
+MAX_POSITIONS = 1_000_000
+MAX_GRID_POINTS = 10**12
+MAX_AXIS_POINTS = 1_000_000
 #: Fewest coarse points given to one mount-in box when several share the coarse stage.
 MIN_COARSE_POINTS_PER_BOX = 1_000
 #: Margin added around the plan's geometry to make its extent [m] (common practice, no source:
@@ -251,6 +259,14 @@ def _spot(plan, site, sensor, position, name=None):
                 dominant, name)
 
 
+class SearchTooLarge(DeviationError, ValueError):
+    """A spot search beyond its ceilings (MAX_POSITIONS, MAX_GRID_POINTS, MAX_AXIS_POINTS)."""
+
+
+def _size_text(span_m):
+    return " x ".join(f"{v:g}" for v in np.round(span_m, 3)) + " m"
+
+
 class _Part:
     """One box searched on its own grid: the searched box, or its meeting with a mount-in box."""
 
@@ -342,11 +358,29 @@ def search_box(plan, analysis, sensor, low_m, high_m, step_m, *, progress=None, 
     high = np.maximum(low_m, high_m).astype(float)
     site = analysis.site
     mount, keep = volumes_for(plan, sensor)
+    axis_points = np.floor((high - low) / step_m) + 1
+    if axis_points.max() > MAX_AXIS_POINTS or np.prod(axis_points) > MAX_GRID_POINTS:
+        raise SearchTooLarge(f"a box of {_size_text(high - low)} at a step of "
+                             f"{step_m * 1e3:g} mm has {np.prod(axis_points):,.0f} grid points, "
+                             f"more than the {MAX_GRID_POINTS:,} a search may have (at most "
+                             f"{MAX_AXIS_POINTS:,} along an axis); give a coarser step or a "
+                             "smaller box")
     parts = _parts(low, high, step_m, mount)
     for part in parts:
         part.coarse = part.coarse[allowed(plan, sensor, part.coarse)]
     grid_points = sum(part.grid_points for part in parts)
-    advance = progress(sum(part.expected(step_m) for part in parts)) if progress else None
+    total = sum(part.expected(step_m) for part in parts)
+    if total > MAX_POSITIONS:
+        coarser = math.ceil(step_m * (total / MAX_POSITIONS) ** (1 / 3) * 1e3) / 1e3
+        while sum(part.expected(coarser) for part in _parts(low, high, coarser, mount)) \
+                > MAX_POSITIONS:
+            coarser = math.ceil(coarser * 1.2 * 1e3) / 1e3
+        raise SearchTooLarge(f"a box of {_size_text(high - low)} at a step of "
+                             f"{step_m * 1e3:g} mm needs {total:,} positions evaluated, more "
+                             f"than the {MAX_POSITIONS:,} a search may; give a step of at least "
+                             f"{coarser * 1e3:g} mm or a smaller box")
+    tick = counter("positions searched", total)
+    advance = progress(total) if progress else tick
 
     def evaluate(points):
         if not len(points):
@@ -372,6 +406,7 @@ def search_box(plan, analysis, sensor, low_m, high_m, step_m, *, progress=None, 
             figures.append(figure)
             states.append(state)
             owners.append(np.full(len(points), p))
+    tick.done()
     candidates = np.concatenate(candidates).reshape(-1, 3)
     figures, states, owners = (np.concatenate(x) for x in (figures, states, owners))
     pick = _distinct_best(candidates, figures, top, 2 * step_m - 1e-12)

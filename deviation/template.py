@@ -8,6 +8,7 @@ from decimal import Decimal
 from .files import write_atomically
 from .plan import name_key
 from .schema import SCHEMA, SITE_SETTINGS
+from .text import xlsx_value
 from .units import IMPERIAL, LENGTH_UNITS, UnitError, conductor_size
 
 #: The mark that begins the first cell of every worked example row (see reader.is_example_row).
@@ -37,7 +38,12 @@ SITE_ROWS = [{"setting": "units", "value": "m",
              {"setting": "altitude_m", "note": "height above the WGS-84 ellipsoid, m (blank: 0)"},
              {"setting": "horizontal_field_ut",
               "note": "optional: measured H in µT, overrides the model"},
-             {"setting": "vertical_field_ut", "note": "optional: measured Z in µT, positive down"}]
+             {"setting": "vertical_field_ut", "note": "optional: measured Z in µT, positive down"},
+             {"setting": "vessel", "note": "optional: the vessel or vehicle, for the reports' "
+                                           "first page and the deviation card"},
+             {"setting": "owner", "note": "optional: its owner, for the reports' first page"},
+             {"setting": "installer", "note": "optional: who installs the wiring, for the "
+                                              "reports' first page"}]
 
 #: Worked examples, by column; the template writes them under each sheet's header. Each one's
 #: first cell begins with EXAMPLE, so the reader skips it and ``check`` says it is still there.
@@ -84,7 +90,7 @@ def write_template(path, units="m"):
     for name, columns in SHEET_COLUMNS.items():
         sheet = book.create_sheet(name)
         for c, (column, explanation) in enumerate(columns, start=1):
-            cell = sheet.cell(row=1, column=c, value=column)
+            cell = sheet.cell(row=1, column=c, value=xlsx_value(column))
             cell.font, cell.fill = header_font, header_fill
             note = explanation + (EXAMPLE_NOTE if c == 1 and name != "site" else "")
             cell.comment = Comment(note, "deviation")
@@ -95,7 +101,7 @@ def write_template(path, units="m"):
                 example = {**example, "value": units}
             row = [example.get(column) for column in order]
             for c, value in enumerate(row, start=1):
-                cell = sheet.cell(row=r, column=c, value=value)
+                cell = sheet.cell(row=r, column=c, value=xlsx_value(value))
                 if isinstance(value, str):
                     cell.data_type = "s"          # text stays text, never a formula
         sheet.freeze_panes = "A2"
@@ -237,7 +243,8 @@ def _site_rows(site):
               # Written where the model is used (it needs the height), or where it is not 0.
               "altitude_m": site.altitude_m if site.altitude_m or site.latitude_deg is not None
               else None,
-              "horizontal_field_ut": site.horizontal_ut, "vertical_field_ut": site.vertical_ut}
+              "horizontal_field_ut": site.horizontal_ut, "vertical_field_ut": site.vertical_ut,
+              "vessel": site.vessel, "owner": site.owner, "installer": site.installer}
     for name in SITE_SETTINGS[1:]:
         if name == "place":
             continue
@@ -333,7 +340,7 @@ def write_plan(plan, path):
         sheet = book.create_sheet(name)
         for r, row in enumerate(rows, start=1):
             for c, value in enumerate(row, start=1):
-                cell = sheet.cell(row=r, column=c, value=value)
+                cell = sheet.cell(row=r, column=c, value=xlsx_value(value))
                 if isinstance(value, str):
                     cell.data_type = "s"
                 if r == 1:

@@ -46,8 +46,10 @@ from .readings import (  # noqa: F401
     read_table,
 )
 from .refit import (  # noqa: F401
+    Change,
     Difference,
     Refit,
+    RefitNote,
     StateRefit,
     refit,
 )

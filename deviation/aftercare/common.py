@@ -9,6 +9,7 @@ from .. import checking
 from ..budget import item_effect
 from ..errors import DeviationError
 from ..plan import Plan
+from ..sheets import MAX_ROWS, MAX_WORKBOOK_BYTES  # noqa: F401  (the limits of every sheet)
 
 #: The starting state of a switch-on test in which every circuit is off.
 ALL_OFF = "all off"
@@ -26,10 +27,10 @@ SWING_THRESHOLD_DEG = 1.0
 #: resolution).
 NO_VISIBLE_CHANGE_DEG = 0.05
 
-#: Largest uncompressed size of a readings workbook [bytes], checked before parsing.
-MAX_WORKBOOK_BYTES = 100 * 1024 * 1024
-#: Rows a readings sheet may have.
-MAX_ROWS = 20_000
+#: Largest deviation a reading may show [deg]: a compass whose card lies more than a right angle
+#: from the magnetic heading points nowhere useful, so a reading that far off is a slip of the
+#: pen or of the heading (rule of thumb, no published source).
+MAX_READ_DEVIATION_DEG = 90.0
 
 TEST_SHEET = "switch-on test"
 SETTINGS_SHEET = "switch-on settings"

@@ -1,23 +1,30 @@
-"""Reading the sheets filled in after installation (switch-on readings, swing readings)."""
+"""Reading the sheets filled in after installation (switch-on readings, swing readings), through
+the one reader of every sheet (:mod:`deviation.sheets`)."""
 
 from __future__ import annotations
 
-import csv
 import difflib
 import math
 import re
-import zipfile
 from dataclasses import dataclass
 from pathlib import Path
 
+from ..errors import Problem
 from ..plan import Finding, name_key
-from .common import MAX_ROWS, MAX_WORKBOOK_BYTES, ReadingsError
+from ..sheets import (
+    Collector,
+    closest_sheet,
+    dash_hint,
+    read_csv_file,
+    read_folder,
+    read_workbook,
+    readings_canonical,
+    table,
+    visible,
+)
+from .common import MAX_READ_DEVIATION_DEG, ReadingsError
 
-
-def canonical(name) -> str:
-    """Sheet and column names: case, units in brackets, spaces, hyphens and _ ignored."""
-    text = re.sub(r"\[[^\]]*\]|\([^)]*\)", " ", str(name))
-    return re.sub(r"[\s_\-]+", "_", text.strip().lower()).strip("_")
+canonical = readings_canonical
 
 
 @dataclass(frozen=True)
@@ -29,79 +36,17 @@ class Table:
     columns: dict
     rows: tuple
 
-    def finding(self, row, column, message) -> Finding:
-        return Finding(self.file, self.sheet, row, self.columns.get(column, column), message)
-
-
-def _blank(value):
-    return value is None or (isinstance(value, str) and not value.strip())
-
-
-def _table(file, label, grid):
-    rows = [(n, r) for n, r in enumerate(grid, start=1) if any(not _blank(c) for c in r)]
-    if not rows:
-        raise ReadingsError([Finding(file, label, None, None, "the sheet is empty; it needs a "
-                                                              "header row")])
-    if len(rows) > MAX_ROWS:
-        raise ReadingsError([Finding(file, label, None, None, f"{len(rows)} rows is more than "
-                                                              f"the {MAX_ROWS} a sheet may have")])
-    header_row, header = rows[0]
-    columns, positions = {}, {}
-    findings = []
-    for index, cell in enumerate(header):
-        if _blank(cell):
-            continue
-        name = canonical(cell)
-        if name in columns:
-            findings.append(Finding(file, label, header_row, str(cell).strip(),
-                                    "this column appears twice"))
-            continue
-        columns[name] = str(cell).strip()
-        positions[name] = index
-    if findings:
-        raise ReadingsError(findings)
-    data = []
-    for number, cells in rows[1:]:
-        values = {}
-        for name, index in positions.items():
-            value = cells[index] if index < len(cells) else None
-            values[name] = None if _blank(value) else (value.strip() if isinstance(value, str)
-                                                       else value)
-        data.append((number, values))
-    return Table(file, label, columns, tuple(data))
-
-
-def _csv_grid(path, file):
-    try:
-        text = Path(path).read_text(encoding="utf-8-sig")
-    except UnicodeDecodeError:
-        raise ReadingsError([Finding(file, Path(path).name, None, None,
-                                     "not UTF-8 text; save it as CSV UTF-8")]) from None
-    return list(csv.reader(text.splitlines()))
-
-
-def _workbook(path, file):
-    try:
-        with zipfile.ZipFile(path) as archive:
-            size = sum(m.file_size for m in archive.infolist())
-    except (zipfile.BadZipFile, OSError, ValueError):
-        raise ReadingsError([Finding(file, None, None, None, "this is not an .xlsx workbook (not a "
-                                                             "zip archive)")]) from None
-    if size > MAX_WORKBOOK_BYTES:
-        raise ReadingsError([Finding(file, None, None, None, f"the workbook would unpack to "
-                                                             f"{size / 1e6:.0f} MB; refused")])
-    import openpyxl
-
-    try:
-        return openpyxl.load_workbook(path, read_only=True, data_only=True)
-    except Exception as error:  # noqa: BLE001  damaged files raise many kinds
-        raise ReadingsError([Finding(file, None, None, None, "cannot be read as an .xlsx workbook "
-                                                             f"({error.__class__.__name__})")]) \
-            from None
+    def finding(self, row, column, message, kind=None) -> Finding:
+        return Finding(self.file, self.sheet, row, self.columns.get(column, column), message, kind)
 
 
 def read_table(path, names, *, required=True, any_single=False) -> Table | None:
     """A sheet named one of ``names`` from a .csv file, a folder of .csv sheets or a workbook.
+
+    Read by the plan's own reader (:mod:`deviation.sheets`): the same separator and
+    decimal-comma detection, the same limits (regular files only, sizes capped while reading,
+    a workbook read-only and only this sheet parsed) and the same located findings (control
+    characters, cells the spreadsheet turned into dates).
 
     Parameters
     ----------
@@ -118,42 +63,49 @@ def read_table(path, names, *, required=True, any_single=False) -> Table | None:
     ------
     ReadingsError
         With located findings.
+    OSError
+        When the file system refuses to read a file (permission denied, an I/O error).
     """
     path = Path(path)
     file = str(path)
-    wanted = {canonical(n) for n in names}
-    if not path.exists():
-        raise ReadingsError([Finding(file, None, None, None, "no such file or folder")])
-    if path.is_dir():
-        for candidate in sorted(path.iterdir()):
-            if candidate.suffix.lower() == ".csv" and canonical(candidate.stem) in wanted:
-                return _table(file, candidate.name, _csv_grid(candidate, file))
-        if required:
-            raise ReadingsError([Finding(file, None, None, None, f"no sheet {names[0]!r} here "
-                                         f"(a file {canonical(names[0])}.csv)")])
-        return None
+    wanted = [canonical(n) for n in names]
+    collector = Collector(file)
+    if not path.exists() and not path.is_symlink():
+        raise ReadingsError([Finding(file, None, None, None, "no such file or folder",
+                                     Problem.FILE)])
     suffix = path.suffix.lower()
-    if suffix == ".csv":
-        return _table(file, path.name, _csv_grid(path, file))
-    if suffix not in (".xlsx", ".xlsm"):
+    if path.is_dir():
+        found = read_folder(path, set(wanted), collector, canonical)
+    elif suffix == ".csv":
+        found = read_csv_file(path, wanted[0], collector, canonical)
+    elif suffix in (".xlsx", ".xlsm"):
+        found = read_workbook(path, set(wanted), collector, canonical,
+                              any_single=wanted[0] if any_single else None)
+    else:
         raise ReadingsError([Finding(file, None, None, None, "readings are an .xlsx workbook, "
-                                     "a .csv file or a folder of .csv sheets")])
-    book = _workbook(path, file)
-    try:
-        sheets = book.worksheets
-        chosen = next((s for s in sheets if canonical(s.title) in wanted), None)
-        if chosen is None and any_single and len(sheets) == 1:
-            chosen = sheets[0]
-        if chosen is None:
-            if not required:
-                return None
-            have = ", ".join(s.title for s in sheets)
-            raise ReadingsError([Finding(file, None, None, None, f"no sheet {names[0]!r} in "
-                                         f"the workbook (it has: {have})")])
-        grid = [list(r) for r in chosen.iter_rows(values_only=True)]
-        return _table(file, chosen.title, grid)
-    finally:
-        book.close()
+                                     "a .csv file or a folder of .csv sheets", Problem.FILE)])
+    raw = next((found.sheets[n] for n in wanted if n in found.sheets), None)
+    if raw is None:
+        if collector.findings:
+            raise ReadingsError(collector.shown())
+        if not required:
+            return None
+        other = closest_sheet(wanted[0], found.others, canonical)
+        hint = f'; found "{visible(other)}": did you mean {names[0]}? (rename it)' if other else ""
+        if path.is_dir():
+            message = f"no sheet {names[0]!r} here (a file {wanted[0]}.csv){hint}"
+        else:
+            have = ", ".join(visible(o) for o in found.others) or "no sheets"
+            message = f"no sheet {names[0]!r} in the workbook (it has: {have}){hint}"
+        raise ReadingsError([Finding(file, None, None, None, message, Problem.MISSING)])
+    sheet = table(raw.label, raw.label, raw.grid, collector, canonical,
+                  free_text=lambda column: column in _NOTE_COLUMNS)
+    if collector.findings or sheet is None:
+        raise ReadingsError(collector.shown())
+    return Table(file, raw.label, sheet.columns, tuple(sheet.rows))
+
+
+_NOTE_COLUMNS = ("note", "notes", "comment", "comments")
 
 
 def _number(table, row, column, value, what, findings, low=None, high=None):
@@ -161,16 +113,20 @@ def _number(table, row, column, value, what, findings, low=None, high=None):
         return None
     limits = "" if low is None else f" ({low:g} to {high:g})"
     if isinstance(value, bool) or not isinstance(value, (int, float, str)):
-        findings.append(table.finding(row, column, f'"{value}" is not {what}{limits}'))
+        findings.append(table.finding(row, column, f'"{visible(value)}" is not {what}{limits}',
+                                      Problem.NOT_A_VALUE))
         return None
     try:
         number = float(value.replace("°", "").strip()) if isinstance(value, str) else float(value)
-    except ValueError:
-        findings.append(table.finding(row, column, f'"{value}" is not {what}{limits}'))
+    except (ValueError, OverflowError):
+        findings.append(table.finding(row, column, dash_hint(value) or f'"{visible(value)}" is '
+                                      f"not {what}{limits}", Problem.NOT_A_VALUE))
         return None
     if not math.isfinite(number) or (low is not None and number < low) or (
             high is not None and number > high):
-        findings.append(table.finding(row, column, f'"{value}" is not {what}{limits}'))
+        findings.append(table.finding(row, column, f'"{visible(value)}" is not {what}{limits}',
+                                      Problem.OUT_OF_RANGE if math.isfinite(number)
+                                      else Problem.NOT_A_VALUE))
         return None
     return number
 
@@ -187,23 +143,26 @@ def _signed_deviation(table, row, column, value, findings):
     if isinstance(value, str):
         match = re.fullmatch(r"\s*([+-]?\d+(?:\.\d*)?|[+-]?\.\d+)\s*°?\s*([EWew])?\s*", value)
         if not match:
-            findings.append(table.finding(row, column, f'"{value}" is not a deviation (degrees, '
-                                                        "east positive, or e.g. 3.5E, 2W)"))
+            findings.append(table.finding(row, column, dash_hint(value) or f'"{visible(value)}" is '
+                                          "not a deviation (degrees, east positive, or e.g. 3.5E, "
+                                          "2W)", Problem.NOT_A_VALUE))
             return None
         number = float(match.group(1))
         if match.group(2):
             if number < 0:
-                findings.append(table.finding(row, column, f'"{value}": give a sign or E/W, '
-                                                            "not both"))
+                findings.append(table.finding(row, column, f'"{visible(value)}": give a sign or '
+                                                            "E/W, not both", Problem.NOT_A_VALUE))
                 return None
             number = number if match.group(2).upper() == "E" else -number
     else:
         number = _number(table, row, column, value, "a deviation in degrees", findings)
         if number is None:
             return None
-    if abs(number) >= 180:
-        findings.append(table.finding(row, column, f'"{value}" is not a deviation (less than '
-                                                    "180 degrees either way)"))
+    if abs(number) > MAX_READ_DEVIATION_DEG:
+        findings.append(table.finding(row, column, f'"{visible(value)}" is not a deviation a '
+                                      f"compass shows (at most {MAX_READ_DEVIATION_DEG:g} degrees "
+                                      "either way; rule of thumb, no published source); check the "
+                                      "reading", Problem.OUT_OF_RANGE))
         return None
     return number
 

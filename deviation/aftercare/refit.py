@@ -2,14 +2,17 @@
 
 from __future__ import annotations
 
+import enum
 from dataclasses import dataclass
 
 import numpy as np
 
 from .. import checking
 from ..budget import asin_deg, item_effect
+from ..errors import InputError, Problem
 from ..physics import heading
 from ..plan import Plan, frozen_array, name_key
+from ..quantities import Unit
 from .common import SWING_THRESHOLD_DEG
 
 
@@ -36,6 +39,33 @@ class StateRefit:
     card_change_deg: float             # largest change of the deviation card over headings
     swing_advised: bool
     differences: tuple[Difference, ...]
+    unit: Unit = Unit.DEGREES          # the budget's: of held_before and held_after
+
+
+class Change(str, enum.Enum):
+    """What a refit did to a sensor or a state as a whole."""
+
+    SENSOR_REMOVED = "sensor removed"      # only in the earlier plan
+    SENSOR_ADDED = "sensor added"          # new: it needs adjusting and swinging
+    SENSOR_MOVED = "sensor moved"          # it needs adjusting and swinging again
+    STATE_REMOVED = "state removed"
+    STATE_ADDED = "state added"            # no earlier figures to compare
+
+
+#: Changes after which the sensor itself must be adjusted and swung (anew or again).
+SWING_CHANGES = (Change.SENSOR_ADDED, Change.SENSOR_MOVED)
+
+
+@dataclass(frozen=True)
+class RefitNote:
+    """A sensor or state only in one version of the plan, or a sensor that moved."""
+
+    change: Change
+    name: str                          # the sensor's or the state's
+
+    @property
+    def advises_swing(self) -> bool:
+        return self.change in SWING_CHANGES
 
 
 @dataclass(frozen=True)
@@ -44,12 +74,27 @@ class Refit:
     new_source: str
     threshold_deg: float
     states: tuple[StateRefit, ...]
-    notes: tuple[str, ...]             # sensors or states only in one version, moved sensors
+    notes: tuple[RefitNote, ...]       # sensors or states only in one version, moved sensors
 
     @property
     def swing_advised(self) -> bool:
-        return any(s.swing_advised for s in self.states) or any(
-            n.startswith("sensor") and "moved" in n for n in self.notes)
+        """A new swing is due: the card of a used state moves beyond the threshold, or a sensor
+        is new or has moved."""
+        return any(s.swing_advised for s in self.states) or any(n.advises_swing
+                                                                  for n in self.notes)
+
+    def to_frame(self):
+        """One row per sensor and state: the held figures before and after (in the budget's
+        unit, named in ``unit``), the level deviation before and after and the card change
+        [deg], and whether a new swing is advised."""
+        import pandas
+
+        return pandas.DataFrame([{
+            "sensor": st.sensor, "state": st.state, "used": st.used,
+            "held_before": st.held_before, "held_after": st.held_after, "unit": st.unit.value,
+            "level_before_deg": st.level_before_deg, "level_after_deg": st.level_after_deg,
+            "card_change_deg": st.card_change_deg, "swing_advised": st.swing_advised}
+            for st in self.states])
 
 
 def _level_deg(st, seen_t, horizontal_t):
@@ -96,6 +141,32 @@ def _item_differences(old, new):
     return how
 
 
+def _check_comparable(old: Plan, new: Plan) -> None:
+    """Two plans with no sensor or no state in common have nothing to compare: saying "no new
+    swing is needed" of them would be a figure that flatters. Raises :class:`InputError`."""
+    shared = {what: {name_key(n) for n in a} & {name_key(n) for n in b} for what, a, b in (
+        ("sensor", [s.name for s in old.sensors], [s.name for s in new.sensors]),
+        ("state", old.state_names, new.state_names))}
+    if all(shared.values()):
+        return
+    lacking = " and no ".join(what for what, common in shared.items() if not common)
+    listed = "; ".join(f"{what}s earlier: {', '.join(earlier) or 'none'}, now: "
+                       f"{', '.join(now) or 'none'}"
+                       for what, earlier, now in (
+                           ("sensor", [s.name for s in old.sensors], [s.name for s in new.sensors]),
+                           ("state", old.state_names, new.state_names))
+                       if not shared[what])
+    sites = ""
+    a, b = old.site, new.site
+    if None not in (a.latitude_deg, a.longitude_deg, b.latitude_deg, b.longitude_deg) and (
+            abs(a.latitude_deg - b.latitude_deg) > 1 or abs(a.longitude_deg - b.longitude_deg) > 1):
+        sites = (f", and their sites lie apart ({a.latitude_deg:g}, {a.longitude_deg:g} and "
+                 f"{b.latitude_deg:g}, {b.longitude_deg:g})")
+    raise InputError(f"the two plans share no {lacking} ({listed}){sites}: they look like two "
+                     "different installations, and a refit compares a plan with its own earlier "
+                     "version; nothing was compared", kind=Problem.INCONSISTENT)
+
+
 def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> Refit:
     """Compare a plan with its earlier version: per sensor and state, how the figures and the
     deviation card change, which runs and items cause it, and whether a new swing is due.
@@ -112,6 +183,12 @@ def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> R
     -------
     Refit
 
+    Raises
+    ------
+    InputError
+        The two plans have no sensor, or no operating state, in common (names compared case- and
+        space-insensitively): there is nothing to compare.
+
     Notes
     -----
     The compass keeps the correctors set for the old installation: it still cancels the old
@@ -123,6 +200,7 @@ def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> R
     is the size of the change of its own field at the sensor, asin(|Delta b_h|/H): the
     changes add as vectors, so the largest is the main cause, not a share of the total.
     """
+    _check_comparable(old, new)
     before = checking.check_plan(old, remedies=False)
     after = checking.check_plan(new, remedies=False)
     h = after.site.horizontal_t
@@ -130,15 +208,15 @@ def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> R
     old_sensors = {name_key(s.sensor.name): s for s in before.sensors}
     new_sensors = {name_key(s.sensor.name): s for s in after.sensors}
     for key in old_sensors.keys() - new_sensors.keys():
-        notes.append(f'sensor "{old_sensors[key].sensor.name}" is only in the earlier plan')
+        notes.append(RefitNote(Change.SENSOR_REMOVED, old_sensors[key].sensor.name))
     for key in new_sensors.keys() - old_sensors.keys():
-        notes.append(f'sensor "{new_sensors[key].sensor.name}" is new: adjust and swing it')
+        notes.append(RefitNote(Change.SENSOR_ADDED, new_sensors[key].sensor.name))
     old_states = {name_key(s): s for s in old.state_names}
     new_states = {name_key(s): s for s in new.state_names}
     for key in old_states.keys() - new_states.keys():
-        notes.append(f'state "{old_states[key]}" is only in the earlier plan')
+        notes.append(RefitNote(Change.STATE_REMOVED, old_states[key]))
     for key in new_states.keys() - old_states.keys():
-        notes.append(f'state "{new_states[key]}" is new: no earlier figures to compare')
+        notes.append(RefitNote(Change.STATE_ADDED, new_states[key]))
     old_runs = {name_key(r.name): i for i, r in enumerate(old.runs)}
     new_runs = {name_key(r.name): i for i, r in enumerate(new.runs)}
     old_items = {name_key(e.name): e for e in old.equipment}
@@ -151,7 +229,7 @@ def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> R
             continue
         sensor = new_result.sensor
         if not _same_array(old_result.sensor.position_m, sensor.position_m):
-            notes.append(f'sensor "{sensor.name}" moved: adjust and swing it again')
+            notes.append(RefitNote(Change.SENSOR_MOVED, sensor.name))
         reference = old_result.sensor.reference_state
         b_ref = (np.asarray(old_result.state(reference).field_t) if reference
                  and reference in old.state_names else np.zeros(3))
@@ -212,5 +290,6 @@ def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> R
             states.append(StateRefit(
                 sensor.name, state, st_new.used, st_old.held, st_new.held,
                 float(level[0]), float(level[1]), card,
-                bool(st_new.used and card > threshold_deg), tuple(differences)))
+                bool(st_new.used and card > threshold_deg), tuple(differences),
+                sensor.budget.unit))
     return Refit(old.source, new.source, float(threshold_deg), tuple(states), tuple(notes))

@@ -7,11 +7,11 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from .. import checking
-from ..errors import DeviationError
+from ..errors import DeviationError, Problem
 from ..physics import heading, swing
 from ..plan import Finding, Plan, frozen_array
 from ..quantities import Budget
-from .common import SWING_SHEET, ReadingsError, _checked, _items_field
+from .common import MAX_READ_DEVIATION_DEG, SWING_SHEET, ReadingsError, _checked, _items_field
 from .readings import _heading, _signed_deviation, _state_named, _suggest, read_table
 from .switch_on import _state_field
 
@@ -96,6 +96,13 @@ def read_swing(path, plan: Plan, state: str | None = None) -> SwingReadings:
             magnetic = float(heading.magnetic_from_compass(compass, deviation))
         elif deviation is None:
             deviation = float(swing.wrap_deg(magnetic - compass))
+            if abs(deviation) > MAX_READ_DEVIATION_DEG:
+                findings.append(table.finding(
+                    number, found["magnetic"], f"compass {compass:g}° and magnetic {magnetic:g}° "
+                    f"are a deviation of {deviation:+.1f}°, more than the "
+                    f"{MAX_READ_DEVIATION_DEG:g}° a compass that can still be read shows (rule of "
+                    "thumb, no published source); check the two headings", Problem.OUT_OF_RANGE))
+                continue
         elif abs(off := float(swing.wrap_deg(magnetic - compass - deviation))) > 0.05:
             findings.append(table.finding(number, found["deviation"], "compass + deviation is not "
                                           f"the magnetic heading (off by {off:+.2f}°)"))

@@ -7,12 +7,14 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import DeviationError
+from ..constants import MAX_CURRENT_A
+from ..errors import DeviationError, InputError, Problem
 from ..physics import heading, swing
 from ..plan import Finding, Plan, frozen_array, name_key
 from .common import (
     ALL_OFF,
     CHANGE_FRACTION,
+    MAX_READ_DEVIATION_DEG,
     NO_VISIBLE_CHANGE_DEG,
     READING_RESOLUTION_DEG,
     SETTINGS_SHEET,
@@ -122,12 +124,13 @@ def switch_on_test(plan: Plan, sensor, heading_deg: float, start_state: str | No
     start = None if start_state is None or name_key(start_state) == name_key(ALL_OFF) else (
         _state_named(plan, start_state))
     if start_state is not None and start is None and name_key(start_state) != name_key(ALL_OFF):
-        raise DeviationError(f'"{start_state}" is not a state of the plan; it has: '
-                             + ", ".join(plan.state_names) + f' (or "{ALL_OFF}")')
+        raise InputError(f'"{start_state}" is not a state of the plan; it has: '
+                         + ", ".join(plan.state_names) + f' (or "{ALL_OFF}")',
+                         column="start_state", kind=Problem.UNKNOWN_NAME)
     if adjusted and not chosen.reference_state:
-        raise DeviationError(f'sensor "{chosen.name}" has no reference state in the plan, so '
-                             "there is no adjustment to allow for; give it a reference_state or "
-                             "leave adjusted off")
+        raise InputError(f'sensor "{chosen.name}" has no reference state in the plan, so '
+                         "there is no adjustment to allow for; give it a reference_state or "
+                         "leave adjusted off", column="adjusted", kind=Problem.INCONSISTENT)
     units = circuit_fields_t(plan, result)
     currents = plan.circuit_currents_a
     independent = plan.independent
@@ -325,9 +328,10 @@ def read_switch_on_results(plan: Plan, path, *, sensor=None, heading_deg=None, s
     try:
         test = switch_on_test(plan, sensor_name, heading_value, start, adjusted_value, analysis)
     except DeviationError as error:
-        sheet, row = where("sensor" if "sensor" in str(error) else "start_state")
+        # The setting the error belongs to, as the error says (an unknown sensor: "sensor").
+        sheet, row = where(error.column) if error.column else (None, None)
         raise ReadingsError([Finding(str(path), sheet, row, "value" if sheet else None,
-                                     str(error))]) from None
+                                     str(error), error.kind)]) from None
 
     table = read_table(path, (TEST_SHEET,), any_single=True)
     if "circuit" not in table.columns and "state" not in table.columns:
@@ -376,13 +380,24 @@ def read_switch_on_results(plan: Plan, path, *, sensor=None, heading_deg=None, s
                                  findings)
         observed_cell = _number(table, number, "observed_change", row.get("observed_change"),
                                 "a change in degrees", findings, -180.0, 180.0)
+        for column, reading in (("reading_before", before_reading),
+                                ("reading_after", after_reading)):
+            shown = (None if reading is None or heading_value is None
+                     else float(swing.wrap_deg(heading_value - reading)))
+            if shown is not None and abs(shown) > MAX_READ_DEVIATION_DEG:
+                findings.append(table.finding(
+                    number, column, f"a reading of {reading:g}° with the vessel on "
+                    f"{heading_value:g}° magnetic is a deviation of {shown:+.1f}°, more than "
+                    f"the {MAX_READ_DEVIATION_DEG:g}° a compass that can still be read shows "
+                    "(rule of thumb, no published source); check the reading and the magnetic "
+                    "heading", Problem.OUT_OF_RANGE))
         current_before = step.current_before_a
         current_test = step.current_on_test_a
         if kind == "circuit":
             given_before = _number(table, number, "current_before", row.get("current_before"),
-                                   "a current in amperes", findings)
+                                   "a current in amperes", findings, -MAX_CURRENT_A, MAX_CURRENT_A)
             given_test = _number(table, number, "current_on_test", row.get("current_on_test"),
-                                 "a current in amperes", findings)
+                                 "a current in amperes", findings, -MAX_CURRENT_A, MAX_CURRENT_A)
             current_before = current_before if given_before is None else given_before
             current_test = current_test if given_test is None else given_test
         if len(findings) > bad:

@@ -35,7 +35,10 @@ class RunFigures:
         sensors; None for a total-field magnetometer)
     change_deg : the same for its own residual b - b_ref (heading sensors adjusted in a reference
         state; else None)
-    bound_t : [T] the part of its own largest size that is of unknown direction
+    bound_t : [T] the part of its own largest horizontal size that is of unknown direction
+    unknown_t : [T] the size of its parts of unknown direction in 3-D (each lie's and end's
+        spread and floor added by the triangle inequality): its vertical field is within this
+        of the known part's
     held : what it alone would make of the held figure, in the budget's unit: degrees (its
         residual where the sensor is adjusted), or nT of total-field error over headings and
         attitude for a total-field magnetometer
@@ -46,6 +49,7 @@ class RunFigures:
     alone_deg: np.ndarray | None
     change_deg: np.ndarray | None
     bound_t: np.ndarray
+    unknown_t: np.ndarray
     held: np.ndarray
 
 
@@ -148,7 +152,8 @@ def _with_runs(figures, plan, sensor, site, parts, split):
         change = None if ref_k is None else asin_deg(
             _alone(seen, spread, bound, seen_scale)[0] / h)
         held = alone if change is None else change
-    runs = RunFigures(run_a.T, per_run, alone, change, run_bound, held)
+    unknown = (bound[None, :] + np.linalg.norm(spread, axis=-1).sum(axis=-1)[None, :]) * scale
+    runs = RunFigures(run_a.T, per_run, alone, change, run_bound, unknown, held)
     return replace(figures, runs=runs)
 
 

@@ -20,12 +20,13 @@ class TotalFieldFigures:
         and pitch, switchings of the independent circuits, and every bound of unknown direction
         (b is the residual b - b_ref for a sensor compensated in a reference state)
     error_t : max(high_t, -low_t), the figure held against budget_nt
-    peak_to_peak_t : level, over a full turn of heading, the largest over the switchings tried,
+    peak_to_peak_t : level, over a full turn of heading, the largest over the switchings,
         bounds counted at their worst (2 x bound)
     bound_t : the bounds of unknown direction counted (pairs of unknown lie, twisted runs' ends
         and floors, equipment of unknown orientation)
     within_budget : error_t <= budget_nt
-    exhaustive : every switching was tried (else chosen by sign, to first order)
+    exhaustive : every switching was tried; else high_t is still exact (from the zonotope's
+        vertices) while low_t and peak_to_peak_t are bounds on the safe side
     combination : (P, K, Ci) the switching behind high_t or low_t, whichever sets error_t
     """
 
@@ -88,10 +89,13 @@ def total_field_figures(plan, sensor, horizontal_t, vertical_t, parts: RunParts,
     (exactly: |F + Cb|^2 = F^2 + 2 F . Cb + |b|^2), so at any one heading and attitude the worst
     switching is, to first order in |b|/F, the sign split of F-hat . C v_i. Up to
     MAX_SWITCHINGS_ENUMERATED switchings every one is tried and scored exactly; beyond, the
-    sign-split candidates (the zonotope's vertices) are scored exactly. The largest error is a
-    convex function of b (a maximum of norms of affine maps), so over the zonotope its maximum
-    is at a vertex and the vertex list gives it exactly (Rockafellar, section 32); the smallest
-    is a first-order choice. A bound beta of unknown direction moves |F + Cb| by at most beta.
+    zonotope's vertices, degenerate generators included
+    (:func:`deviation.physics.total_field.vertex_switchings`). The largest error is a convex
+    function of b, so over the zonotope its maximum is at a vertex and the vertex list gives it
+    exactly (Rockafellar, section 32); the smallest is not convex, and there it is a bound under
+    the truth by at most R^2/(2(F - R)), R the largest |b|, and the peak to peak a bound above
+    it (:func:`deviation.physics.total_field.error_over_switchings`). A bound beta of unknown
+    direction moves |F + Cb| by at most beta.
     A sensor compensated in a reference state (the survey's compensation flight) keeps the
     residual b - b_ref: the permanent term of the compensation takes out a vessel-fixed field.
 
@@ -99,12 +103,7 @@ def total_field_figures(plan, sensor, horizontal_t, vertical_t, parts: RunParts,
     ----------
     R. T. Rockafellar, *Convex Analysis*, Princeton University Press, 1970, section 32.
     """
-    from ..constants import MAX_SWITCHINGS_ENUMERATED
-    from ..physics.total_field import (
-        candidate_switchings,
-        heading_error_peak_to_peak,
-        total_field_error_range,
-    )
+    from ..physics.total_field import error_over_switchings
 
     h, z = horizontal_t, vertical_t
     heel, pitch = sensor.max_heel_deg, sensor.max_pitch_deg
@@ -118,16 +117,13 @@ def total_field_figures(plan, sensor, horizontal_t, vertical_t, parts: RunParts,
     exhaustive = True
     for p in range(n_p):
         for k in range(n_k):
-            vectors = switched[p, k]
-            choices, complete = candidate_switchings(vectors, reversing,
-                                                     MAX_SWITCHINGS_ENUMERATED)
-            exhaustive &= complete
-            fields = base[p, k][None, :] + choices @ vectors                       # (M, 3)
-            lo, hi = total_field_error_range(fields, h, z, heel, pitch)
-            i_hi, i_lo = int(np.argmax(hi)), int(np.argmin(lo))
-            high[p, k], low[p, k] = hi[i_hi], lo[i_lo]
-            combination[p, k] = choices[i_hi] if hi[i_hi] >= -lo[i_lo] else choices[i_lo]
-            p2p[p, k] = np.max(heading_error_peak_to_peak(fields, h, z))
+            worst = error_over_switchings(base[p, k], switched[p, k], reversing, h, z, heel,
+                                          pitch)
+            exhaustive &= worst.exhaustive
+            high[p, k], low[p, k] = worst.high, worst.low
+            combination[p, k] = (worst.high_choice if worst.high >= -worst.low
+                                 else worst.low_choice)
+            p2p[p, k] = worst.peak_to_peak
     high, low = high + bound, low - bound
     p2p = p2p + 2.0 * bound
     error = np.maximum(high, -low)

@@ -23,6 +23,7 @@ from . import (  # noqa: F401
     swing_state,
     test_results,
     test_sheet,
+    verify,
 )
 from .common import main  # noqa: F401  (the entry point)
 

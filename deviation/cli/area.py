@@ -6,24 +6,25 @@ import sys
 
 from .common import (
     canonical_unit,
-    console_for,
-    echo_json,
     json_option,
     library_errors,
     main,
     plan_argument,
+    report_option,
     unit_option,
     width_option,
+    write_outputs,
 )
 
 
 @main.command("area")
 @plan_argument
 @unit_option
+@report_option
 @json_option
 @width_option
 @library_errors
-def area(plan, unit, as_json, width):
+def area(plan, unit, report, as_json, width):
     """Check the plan at its site and at every place of its operating area (the site sheet's
     place rows), with the Earth's field from WMM2025 at each, and give every figure at its
     worst with the place that sets it; say whether the verdict changes across the area.
@@ -33,12 +34,14 @@ def area(plan, unit, as_json, width):
     """
     from .. import api
     from ..area import area_check
-    from ..render.electronic import area_json, render_area
+    from ..render.documents.electronic import area_document
 
     unit = canonical_unit(unit)
-    result = area_check(api.read_plan(plan))
-    if as_json:
-        echo_json(area_json(result, unit))
-    else:
-        render_area(result, console_for(width), unit)
+    the_plan = api.read_plan(plan)
+    if report:
+        from ..render.reports import check_report_path
+
+        check_report_path(report, plan)
+    result = area_check(the_plan)
+    write_outputs(area_document(result, unit), report, plan, as_json, width)
     sys.exit(0 if result.within_budget else 1)

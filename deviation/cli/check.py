@@ -7,12 +7,15 @@ import sys
 import click
 
 from .common import (
+    CommandProblem,
+    OutputPath,
     console_for,
     echo_json,
     json_option,
     library_errors,
     main,
     plan_argument,
+    say,
     width_option,
 )
 
@@ -20,12 +23,24 @@ from .common import (
 @main.command()
 @plan_argument
 @json_option
-@click.option("--all-runs", is_flag=True, help="List every run, not only the largest ones.")
-@click.option("--report", type=click.Path(dir_okay=False),
-              help="Also write a report: FILE.xlsx or FILE.html.")
+@click.option("--detail", is_flag=True,
+              help="Every state's table, totals and remedies (default: a short account of each "
+                   "sensor).")
+@click.option("--all-runs", is_flag=True, help="List every run, not only the largest ones "
+                                                "(with --detail; reports list every run).")
+@click.option("--report", type=OutputPath(),
+              help="Also write a report: FILE.xlsx, FILE.html or FILE.pdf.")
+@click.option("--paper", type=click.Choice(["A4", "Letter"], case_sensitive=False),
+              default=None, help="Paper of the report (default: Letter for a plan in feet or "
+                                 "inches, else A4).")
+@click.option("--no-fixes", is_flag=True,
+              help="Leave out the remedies and the set of fixes (the slowest part on big plans; "
+                   "the budget, the verdict and the exit status are the same).")
+@click.option("--fixes-for", "fixes_for", multiple=True, metavar="SENSOR",
+              help="Remedies and the set of fixes only for this sensor (repeat for more).")
 @width_option
 @library_errors
-def check(plan, as_json, all_runs, report, width):
+def check(plan, as_json, detail, all_runs, report, paper, no_fixes, fixes_for, width):
     """Print the deviation budget of every sensor in every operating state.
 
     Exit status: 0 every sensor within its budget in every state it is used in, 1 at least one
@@ -33,22 +48,34 @@ def check(plan, as_json, all_runs, report, width):
     """
     from .. import api
 
+    if no_fixes and fixes_for:
+        raise CommandProblem("give --no-fixes or --fixes-for, not both")
     the_plan = api.read_plan(plan)
     if report:
-        from ..files import check_output
+        from ..render.reports import check_report_path
 
-        check_output(report, plan)
-    result = api.check(the_plan)
+        check_report_path(report, plan)
+    result = api.check(the_plan, remedies=not no_fixes, fixes_for=fixes_for or None)
+    from ..render.documents.check import check_document
+
+    document = check_document(result, all_runs=all_runs)
     if report:
         from ..render.reports import write_report
 
-        write_report(result, report)
-    if as_json:
-        echo_json(api.to_json(result))
-    else:
-        from ..render.terminal import render_check
+        # Paper holds every run; the screen only the largest unless asked.
+        paper_document = check_document(result, all_runs=True)
+        if paper:
+            from dataclasses import replace
 
-        render_check(result, console_for(width), all_runs=all_runs)
+            paper_document = replace(paper_document,
+                                     paper="Letter" if paper.lower() == "letter" else "A4")
+        write_report(paper_document, report, plan)
+    if as_json:
+        echo_json(document.data)
+    else:
+        from ..render.terminal import write_document
+
+        write_document(document, console_for(width), detail=detail)
         if report:
-            click.echo(f"Report written to {report}")
+            say(f"Report written to {report}")
     sys.exit(0 if result.within_budget else 1)

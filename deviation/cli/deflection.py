@@ -6,12 +6,12 @@ import click
 
 from .common import (
     CommandProblem,
-    console_for,
-    echo_json,
+    InputPath,
     json_option,
     library_errors,
     main,
     width_option,
+    write_outputs,
 )
 
 
@@ -26,7 +26,7 @@ from .common import (
                    "broadside: due north or south, its axis east-west.")
 @click.option("--field-ut", "field_ut", type=click.FloatRange(0.1, 100), default=None,
               help="The horizontal field H where the test was made, µT.")
-@click.option("--plan", "plan_path", type=click.Path(), default=None,
+@click.option("--plan", "plan_path", type=InputPath(), default=None,
               help="Take H from this plan's site instead.")
 @click.option("--item", default="item", show_default=True, help="Name for the equipment row.")
 @click.option("--at", "at", default="", help="Where it will be mounted: a point name or x, y, z.")
@@ -67,12 +67,7 @@ def deflection(deflection_deg, distance, position, field_ut, plan_path, item, at
 
     moment = moment_from_deflection_am2(deflection_deg, distance_m, horizontal_t, position)
     row = deflection_item(item, at, deflection_deg, distance_m, horizontal_t, position)
-    if as_json:
-        from ..render.aftercare import deflection_json
+    from ..render.documents.aftercare import deflection_document
 
-        echo_json(deflection_json(row, moment, deflection_deg, distance_m, position, horizontal_t))
-        return
-    from ..render.aftercare import render_deflection
-
-    render_deflection(row, moment, deflection_deg, distance_m, position, horizontal_t,
-                      console_for(width))
+    write_outputs(deflection_document(row, moment, deflection_deg, distance_m, position,
+                                      horizontal_t), None, None, as_json, width)

@@ -6,15 +6,16 @@ from pathlib import Path
 
 import click
 
-from .common import CommandProblem, library_errors, main
+from .common import FORCE_KEY, CommandProblem, InputPath, OutputPath, library_errors, main, remember, say
 
 
 @main.command()
-@click.argument("plan", type=click.Path(dir_okay=False))
+@click.argument("plan", type=OutputPath())
 @click.option("--units", type=click.Choice(["m", "cm", "mm", "ft", "in"]), default="m",
               show_default=True, help="Length unit of bare numbers in the new plan.")
-@click.option("--force", is_flag=True, help="Overwrite PLAN if it exists.")
-@click.option("--from", "source", type=click.Path(), default=None,
+@click.option("--force", is_flag=True, callback=remember(FORCE_KEY),
+              help="Overwrite PLAN if it exists (even if it is read-only).")
+@click.option("--from", "source", type=InputPath(), default=None,
               help="Instead of a blank plan, write this plan (e.g. a folder of .csv sheets) as a "
                    "workbook, in its own units, names and notes.")
 @library_errors
@@ -32,7 +33,7 @@ def new(plan, units, force, source):
         if Path(source).resolve() == path.resolve():
             raise CommandProblem(f"{path} is the plan to copy; write to another file")
         write_plan(api.read_plan(source), path)
-        click.echo(f"Wrote {path} from {source}.")
+        say(f"Wrote {path} from {source}.")
         return
     write_template(path, units)
-    click.echo(f"Wrote {path}: fill in the sheets, then run `deviation check {path}`.")
+    say(f"Wrote {path}: fill in the sheets, then run `deviation check {path}`.")

@@ -5,17 +5,18 @@ from __future__ import annotations
 import click
 
 from .common import (
+    OutputPath,
     canonical_unit,
-    console_for,
-    echo_json,
     electronic_reports,
     json_option,
     library_errors,
     main,
     plan_argument,
+    report_option,
     sensor_option,
     unit_option,
     width_option,
+    write_outputs,
 )
 
 
@@ -23,12 +24,13 @@ from .common import (
 @plan_argument
 @sensor_option
 @unit_option
-@click.option("--csv", "csv_path", type=click.Path(dir_okay=False),
+@click.option("--csv", "csv_path", type=OutputPath(),
               help="Also write the table as FILE.csv (columns in docs/electronic-sensors.md).")
+@report_option
 @json_option
 @width_option
 @library_errors
-def per_amp(plan, sensor_name, unit, csv_path, as_json, width):
+def per_amp(plan, sensor_name, unit, csv_path, report, as_json, width):
     """Each circuit's field per ampere at every electronic compass and magnetometer, in the
     vessel's axes and the sensor's own (its axes column), and the current compensation its
     host would learn from the currents it measures (its measured_currents column).
@@ -39,13 +41,14 @@ def per_amp(plan, sensor_name, unit, csv_path, as_json, width):
 
     Exit status: 0 the table was made (and written), 2 the plan or the command line is wrong.
     """
-    from ..render.electronic import per_ampere_csv, per_ampere_json, render_per_ampere
+    from ..render.documents.electronic import per_ampere_document
+    from ..render.electronic import per_ampere_csv
 
     unit = canonical_unit(unit)
-    if csv_path:
-        from ..files import check_output
+    if report:
+        from ..render.reports import check_report_path
 
-        check_output(csv_path, plan)
+        check_report_path(report, plan)
     analysis, reports = electronic_reports(plan, sensor_name)
     if csv_path:
         from pathlib import Path
@@ -55,9 +58,5 @@ def per_amp(plan, sensor_name, unit, csv_path, as_json, width):
         text = per_ampere_csv(reports, unit)
         write_atomically(Path(csv_path), lambda temporary: Path(temporary).write_text(
             text, encoding="utf-8"))
-    if as_json:
-        echo_json(per_ampere_json(analysis, reports, unit))
-        return
-    render_per_ampere(analysis, reports, console_for(width), unit)
-    if csv_path:
-        click.echo(f"Table written to {csv_path}")
+    write_outputs(per_ampere_document(analysis, reports, unit), report, plan, as_json, width,
+                  [(csv_path, "Table")])

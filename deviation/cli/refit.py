@@ -6,20 +6,29 @@ import sys
 
 import click
 
-from .common import console_for, echo_json, json_option, library_errors, main, width_option
+from .common import (
+    InputPath,
+    json_option,
+    library_errors,
+    main,
+    report_option,
+    width_option,
+    write_outputs,
+)
 
 
 @main.command()
-@click.argument("old", type=click.Path(exists=False, dir_okay=True))
-@click.argument("new", type=click.Path(exists=False, dir_okay=True))
+@click.argument("old", type=InputPath())
+@click.argument("new", type=InputPath())
 @click.option("--threshold", "threshold_deg", type=click.FloatRange(0, 90), default=1.0,
               show_default=True,
               help="Advise a new swing where the deviation card changes by more than this, "
                    "degrees (common practice, no source).")
+@report_option
 @json_option
 @width_option
 @library_errors
-def refit(old, new, threshold_deg, as_json, width):
+def refit(old, new, threshold_deg, report, as_json, width):
     """Compare a plan with its earlier version: per sensor and state, how the held figure, the
     level deviation and the deviation card change, which runs and items cause it (added,
     removed, moved, current changed), and whether a new swing is advised.
@@ -34,13 +43,12 @@ def refit(old, new, threshold_deg, as_json, width):
 
     old_plan = api.read_plan(old)
     new_plan = api.read_plan(new)
+    if report:
+        from ..render.reports import check_report_path
+
+        check_report_path(report, new)
     result = compare(old_plan, new_plan, threshold_deg)
-    if as_json:
-        from ..render.aftercare import refit_json
+    from ..render.documents.aftercare import refit_document
 
-        echo_json(refit_json(result))
-    else:
-        from ..render.aftercare import render_refit
-
-        render_refit(result, console_for(width))
+    write_outputs(refit_document(result), report, new, as_json, width)
     sys.exit(1 if result.swing_advised else 0)

@@ -9,12 +9,14 @@ import click
 
 from .common import (
     CommandProblem,
+    OutputPath,
     console_for,
     echo_json,
     json_option,
     library_errors,
     main,
     plan_argument,
+    say,
     width_option,
 )
 
@@ -75,13 +77,15 @@ def _no_spot(plan, sensor, result, region):
                    "imperial plan).")
 @click.option("--top", type=click.IntRange(1, 100), default=10, show_default=True,
               help="Spots listed.")
-@click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
+@click.option("--plot", "plot_path", type=OutputPath(),
               help="Draw a map of the worst case over the region at the best spot's height "
                    "(FILE.png or FILE.svg).")
+@click.option("--report", type=OutputPath(),
+              help="Also write the ranking: FILE.xlsx, FILE.html or FILE.pdf.")
 @json_option
 @width_option
 @library_errors
-def spot(plan, sensor_name, region, step, top, plot_path, as_json, width):
+def spot(plan, sensor_name, region, step, top, plot_path, report, as_json, width):
     """Find the mounting spot where a sensor's budget figure is smallest.
 
     Searches a box coarse to fine (the figure is the one held against the budget: the worst
@@ -96,7 +100,6 @@ def spot(plan, sensor_name, region, step, top, plot_path, as_json, width):
     """
     from .. import api
     from ..analysis import analyse
-    from ..files import check_output
     from ..spot import spots_for
 
     the_plan = api.read_plan(plan)
@@ -104,7 +107,10 @@ def spot(plan, sensor_name, region, step, top, plot_path, as_json, width):
     if plot_path:
         if not region:
             raise CommandProblem("--plot needs --region (a map of a box)")
-        check_output(plot_path, plan)
+    if report:
+        from ..render.reports import check_report_path
+
+        check_report_path(report, plan)
     candidates = spots_for(the_plan, sensor)
     if not region and not candidates:
         if the_plan.spots:
@@ -116,15 +122,11 @@ def spot(plan, sensor_name, region, step, top, plot_path, as_json, width):
     analysis = analyse(the_plan)
     started = time.perf_counter()
     if region:
-        from ..render.terminal import progress_bar
-
         unit = the_plan.site.units
         low = _triple(region[0], unit, "--region")
         high = _triple(region[1], unit, "--region")
         step_m = _step(step, the_plan)
-        with progress_bar(enabled=not as_json) as progress:
-            result = api.find_spots(the_plan, sensor, low, high, step_m, top=top,
-                                    progress=progress, analysis=analysis)
+        result = api.find_spots(the_plan, sensor, low, high, step_m, top=top, analysis=analysis)
     else:
         from dataclasses import replace
 
@@ -141,20 +143,20 @@ def spot(plan, sensor_name, region, step, top, plot_path, as_json, width):
         z = result.spots[0].position_m[2]
         x, y, figure = slice_map(the_plan, analysis, sensor, result.region[0], result.region[1], z)
         spot_map(the_plan, result, x, y, figure, plot_path, z_m=z)
+    from ..render.documents.spot import spots_document
+
+    document = spots_document(result, the_plan, seconds)
+    if report:
+        from ..render.reports import write_report
+
+        write_report(document, report, plan)
     if as_json:
-        from ..render.json_out import spots_json
-
-        document = spots_json(result)
-        document.update({
-            "within_budget": result.within_budget, "best_on_edge": result.best_on_edge,
-            "edge_faces": list(result.edge_faces),
-            "volumes": [{"volume": v.name, "kind": v.kind} for v in result.volumes],
-            "excluded": [{"spot": name, "reason": why} for name, why in result.excluded]})
-        echo_json(document)
+        echo_json(document.data)
     else:
-        from ..render.terminal import render_spots
+        from ..render.terminal import write_document
 
-        render_spots(result, the_plan, console_for(width), seconds)
-        if plot_path:
-            click.echo(f"Map written to {plot_path}")
+        write_document(document, console_for(width))
+        for target, what in ((plot_path, "Map"), (report, "Report")):
+            if target:
+                say(f"{what} written to {target}")
     sys.exit(0 if result.within_budget else 1)

@@ -5,20 +5,21 @@ from __future__ import annotations
 import click
 
 from .common import (
-    console_for,
-    echo_json,
+    InputPath,
+    OutputPath,
     json_option,
     library_errors,
     main,
     plan_argument,
     readings_errors,
     width_option,
+    write_outputs,
 )
 
 
 @main.command()
 @plan_argument
-@click.argument("readings", type=click.Path(exists=False, dir_okay=True))
+@click.argument("readings", type=InputPath())
 @click.option("--sensor", "sensor_name", required=True, help="The compass that was swung.")
 @click.option("--state", default=None,
               help="The state of readings whose state cell is blank (needed when the plan has "
@@ -32,10 +33,10 @@ from .common import (
                    "sensor's reference state in the plan).")
 @click.option("--not-adjusted", is_flag=True,
               help="No correctors were set: compare with the whole field of the wiring.")
-@click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
+@click.option("--plot", "plot_path", type=OutputPath(),
               help="Draw readings, fitted and predicted curves: FILE.png or FILE.svg.")
-@click.option("--report", type=click.Path(dir_okay=False),
-              help="Also write the fit: FILE.xlsx or FILE.html (with the curves).")
+@click.option("--report", type=OutputPath(),
+              help="Also write the fit: FILE.xlsx, or FILE.html or FILE.pdf (with the curves).")
 @json_option
 @width_option
 @library_errors
@@ -55,17 +56,16 @@ def swing(plan, readings, sensor_name, state, on, adjusted_in, not_adjusted, plo
     """
     from .. import api
     from ..aftercare import read_swing, swing_comparison
-    from ..files import check_output
     from .common import CommandProblem
 
     if not_adjusted and adjusted_in:
         raise CommandProblem("give --adjusted-in or --not-adjusted, not both")
     the_plan = api.read_plan(plan)
     sensor = the_plan.sensor(sensor_name)
-    for target in (plot_path, report):
-        if target:
-            check_output(target, plan)
-            check_output(target, readings)
+    if report:
+        from ..render.reports import check_report_path
+
+        check_report_path(report, plan)
     data = read_swing(readings, the_plan, state)
     comparison = swing_comparison(the_plan, sensor, data, on=on,
                                   adjusted_in=None if not_adjusted else adjusted_in or "reference")
@@ -73,18 +73,7 @@ def swing(plan, readings, sensor_name, state, on, adjusted_in, not_adjusted, plo
         from ..render.aftercare import swing_plot
 
         swing_plot(comparison, plot_path)
-    if report:
-        from ..render.aftercare import write_swing
+    from ..render.documents.aftercare import swing_document
 
-        write_swing(comparison, report)
-    if as_json:
-        from ..render.aftercare import swing_json
-
-        echo_json(swing_json(comparison))
-        return
-    from ..render.aftercare import render_swing
-
-    render_swing(comparison, console_for(width))
-    for target, what in ((plot_path, "Curves"), (report, "Report")):
-        if target:
-            click.echo(f"{what} written to {target}")
+    write_outputs(swing_document(comparison), report, plan, as_json, width,
+                  [(plot_path, "Curves")])

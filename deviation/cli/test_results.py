@@ -7,20 +7,21 @@ import sys
 import click
 
 from .common import (
-    console_for,
-    echo_json,
+    InputPath,
+    OutputPath,
     json_option,
     library_errors,
     main,
     plan_argument,
     readings_errors,
     width_option,
+    write_outputs,
 )
 
 
 @main.command("test-results")
 @plan_argument
-@click.argument("readings", type=click.Path(exists=False, dir_okay=True))
+@click.argument("readings", type=InputPath())
 @click.option("--sensor", "sensor_name", default=None,
               help="The sensor watched (default: the sheet's settings).")
 @click.option("--heading", "heading_deg", type=click.FloatRange(0, 360), default=None,
@@ -35,8 +36,8 @@ from .common import (
               help="Reading resolution of the card, degrees (common practice, no source).")
 @click.option("--fraction", type=click.FloatRange(0, 1), default=0.25, show_default=True,
               help="Share of the predicted change allowed (common practice, no source).")
-@click.option("--report", type=click.Path(dir_okay=False),
-              help="Also write the comparison: FILE.xlsx or FILE.html.")
+@click.option("--report", type=OutputPath(),
+              help="Also write the comparison: FILE.xlsx, FILE.html or FILE.pdf.")
 @json_option
 @width_option
 @library_errors
@@ -59,26 +60,14 @@ def test_results(plan, readings, sensor_name, heading_deg, start_state, adjusted
 
     the_plan = api.read_plan(plan)
     if report:
-        from ..files import check_output
+        from ..render.reports import check_report_path
 
-        check_output(report, plan)
-        check_output(report, readings)
+        check_report_path(report, plan)
     results = read_switch_on_results(the_plan, readings, sensor=sensor_name,
                                      heading_deg=heading_deg, start_state=start_state,
                                      adjusted=adjusted, resolution_deg=resolution_deg,
                                      fraction=fraction)
-    if report:
-        from ..render.aftercare import write_results
+    from ..render.documents.aftercare import test_results_document
 
-        write_results(results, report)
-    if as_json:
-        from ..render.aftercare import results_json
-
-        echo_json(results_json(results))
-    else:
-        from ..render.aftercare import render_test_results
-
-        render_test_results(results, console_for(width))
-        if report:
-            click.echo(f"Report written to {report}")
+    write_outputs(test_results_document(results), report, plan, as_json, width)
     sys.exit(0 if results.agrees else 1)

@@ -5,13 +5,13 @@ from __future__ import annotations
 import click
 
 from .common import (
-    console_for,
-    echo_json,
+    OutputPath,
     json_option,
     library_errors,
     main,
     plan_argument,
     width_option,
+    write_outputs,
 )
 
 
@@ -27,9 +27,9 @@ from .common import (
 @click.option("--adjusted", is_flag=True,
               help="The compass already has its correctors set (or is calibrated) in its "
                    "reference state.")
-@click.option("--sheet", "sheet_path", type=click.Path(dir_okay=False),
+@click.option("--sheet", "sheet_path", type=OutputPath(),
               help="Also write the printable sheet: FILE.xlsx (fill it in and read it back with "
-                   "test-results) or FILE.html (to print).")
+                   "test-results), FILE.html or FILE.pdf (to print).")
 @json_option
 @width_option
 @library_errors
@@ -49,21 +49,15 @@ def test_sheet(plan, sensor_name, heading_deg, start_state, adjusted, sheet_path
 
     the_plan = api.read_plan(plan)
     if sheet_path:
-        from ..files import check_output
+        from ..render.reports import check_report_path
 
-        check_output(sheet_path, plan)
+        check_report_path(sheet_path, plan)
     test = switch_on_test(the_plan, sensor_name, heading_deg, start_state, adjusted)
+    from ..render.documents.aftercare import test_sheet_document
+
+    document = test_sheet_document(test)
     if sheet_path:
-        from ..render.aftercare import write_test_sheet
+        from ..render.reports import write_report
 
-        write_test_sheet(test, sheet_path)
-    if as_json:
-        from ..render.aftercare import test_json
-
-        echo_json(test_json(test))
-        return
-    from ..render.aftercare import render_test_sheet
-
-    render_test_sheet(test, console_for(width))
-    if sheet_path:
-        click.echo(f"Sheet written to {sheet_path}")
+        write_report(document, sheet_path, plan)
+    write_outputs(document, None, plan, as_json, width, [(sheet_path, "Sheet")])

@@ -5,12 +5,37 @@ evaluated pair by pair in float64 with fastmath off, so it matches the NumPy pat
 Observers are cut into tiles, one tile per parallel task; inside a tile the loop over observers
 is innermost so the compiler can vectorise it, and the currents of all K states are applied to
 each pair's geometry.
+
+The kernels may be called from several Python threads at once (a server, a notebook running
+searches side by side). numba's ``workqueue`` threading layer, the one it falls back to when
+neither OpenMP nor TBB is installed, aborts the whole process when two threads enter it together
+(numba documentation, "The Threading Layers": only ``tbb`` and ``omp`` are threadsafe), so the
+launches are serialised under that layer and run side by side under the others.
 """
 
+import threading
+
+import numba
 import numpy as np
 from numba import njit, prange
 
 _TILE = 512
+
+#: numba's threading layers that may be entered from several threads at once.
+THREADSAFE_LAYERS = ("tbb", "omp")
+_LAUNCH = threading.Lock()
+_layer = None                       # the layer numba chose, known after the first launch
+
+
+def _launch(kernel, *args):
+    """Run a parallel kernel; one thread at a time unless numba's layer is threadsafe."""
+    global _layer
+    if _layer in THREADSAFE_LAYERS:
+        kernel(*args)
+        return
+    with _LAUNCH:
+        kernel(*args)
+        _layer = numba.threading_layer()
 
 
 @njit(inline="always", fastmath=False)
@@ -93,7 +118,7 @@ def _kernel(start, end, current, radius2, length2, points, field, inside):  # pr
 def segment_field(start, end, current, radius2, length2, points, field, inside):
     """Accumulate the unscaled field (without mu0/4pi) into ``field`` (P, K, 3); set ``inside``."""
     hit = np.zeros(len(points), dtype=np.bool_)
-    _kernel(start, end, current, radius2, length2, points, field, hit)
+    _launch(_kernel, start, end, current, radius2, length2, points, field, hit)
     inside |= hit
 
 
@@ -152,4 +177,4 @@ def _group_kernel(start, end, weight, group, radius2, length2, points, field,
 
 def segment_field_by_group(start, end, weight, group, radius2, length2, points, field, inside):
     """Accumulate each group's unscaled field into ``field`` (P, G, 3); set ``inside`` (P, G)."""
-    _group_kernel(start, end, weight, group, radius2, length2, points, field, inside)
+    _launch(_group_kernel, start, end, weight, group, radius2, length2, points, field, inside)

@@ -181,16 +181,26 @@ def spots_json(search):
 
 
 def cards_json(cards):
-    """The result of ``card --json``."""
-    return {"sensors": [{
-        "sensor": c.sensor.name,
-        "reference_state": c.sensor.reference_state,
-        "states": [{
-            "state": st.state,
-            "headings": [{"heading_deg": float(psi), "deviation_deg": _deg(st.deviation_deg[i]),
-                          "compass_deg": _deg(st.compass_deg[i]) if c.steers else None,
-                          "unadjusted_deviation_deg": None if st.unadjusted_deg is None
-                          else _deg(st.unadjusted_deg[i])}
-                         for i, psi in enumerate(st.headings_deg)]}
-            for st in c.states]} for c in cards],
-        "cautions": list(CAUTIONS)}
+    """The result of ``card --json``: per sensor and state, the figure at each heading with the
+    band parts of unknown direction allow, and the state's held figure (in the budget's unit)."""
+    out = []
+    for c in cards:
+        scalar = not c.sensor.budget.degrees
+        name, band = (("total_field_error_nt", "band_nt") if scalar else
+                      ("deviation_deg", "band_deg"))
+        out.append({
+            "sensor": c.sensor.name,
+            "reference_state": c.sensor.reference_state,
+            "budget": {"value": c.sensor.budget.value, "unit": c.sensor.budget.unit.value},
+            "states": [{
+                "state": st.state, "status": st.status.value, "held": _held(st.held),
+                "unknown_ut": round(st.unknown_t * 1e6, 6), "level_worst": _held(st.level_worst),
+                "headings": [{"heading_deg": float(psi), name: _held(st.deviation_deg[i]),
+                              band: _held(min(float(st.band[i]), 180.0)),
+                              "compass_deg": (_deg(st.compass_deg[i])
+                                              if st.compass_deg is not None else None),
+                              "unadjusted_deviation_deg": None if st.unadjusted_deg is None
+                              else _deg(st.unadjusted_deg[i])}
+                             for i, psi in enumerate(st.headings_deg)]}
+                for st in c.states]})
+    return {"sensors": out, "cautions": list(CAUTIONS)}

@@ -159,7 +159,7 @@ def _stretches(points_m, scale):
     return segments, (points[:-1, 2] + points[1:, 2]) / 2
 
 
-def plan_view(plan, path=None):
+def plan_view(plan, path=None, fmt=None):
     """Plan view of the runs, sensors, equipment and volumes (x forward up the page, y port to
     the left).
 
@@ -231,12 +231,12 @@ def plan_view(plan, path=None):
     if ax.get_legend_handles_labels()[0]:
         ax.legend(loc="lower right", fontsize=7)
     fig.tight_layout()
-    data = _save(fig, path)
+    data = _save(fig, path, fmt)
     plt.close(fig)
     return data
 
 
-def budget_bars(analysis, path=None):
+def budget_bars(analysis, path=None, fmt=None):
     """Each sensor's held figure by state, as percent of its own budget (degrees or nT alike).
 
     States a sensor is not relied on in are drawn hatched and pale, and the legend says so: their
@@ -271,15 +271,18 @@ def budget_bars(analysis, path=None):
                          label="state not relied on (not held)"))
     ax.legend(handles=handles, fontsize=7)
     fig.tight_layout()
-    data = _save(fig, path)
+    data = _save(fig, path, fmt)
     plt.close(fig)
     return data
 
 
-def _save(fig, path):
-    """Write the figure to ``path`` (atomically) or return PNG/SVG bytes when path is None."""
+def _save(fig, path, fmt=None):
+    """Write the figure to ``path`` (atomically) or return its bytes when path is None, as
+    ``fmt`` ("png", "svg" or "pdf"; default: by the path's suffix, else PNG)."""
     buffer = io.BytesIO()
-    fmt = "svg" if path is not None and str(path).lower().endswith(".svg") else "png"
+    if fmt is None:
+        suffix = str(path).lower().rsplit(".", 1)[-1] if path is not None else "png"
+        fmt = suffix if suffix in ("svg", "pdf") else "png"
     fig.savefig(buffer, format=fmt)
     data = buffer.getvalue()
     if path is not None:
@@ -293,7 +296,38 @@ def _save(fig, path):
     return data
 
 
-def card_curves(card, path=None):
-    """Deviation curves of one sensor's card, drawn every degree, all states."""
-    curves = {st.state: st.curve_deviation_deg for st in card.states}
-    return deviation_curves(card.sensor.name, card.states[0].curve_headings_deg, curves, path)
+def card_curves(card, path=None, fmt=None):
+    """One sensor's card drawn every degree, all states: the figure of known direction, the band
+    the parts of unknown direction allow (shaded), and each used state's held figure as dashed
+    lines (it also counts the worst attitude); states not relied on drawn thin and dashed."""
+    plt = _pyplot()
+    scalar = not card.sensor.budget.degrees
+    fig, ax = plt.subplots(figsize=(7, 3.8), dpi=130)
+    colours = plt.rcParams["axes.prop_cycle"].by_key()["color"]
+    for i, st in enumerate(card.states):
+        colour = colours[i % len(colours)]
+        used = st.status.value != "not used"
+        values = st.curve_deviation_deg
+        band = np.minimum(st.curve_band, 180.0)
+        ax.plot(st.curve_headings_deg, values, lw=1.6 if used else 0.9, color=colour,
+                ls="-" if used else "--",
+                label=st.state + ("" if used else " (not relied on)"))
+        if np.any(band > 0):
+            ax.fill_between(st.curve_headings_deg, values - band, values + band, color=colour,
+                            alpha=0.15 if used else 0.07, lw=0)
+        if used and np.isfinite(st.held) and (scalar or st.held < 180):
+            for sign in (1, -1):
+                ax.axhline(sign * st.held, color=colour, lw=0.8, ls=":")
+    ax.axhline(0, color="black", lw=0.6)
+    ax.set_xlim(0, 360)
+    ax.set_xticks(range(0, 361, 45))
+    ax.set_xlabel("magnetic heading [deg]")
+    ax.set_ylabel("total-field error [nT]" if scalar else "deviation [deg] (east +)")
+    ax.set_title(f"{card.sensor.name}: shaded, what unknown directions allow; dotted, the held "
+                 "figure", fontsize=9)
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7)
+    fig.tight_layout()
+    data = _save(fig, path, fmt)
+    plt.close(fig)
+    return data

@@ -2,17 +2,40 @@
 
 from __future__ import annotations
 
+import threading
+import time
+from dataclasses import replace
+
 from rich import box
-from rich.console import Console
+from rich.console import Console as _RichConsole
+from rich.padding import Padding
+from rich.segment import Segment
 from rich.table import Table
 from rich.text import Text
 
+from ..text import terminal_text
 from ..units import LENGTH_UNITS, format_length
-from . import view, words
-from .words import CAUTIONS, degrees
+from . import words
+from .model import Bullets, Paragraph, Tone
+from .model import Table as DocumentTable
+from .words import CAUTIONS, site_line
 
 #: Width of tables written to a file or a pipe, where no terminal says how wide it is.
 PIPED_WIDTH = 120
+
+
+class Console(_RichConsole):
+    """A rich console that shows every control character of the text it prints as U+FFFD.
+
+    Plan text (names, notes) may come from someone else; an escape sequence in it must not
+    retitle the terminal, move the cursor or hide and forge lines. Only the text is cleaned:
+    the console's own styles and cursor controls are written as rich makes them.
+    """
+
+    def _render_buffer(self, buffer):
+        return super()._render_buffer(
+            segment if segment.control else Segment(terminal_text(segment.text), segment.style)
+            for segment in buffer)
 
 
 def make_console(file=None, width=None):
@@ -32,20 +55,6 @@ def _style(status):
 
 def _ok(flag):
     return _style("ok" if flag else "over")
-
-
-def site_line(site):
-    parts = [f"H {site.horizontal_t * 1e6:.2f} µT", f"Z {site.vertical_t * 1e6:.2f} µT",
-             f"F {site.total_t * 1e6:.2f} µT"]
-    if site.declination_deg is not None:
-        side = "E" if site.declination_deg >= 0 else "W"
-        unc = (f" ±{site.declination_uncertainty_deg:.2f}°"
-               if site.declination_uncertainty_deg is not None else "")
-        parts.append(f"declination {abs(site.declination_deg):.2f}° {side}{unc}")
-    parts.append(f"inclination {site.inclination_deg:.1f}°")
-    source = "WMM2025" if site.source == "WMM2025" else "from the plan"
-    parts.append(f"{source}, {site.date_text}")
-    return "  ".join(parts)
 
 
 def render_site(site, console):
@@ -69,169 +78,243 @@ def render_site(site, console):
         console.print(Text(f"  {label:<14} {value}"))
 
 
-def render_check(analysis, console, *, all_runs=False, hints=True):
-    plan = analysis.plan
-    unit = plan.site.units
-    console.print(Text(f"Deviation budget · {plan.source}", style="bold"))
-    console.print(Text(f"Site  {site_line(analysis.site)}"))
-    warning = words.zone_warning(analysis.site)
-    if warning:
-        console.print(Text(warning, style="bold yellow"))
-    examples = words.example_rows(plan.skipped_examples)
-    if examples:
-        console.print(Text(examples[0].upper() + examples[1:] + ".", style="bold yellow"))
-    console.print()
+#: How each tone looks on a terminal.
+STYLE_OF = {Tone.PLAIN: "", Tone.GOOD: "green", Tone.BAD: "bold red", Tone.MUTED: "dim",
+            Tone.WARN: "bold yellow", Tone.STRONG: "bold"}
 
-    summary = Table(title=Text("Figure held against each budget (degrees; nT for a total-field "
-                               "magnetometer)"), box=_box(console),
-                    title_justify="left")
-    summary.add_column("sensor")
-    summary.add_column("budget", justify="right")
-    for state in plan.state_names:
-        summary.add_column(Text(state), justify="right")
-    summary.add_column("verdict")
-    rows = view.summary_rows(analysis)
-    for row in rows:
-        cells = [Text(row.sensor), row.budget_text]
-        for cell in row.cells:
-            text = cell.text if cell.status != "unused" else f"({cell.text})"
-            cells.append(Text(text, style=_style(cell.status)))
-        cells.append(Text(row.verdict, style=_ok(row.within_budget)))
-        summary.add_row(*cells)
-    console.print(summary)
-    if any(c.status == "unused" for row in rows for c in row.cells):
-        console.print("  (in brackets: a state the sensor is not relied on in; not held against "
-                      "its budget)")
-    for row in rows:
-        if row.adjustment_absorbs_deg is not None:
-            console.print(Text(f"  {row.sensor}: the adjustment in {row.reference_state!r} takes "
-                               f"out {words.with_degree_sign(row.adjustment_absorbs_deg)}"))
 
-    for result in analysis.sensors:
-        _render_sensor(result, analysis, console, unit, all_runs, hints)
-
-    if analysis.findings:
-        console.print(Text("Findings", style="bold"))
-        for finding in analysis.findings:
-            console.print(Text(f"  • {words.finding_text(finding)}"))
+def write_document(document, console, *, detail=False):
+    """Print a document: its heading, warnings, the sections meant for a screen (those marked
+    detail only with ``detail``), the cautions, and the verdict recapped in the last lines."""
+    console.print(Text(document.title, style="bold"))
+    for line in document.meta:
+        console.print(Padding(Text(line), (0, 0, 0, 0)))
+    for warning in document.warnings:
+        console.print(Text(warning, style=STYLE_OF[Tone.WARN]))
+    for section in document.sections:
+        if not section.screen or (section.detail and not detail):
+            continue
         console.print()
+        style = STYLE_OF[section.tone] + (" underline" if section.level <= 2 else "")
+        console.print(Text(section.title, style=style.strip()))
+        for block in section.blocks:
+            _write_block(block, console)
+    console.print()
     console.print(Text("Cautions", style="bold"))
-    for caution in CAUTIONS:
-        console.print(f"  • {caution}")
-
-
-def _render_sensor(result, analysis, console, unit, all_runs, hints):
-    sensor = result.sensor
-    console.print()
-    adjusted = (f"adjusted in {sensor.reference_state!r}, so the residual after adjustment counts"
-                if sensor.reference_state else "not adjusted, so the absolute deviation counts")
-    attitude = []
-    if sensor.max_heel_deg:
-        attitude.append(f"heel ±{sensor.max_heel_deg:g}°")
-    if sensor.max_pitch_deg:
-        attitude.append(f"pitch ±{sensor.max_pitch_deg:g}°")
-    console.print(Text(f"{sensor.name}", style="bold underline"))
-    console.print(Text(f"  {sensor.kind} at {words.position(sensor.position_m, unit)}; budget "
-                       f"{words.budget_text(sensor)}; {adjusted}"
-                       + ("; " + ", ".join(attitude) if attitude else "")))
-    if sensor.used_in is not None:
-        console.print(Text("  relied on in: " + ", ".join(sensor.used_in)))
-    for st in result.states:
-        _render_state(st, sensor, analysis, console, unit, all_runs, hints)
-    lines = words.fix_set_lines(result.fixes, unit, sensor.budget.unit) if hints else []
-    if lines:
+    _bullets(document.cautions, console)
+    if document.recap:
         console.print()
-        console.print(Text(f"{sensor.name}: the set of fixes, each figure with the changes "
-                           "before it made (every state it is used in, worst attitude and "
-                           "switching)", style="bold"))
-        for line in lines:
-            console.print(Text(f"  {line}"))
+        for paragraph in document.recap:
+            _write_block(paragraph, console)
 
 
-def _render_state(st, sensor, analysis, console, unit, all_runs, hints):
-    reference = sensor.reference_state
-    status = view.STATUS_CLASS[st.status]
-    console.print()
-    console.print(Text(view.state_title(sensor, st), style=_style(status)))
-    table = Table(box=_box(console), padding=(0, 1), pad_edge=False)
-    table.add_column("run / item", ratio=1, overflow="fold")
-    figure_unit = sensor.budget.unit
-    degrees_shown = sensor.budget.degrees
-    for name in ("A", "nearest", "horiz µT", "vert µT") + (
-            ("alone °",) if degrees_shown else (f"alone {figure_unit.label}",)):
-        table.add_column(name, justify="right", no_wrap=True)
-    if reference and degrees_shown:
-        table.add_column("residual °", justify="right", no_wrap=True)
-    table.add_column("of budget", justify="right", no_wrap=True)
-    rows, hidden = view.budget_rows(sensor, st, all_runs=all_runs)
-    for row in rows:
-        cells = [Text(row.name + (" ≤" if row.bound else "")),
-                 "" if row.current_a is None else f"{row.current_a:g}",
-                 format_length(row.nearest_m, unit), words.microtesla(row.horizontal_t),
-                 "" if row.vertical_t is None else words.microtesla(row.vertical_t),
-                 degrees(row.max_deviation_deg) if degrees_shown
-                 else words.figure_number(row.counted, figure_unit)]
-        if reference and degrees_shown:
-            cells.append("adjusted" if row.compensated else degrees(row.change_deg))
-        cells.append(words.share(row.share_of_budget, row.counted, figure_unit))
-        table.add_row(*cells)
-    console.print(table)
-    if hidden:
-        console.print(f"  {hidden} more run(s) below {view.NEGLIGIBLE_SHARE * 100:g} % of the "
-                      "budget each (--all-runs lists them)")
-    if any(row.bound for row in rows):
-        console.print("  ≤ includes an upper bound: a labelled safe distance (IEC 60945), a magnet "
-                      "of unknown orientation, a pair whose lie the plan does not say, or a twisted "
-                      "run's untwisted ends and floor")
-    for total in view.total_rows(sensor, st):
-        line = f"  {total.label}: {words.with_degree_sign(total.value_deg)}"
-        if total.held:
-            share = ("" if st.overwhelmed else
-                     f" ({sensor.budget.share(st.held) * 100:.0f} % of the budget)")
-            console.print(Text(f"  {total.label}: {words.held_text(sensor, st)} of "
-                               f"{words.budget_text(sensor)}{share}", style=_style(status)))
-        else:
-            console.print(Text(line))
-    for line in view.total_field_lines(sensor, st):
-        console.print(Text(f"  {line}", style=_style(status) if "held" in line else ""))
-    if sensor.kind == "magnetometer":
-        console.print(f"  disturbance {st.fraction_of_total * 100:.1f} % of the Earth's total "
-                      f"field ({analysis.site.total_t * 1e6:.1f} µT)")
-    if st.overwhelmed:
-        console.print(Text("  The disturbance is at least as strong as the Earth's horizontal "
-                           "field here: the sensor can point anywhere.", style="bold red"))
-    if hints:
-        for remedy in st.remedies:
-            text = words.remedy_text(remedy, unit, analysis.plan.source, sensor.budget.unit)
-            console.print(Text(f"  → {text}"))
+def _write_block(block, console):
+    if isinstance(block, Paragraph):
+        # Wrapped lines keep the paragraph's indent.
+        console.print(Padding(Text(block.text, style=STYLE_OF[block.tone]),
+                              (0, 0, 0, 2 * (block.indent + 1))))
+    elif isinstance(block, Bullets):
+        _bullets(block.items, console, STYLE_OF[block.tone], block.ordered)
+    elif isinstance(block, DocumentTable):
+        _table(block, console)
+    # Charts are for paper.
 
 
-class progress_bar:
-    """A context giving the spot search a progress callback; draws only on a terminal."""
+def _bullets(items, console, style="", ordered=False):
+    """Wrapped lines stay indented under their bullet (or number)."""
+    grid = Table.grid(padding=(0, 1))
+    grid.add_column(width=4 if ordered else 3, justify="right")
+    grid.add_column()
+    for i, item in enumerate(items, start=1):
+        grid.add_row(f"{i}." if ordered else "•", Text(item, style=style))
+    console.print(grid)
 
-    def __init__(self, enabled=True, minimum=200_000):
-        self.enabled = enabled
-        self.minimum = minimum
-        self.progress = None
 
-    def __enter__(self):
-        def start(total):
-            console = Console(stderr=True)
-            if not (self.enabled and console.is_terminal and total >= self.minimum):
-                return None
-            from rich.progress import Progress
+#: A column heading this short is never broken into lines.
+SHORT_HEADING = 8
+#: Widest a name may be before it is folded (a name longer than this is rare).
+LONGEST_WORD = 30
 
-            self.progress = Progress(console=console, transient=True)
-            self.progress.start()
-            task = self.progress.add_task("searching", total=total)
-            return lambda n: self.progress.advance(task, n)
 
-        return start
+def _column_min(block, c):
+    """The least width of a column: its longest number (never broken), or its longest word."""
+    column = block.columns[c]
+    texts = [row[c].text for row in block.rows if c < len(row)]
+    head = max((len(w) for w in column.title.split()), default=1)
+    if len(column.title) <= SHORT_HEADING:           # "x mm", "A", "held °" stay on one line
+        head = len(column.title)
+    if column.numeric:
+        return max([head] + [len(t) for t in texts])
+    longest = max((len(w) for t in texts for w in t.split()), default=1)
+    return min(max(head, longest), LONGEST_WORD)
 
-    def __exit__(self, *exc):
-        if self.progress is not None:
-            self.progress.stop()
-        return False
+
+def _chunks(block, width):
+    """Columns in groups that each fit ``width`` with the first column repeated: a table too
+    wide for the terminal is printed in parts, never with a number or a word cut. The parts are
+    as even as the fewest parts allow."""
+    mins = [_column_min(block, c) for c in range(len(block.columns))]
+
+    def split(capacity):
+        # A table is its columns, a space either side of each but the outer two, n + 1 rules.
+        chunks, current, used = [], [0], mins[0] + 2
+        for c in range(1, len(block.columns)):
+            if used + mins[c] + 3 > capacity and len(current) > 1:
+                chunks.append(current)
+                current, used = [0], mins[0] + 2
+            current.append(c)
+            used += mins[c] + 3
+        chunks.append(current)
+        return chunks
+
+    fewest = split(width)
+    if len(fewest) == 1:
+        return fewest, mins
+    total = sum(m + 3 for m in mins[1:])
+    capacity = mins[0] + 2 + total // len(fewest)
+    while capacity < width and len(split(capacity)) > len(fewest):
+        capacity += 1
+    return split(min(capacity, width)), mins
+
+
+def _on_screen(block):
+    """The table without what a screen has no use for: columns left for a pen, and columns
+    with nothing in them."""
+    keep = [c for c in range(len(block.columns))
+            if c not in block.pen and (not block.rows or any(row[c].text for row in block.rows))]
+    if len(keep) == len(block.columns):
+        return block
+    return replace(block, columns=tuple(block.columns[c] for c in keep),
+                   rows=tuple(tuple(row[c] for c in keep) for row in block.rows), pen=())
+
+
+def _table(block, console):
+    """A table whose numbers never break and whose names wrap only between words; too wide for
+    the terminal, it is printed in parts, each with the first column."""
+    block = _on_screen(block)
+    if block.title:
+        console.print(Text(block.title, style=STYLE_OF[block.tone]))
+    chunks, mins = _chunks(block, console.width)
+    for part, columns in enumerate(chunks):
+        table = Table(box=_box(console), padding=(0, 1), pad_edge=False,
+                      show_header=any(c.title for c in block.columns))
+        for c in columns:
+            column = block.columns[c]
+            header = Text(column.title, overflow="fold")
+            if column.numeric:
+                table.add_column(header, justify="right", width=mins[c])
+            else:
+                table.add_column(header, min_width=mins[c], overflow="fold",
+                                 ratio=1 if column.wrap else None)
+        for row in block.rows:
+            table.add_row(*(Text(row[c].text, style=STYLE_OF[row[c].tone],
+                                 no_wrap=block.columns[c].numeric) for c in columns))
+        if len(chunks) > 1:
+            console.print(Text(f"  (part {part + 1} of {len(chunks)})", style="dim"))
+        console.print(table)
+    for note in block.notes:
+        console.print(Padding(Text(note), (0, 0, 0, 2)))
+
+
+class TerminalProgress:
+    """Shows the library's progress (:mod:`deviation.progress`) as lines on stderr.
+
+    Only on a terminal, only for a step still running after ``delay_s`` (one second), and the
+    lines go away when the step ends: short commands, pipes, files and JSON never see one.
+    """
+
+    def __init__(self, enabled=True, delay_s=1.0, console=None):
+        self.console = console or Console(stderr=True)
+        self.enabled = enabled and self.console.is_terminal
+        self.delay_s = delay_s
+        self._lock = threading.Lock()
+        self._progress = None
+        self._shown = 0
+
+    def start(self, label, total):
+        if not self.enabled or total <= 0:
+            return None
+        return _TerminalStep(self, label, total)
+
+    def _add(self, label, total, completed, started):
+        with self._lock:
+            if self._progress is None:
+                from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn
+
+                self._progress = Progress(TextColumn("{task.description}"), BarColumn(),
+                                          MofNCompleteColumn(), _since_column(),
+                                          console=self.console, transient=True)
+                self._progress.start()
+            self._shown += 1
+            return self._progress.add_task(label, total=total, completed=completed,
+                                           started=started)
+
+    def _remove(self, task):
+        with self._lock:
+            self._progress.remove_task(task)
+            self._shown -= 1
+            if not self._shown:
+                self._progress.stop()
+                self._progress = None
+
+    def _update(self, task, completed):
+        with self._lock:
+            if self._progress is not None:
+                self._progress.update(task, completed=completed)
+
+    def close(self):
+        """Take every line away (a command ending, or interrupted)."""
+        with self._lock:
+            if self._progress is not None:
+                self._progress.stop()
+                self._progress = None
+                self._shown = 0
+
+
+def _since_column():
+    """The time since the step began (not since its line appeared)."""
+    from rich.progress import ProgressColumn
+
+    class Since(ProgressColumn):
+        def render(self, task):
+            return Text(f"{time.monotonic() - task.fields['started']:.0f} s", style="dim")
+
+    return Since()
+
+
+class _TerminalStep:
+    """One step: shown once it has run ``delay_s``; advanced; taken away when done."""
+
+    def __init__(self, owner, label, total):
+        self.owner, self.label, self.total = owner, label, total
+        self.completed = 0
+        self.started = time.monotonic()
+        self.task = None
+        self.finished = False
+        self._lock = threading.Lock()
+        self._timer = threading.Timer(owner.delay_s, self._show)
+        self._timer.daemon = True
+        self._timer.start()
+
+    def _show(self):
+        with self._lock:
+            if not self.finished:
+                self.task = self.owner._add(self.label, self.total, self.completed,
+                                            self.started)
+
+    def advance(self, n=1):
+        with self._lock:
+            self.completed += n
+            if self.task is not None:
+                self.owner._update(self.task, self.completed)
+
+    def done(self):
+        with self._lock:
+            self.finished = True
+            self._timer.cancel()
+            if self.task is not None:
+                self.owner._remove(self.task)
+                self.task = None
 
 
 def render_spots(search, plan, console, seconds):

@@ -176,20 +176,17 @@ def fix_step_action(step, unit_system) -> str:
     return remedy_action(step, unit_system)
 
 
+#: What a set of fixes that does not reach the budget ends with.
+NO_FIX_SET = "no combination of rerouting the largest culprits fixes it; move the sensor"
+
+
 def fix_set_lines(fixes, unit_system, unit=Unit.DEGREES) -> list[str]:
-    """A sensor's set of fixes as numbered lines, with the held figure after each."""
+    """A sensor's set of fixes, one line per change in order, with the held figure after each
+    (the numbering is the writer's); see :data:`NO_FIX_SET` for how one that falls short ends."""
     if fixes is None:
         return []
-    if not fixes.steps and fixes.reaches_budget:
-        return []
-    lines = []
-    for i, step in enumerate(fixes.steps, start=1):
-        lines.append(f"{i}. {fix_step_action(step, unit_system)}: then "
-                     f"{figure_text(step.after, unit)}"
-                     + (" (within budget)" if step.within_after else ""))
-    if not fixes.reaches_budget:
-        lines.append("no combination of rerouting the largest culprits fixes it; move the sensor")
-    return lines
+    return [f"{fix_step_action(step, unit_system)}: then {figure_text(step.after, unit)}"
+            + (" (within budget)" if step.within_after else "") for step in fixes.steps]
 
 
 def remedy_text(remedy, unit_system, plan_source="PLAN", unit=Unit.DEGREES) -> str:
@@ -214,26 +211,30 @@ def finding_message(finding) -> str:
     if rule == "inside-safe-distance":
         return (f'"{finding.subject}" is {finding.distance_m:.2f} m from the sensor, inside its '
                 f"labelled {finding.label} compass safe distance of {finding.limit_m:.2f} m")
-    if rule == "magnetometer-share":
-        return interference_words(finding.label, finding.fraction, finding.state)
+    if rule == "compensation":
+        outcome = ("within its budget: give the host the current measurement and learn the "
+                   "compensation after installation, then check the residual"
+                   if finding.within else "still over its budget: move the sensor "
+                   "(deviation spot) or reroute the culprit runs")
+        return (f"with the current compensation its host can learn from the currents it "
+                f"measures, {with_degree_sign(finding.figure)} would remain: {outcome}")
     raise ValueError(f"unknown finding {rule!r}")
 
 
-#: What each interference grade asks of the installer.
-GRADE_ADVICE = {
-    "acceptable": "fine as planned; calibrate in the final installation",
-    "marginal": "usable only with current compensation: give the host a current measurement, "
-                "learn the compensation after installation and check the residual",
-    "move": "too close to the wiring for compensation to be trusted: find the sensor a quieter "
-            "place (deviation spot) or reroute the culprit runs",
-}
+#: How an electronic sensor's standing reads.
+STANDING_WORDS = {"within": "within its budget as installed",
+                  "within compensated": "within its budget only with current compensation",
+                  "over": "over its budget, even with the compensation its host can learn"}
 
 
-def interference_words(grade, fraction, state) -> str:
-    """The interference grade of an electronic sensor, in words."""
-    where = f" (worst in {state!r})" if state else ""
-    return (f"at full current the wiring and equipment put {fraction * 100:.0f} % of the Earth's "
-            f"field at the sensor{where}: {grade}, {GRADE_ADVICE[grade]}")
+def standing_words(grade) -> str:
+    """An electronic sensor's grade, in words, with the share of F beside it as a number."""
+    text = (f"{STANDING_WORDS[grade.standing.value]} (held {with_degree_sign(grade.held)} in "
+            f"{grade.state!r}")
+    if grade.compensated is not None:
+        text += f"; {with_degree_sign(grade.compensated)} after compensation"
+    return (text + f"); the interference reaches {grade.fraction * 100:.0f} % of the Earth's "
+            f"field in {grade.fraction_state!r}")
 
 
 def finding_source(finding) -> str:
@@ -255,3 +256,17 @@ def zone_warning(site) -> str | None:
         return ("The site is in the caution zone (H below 6 µT): compasses degrade here and small "
                 "disturbances give large deviations.")
     return None
+
+
+def site_line(site):
+    parts = [f"H {site.horizontal_t * 1e6:.2f} µT", f"Z {site.vertical_t * 1e6:.2f} µT",
+             f"F {site.total_t * 1e6:.2f} µT"]
+    if site.declination_deg is not None:
+        side = "E" if site.declination_deg >= 0 else "W"
+        unc = (f" ±{site.declination_uncertainty_deg:.2f}°"
+               if site.declination_uncertainty_deg is not None else "")
+        parts.append(f"declination {abs(site.declination_deg):.2f}° {side}{unc}")
+    parts.append(f"inclination {site.inclination_deg:.1f}°")
+    source = "WMM2025" if site.source == "WMM2025" else "from the plan"
+    parts.append(f"{source}, {site.date_text}")
+    return "  ".join(parts)

@@ -305,7 +305,7 @@ def drawn(monkeypatch):
 
     figures = []
 
-    def keep(fig, path):
+    def keep(fig, path, fmt=None):
         figures.append(fig)
         return b""
 

@@ -278,8 +278,8 @@ def test_sensor_axes_turn_vectors_into_the_sensor_frame_for_an_asymmetric_mounti
 
 def test_the_grade_takes_the_whole_vector_not_its_horizontal_part():
     # A long wire beside the sensor at its height, 5 cm to starboard: its field is vertical
-    # (+z, right-hand rule), mu0 I/(2 pi d) = 40 uT at 10 A, 89 % of F = 44.7 uT: "move",
-    # though nothing of it is horizontal.
+    # (+z, right-hand rule), mu0 I/(2 pi d) = 40 uT at 10 A, 89 % of F = 44.7 uT, though
+    # nothing of it is horizontal.
     tables = {"site": site(), "states": [{"circuit": "feed", "on": 10.0}],
               "runs": [{"run": "feed", "circuits": "feed", "route": "-50, -0.05, 0 > 50, -0.05, 0",
                         "return": "none"}],
@@ -288,7 +288,7 @@ def test_the_grade_takes_the_whole_vector_not_its_horizontal_part():
     report = report_of(tables)
     size = 2e-7 * 10 / 0.05 * 50 / math.hypot(50, 0.05)
     assert report.states[0].interference_t == pytest.approx(size, rel=1e-9)
-    assert report.grade.grade == "move"
+    assert report.grade.fraction == pytest.approx(size / math.hypot(H, Z), rel=1e-9)
 
 
 def test_the_inclination_check_counts_equipment_of_unknown_orientation():

@@ -1,14 +1,12 @@
 """The library as a notebook user meets it: read, check, tables, what-ifs; layers kept apart."""
 
 import dataclasses
-import json
 import math
 import subprocess
 import sys
 from pathlib import Path
 
 import pytest
-from click.testing import CliRunner
 
 import deviation
 from conftest import SAMPLES, straight_wire_plan
@@ -89,17 +87,64 @@ def test_plan_from_tables_reports_located_findings():
                      'paired, twisted, separate, none; did you mean "paired"?']
 
 
-def test_json_and_terminal_show_the_same_figures():
-    from deviation.cli import main
+@pytest.mark.parametrize("name", ["cruising_sailboat", "camper_van", "survey_drone",
+                                  "survey_boom"])
+def test_to_tables_round_trips_through_plan_from_tables(name):
+    plan = deviation.read_plan(SAMPLES / name)
+    tables = plan.to_tables()
+    assert set(tables) >= {"site", "runs", "sensors"}
+    assert list(tables["sensors"].columns[:3]) == ["sensor", "at", "kind"]   # the workbook's
+    again = deviation.plan_from_tables(tables, source="tables")
+    first, second = deviation.check(plan, remedies=False), deviation.check(again, remedies=False)
+    assert [s.sensor.budget for s in first.sensors] == [s.sensor.budget for s in second.sensors]
+    assert [st.held for s in first.sensors for st in s.states] == \
+        [st.held for s in second.sensors for st in s.states]
 
-    runner = CliRunner()
-    sample = str(SAMPLES / "cruising_sailboat")
-    data = json.loads(runner.invoke(main, ["check", sample, "--json"]).output)
-    text = runner.invoke(main, ["check", sample, "--width", "200"]).output
-    for sensor in data["sensors"]:
-        for state in sensor["states"]:
-            figure = f"{state['held']:.2f}°"
-            assert f"{state['state']}: {figure} of {sensor['budget']['value']:g}°" in text
-            for total in state["totals"]:
-                if total["deg"] is not None and total["deg"] < 180:
-                    assert f"{total['figure']}: {total['deg']:.2f}°" in text.replace("\n", " ")
+
+def test_a_what_if_that_leaves_a_run_inconsistent_is_a_located_plan_error():
+    plan = deviation.read_plan(SAMPLES / "cruising_sailboat")
+    run = plan.runs[2]                                   # the instrument feed, a separate return
+    broken = dataclasses.replace(run, geometry=dataclasses.replace(
+        run.geometry, return_kind="paired", return_route_m=None))
+    with pytest.raises(deviation.PlanError) as caught:
+        dataclasses.replace(plan, runs=plan.runs[:2] + (broken,) + plan.runs[3:])
+    [finding] = caught.value.findings
+    assert (finding.sheet, finding.row, finding.column) == ("runs", 4, "spacing")
+    assert str(finding).endswith('run "instrument feed": a paired run needs a spacing of more '
+                                 "than zero")
+    sensor = dataclasses.replace(plan.sensors[0], reference_state="at sea")
+    with pytest.raises(deviation.PlanError, match='"at sea" is not a state of the plan'):
+        dataclasses.replace(plan, sensors=(sensor,) + plan.sensors[1:])
+
+
+def test_plans_and_results_show_short_in_a_notebook():
+    plan = deviation.read_plan(SAMPLES / "cruising_sailboat")
+    assert repr(plan) == ("<Plan 'sample_installs/cruising_sailboat': 8 runs, 7 circuits, "
+                          "3 states, 2 sensors, 1 equipment item>").replace(
+        "sample_installs/cruising_sailboat", plan.source)
+    assert "<table>" in plan._repr_html_() and "helm compass" in plan._repr_html_()
+    result = deviation.check(plan, remedies=False)
+    text = repr(result)
+    assert text.startswith("<CheckResult") and "over budget" in text and len(text) < 300
+    assert "helm compass over (1.20° of 1° in night motoring)" in text
+    frame = result.verdict_frame()
+    assert list(frame["sensor"]) == ["helm compass", "autopilot sensor"]
+    assert frame.loc[0, "night motoring"] == result.sensors[0].state("night motoring").held
+    assert "<table" in result._repr_html_()
+
+
+def test_electronic_and_area_results_give_frames():
+    plan = deviation.read_plan(SAMPLES / "survey_drone")
+    [report] = deviation.electronic_figures(plan)
+    states = report.to_frame()
+    assert list(states["state"]) == list(plan.state_names)
+    assert states["percent_of_total_field"].max() == pytest.approx(
+        report.grade.fraction * 100)
+    amps = report.per_ampere_frame()
+    assert set(amps["circuit"]) == {c.name for c in plan.circuits}
+    area = deviation.operating_area(plan).to_frame()
+    assert len(area) == 3 and set(area["unit"]) == {"deg"}
+    # H is weaker to the north, so a field fixed to the vehicle deviates it more there.
+    north = area.loc[area["latitude_deg"].idxmax()]
+    south = area.loc[area["latitude_deg"].idxmin()]
+    assert north["horizontal_ut"] < south["horizontal_ut"] and north["held"] > south["held"]

@@ -1,11 +1,14 @@
 """Reading plans: the sample plans load; every bad plan gets one finding naming where."""
 
 import hashlib
+from dataclasses import replace
 
 import numpy as np
 import pytest
 
-from conftest import SAMPLES, straight_wire_plan
+from conftest import SAMPLES, run_cli, straight_wire_plan
+from deviation.analysis import analyse
+from deviation.errors import Problem
 from deviation.plan import PlanError
 from deviation.reader import read_plan
 
@@ -118,9 +121,26 @@ def test_sensor_inside_a_conductor_names_sensor_and_run(plan_dir):
     sheets["runs"][1][2] = "-1, 0.002, 0 > 1, 0.002, 0"
     sheets["runs"][1][4] = "10 AWG"           # insulated diameter 4.3 mm -> radius 2.15 mm
     path = plan_dir(sheets)
-    assert findings_of(path) == [
+    plan = read_plan(path)                    # reading does not route: the analysis finds it
+    with pytest.raises(PlanError) as caught:
+        analyse(plan)
+    [finding] = caught.value.findings
+    assert str(finding) == (
         f'{path}: sensors row 2, at: sensor "compass" lies inside run "long feed" (2.0 mm from a '
-        "conductor's axis, radius 2.1 mm); move the sensor or the run"]
+        "conductor's axis, radius 2.1 mm); move the sensor or the run")
+    assert (finding.sheet, finding.row, finding.column, finding.kind) == (
+        "sensors", 2, "at", Problem.INCONSISTENT)
+    result = run_cli("check", path)
+    assert result.exit_code == 2 and "Traceback" not in result.output
+    assert 'sensor "compass" lies inside run "long feed"' in result.output
+
+
+def test_a_what_if_that_moves_a_sensor_into_a_run_is_a_finding(plan_dir):
+    # A plan changed in Python after reading is checked where it is analysed, not only on reading.
+    plan = read_plan(plan_dir(good()))
+    sensor = replace(plan.sensors[0], position_m=plan.runs[0].geometry.route_m[0])
+    with pytest.raises(PlanError, match="lies inside run"):
+        analyse(replace(plan, sensors=(sensor,)))
 
 
 def test_paired_run_needs_spacing_or_size(plan_dir):
@@ -143,9 +163,30 @@ def test_date_outside_the_model_is_a_finding(plan_dir):
     sheets = good()
     sheets["site"] = [["setting", "value"], ["latitude", 50], ["longitude", 0], ["date", "2031-01-01"]]
     path = plan_dir(sheets)
-    assert findings_of(path) == [f"{path}: site row 4, value: 2031.00 is outside the validity of "
-                                 "WMM-2025 (2025.0-2030.0); give the site's field from a measurement "
-                                 "or a current model instead"]
+    assert findings_of(path) == [f"{path}: site row 4, value: the date 2031-01-01 is after the span "
+                                 "WMM-2025 is valid for (from 2025-01-01 up to 2030-01-01); give "
+                                 "the site's field from a measurement (horizontal_field_ut) or a "
+                                 "current model instead"]
+
+
+@pytest.mark.parametrize("date, when", [("2024-12-31", "before"), ("2024.999", "before"),
+                                        ("2030.001", "after")])
+def test_a_date_just_outside_the_model_is_refused_without_contradiction(plan_dir, date, when):
+    # 2024-12-31 is decimal year 2024.997; shown to two decimals it read "2025.00 is outside
+    # 2025.0-2030.0". The message gives the date as written.
+    sheets = good()
+    sheets["site"] = [["setting", "value"], ["latitude", 50], ["longitude", 0], ["date", date]]
+    path = plan_dir(sheets)
+    [line] = findings_of(path)
+    assert f"the date {date} is {when} the span WMM-2025 is valid for" in line
+    assert "2025.00" not in line
+
+
+@pytest.mark.parametrize("date", ["2025-01-01", "2029-12-31", "2030-01-01", "2025.0"])
+def test_the_edges_of_the_model_are_inside(plan_dir, date):
+    sheets = good()
+    sheets["site"] = [["setting", "value"], ["latitude", 50], ["longitude", 0], ["date", date]]
+    read_plan(plan_dir(sheets))
 
 
 def test_names_and_columns_are_case_and_space_insensitive(plan_dir):

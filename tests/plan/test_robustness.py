@@ -144,26 +144,27 @@ def test_a_date_where_a_number_belongs(tmp_path):
     book = openpyxl.load_workbook(path)
     book["states"]["B2"] = dt.date(2027, 1, 5)
     book.save(path)
-    assert one_finding(path) == [f"{path}: states row 2, harbour: a date or time (2027-01-05) is "
-                                 "not a current in amperes; format the cell as a number"]
+    assert one_finding(path) == [f"{path}: states row 2, harbour: the spreadsheet turned this cell "
+                                 "into a date (2027-01-05); format the cell as text (or as a "
+                                 "number) and type the value again"]
 
 
 def test_huge_sheet_is_refused_quickly(plan_dir):
     sheets = straight_wire_plan()
     sheets["runs"] += [[f"r{i}", "feed", "0,1,0 > 1,1,0", "none"] for i in range(25_000)]
     path = plan_dir(sheets)
-    assert one_finding(path) == [f"{path}: runs: 25001 rows is more than the 20000 a plan may "
-                                 "have; split the plan or remove empty formatted rows"]
+    assert one_finding(path) == [f"{path}: runs: 25001 rows is more than the 20000 a sheet may "
+                                 "have; split the plan or delete the empty formatted rows"]
 
 
 def test_absurd_twisted_run_is_refused_not_computed(plan_dir):
     sheets = straight_wire_plan(kind="twisted")
-    sheets["runs"][1][2] = "0, 1, 0 > 100000, 1, 0"
+    sheets["runs"][1][2] = "0, 1, 0 > 9000, 1, 0"
     sheets["runs"][1][5], sheets["runs"][1][6] = "5 mm", "1 mm"
     path = plan_dir(sheets)
     assert one_finding(path) == [
-        f"{path}: runs row 2, lay: a twisted run of 100000.0 m with a 1.0 mm lay needs "
-        "2,400,000,006 segments, more than the 2,000,000 a run may have; check the lay and the route"]
+        f"{path}: runs row 2, lay: a twisted run of 9000.0 m with a 1.0 mm lay needs "
+        "216,000,006 segments, more than the 2,000,000 a run may have; check the lay and the route"]
 
 
 def test_defusedxml_guards_openpyxl():

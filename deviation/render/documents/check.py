@@ -1,0 +1,534 @@
+"""The check as one document: summary, each sensor (short, and every state in detail), the set of
+fixes, findings, pictures and cards for paper, and the verdict recapped."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ...quantities import Budget, Status, Unit
+from .. import words
+from ..drawing import drawing_svg, two_views
+from ..model import (
+    TONE_OF,
+    Bullets,
+    Cell,
+    Chart,
+    Column,
+    Document,
+    Paragraph,
+    Section,
+    Table,
+    Tone,
+    cell,
+)
+from .common import Lengths, amperes, field_cell, figure, paper_for, share, stamp
+
+#: Runs below this share of the budget are summed on one line unless all runs are asked for.
+NEGLIGIBLE_SHARE = 0.005
+#: What an overwhelmed sensor is told.
+OVERWHELMED_LINE = ("The disturbance is at least as strong as the Earth's horizontal field here: "
+                    "the sensor can point anywhere.")
+#: Runs named in a sensor's short account (the terminal's default), largest first.
+SHORT_RUNS = 3
+
+
+@dataclass(frozen=True)
+class SummaryCell:
+    state: str
+    cell: Cell                         # the held figure as every writer shows it
+    status: Status
+
+
+@dataclass(frozen=True)
+class SummaryRow:
+    """A sensor's line of the summary: its budget, held figure per state and verdict."""
+
+    sensor: str
+    kind: str
+    budget: Budget
+    reference_state: str | None
+    cells: tuple[SummaryCell, ...]
+    status: Status
+    verdict: str
+    adjustment_absorbs_deg: float | None
+
+
+def summary_rows(analysis) -> tuple[SummaryRow, ...]:
+    """The summary, one row per sensor (what the contract test compares across outputs)."""
+    rows = []
+    for result in analysis.sensors:
+        s = result.sensor
+        cells = tuple(SummaryCell(st.state, figure(st.held, s.budget.unit,
+                                                   overwhelmed=st.overwhelmed,
+                                                   tone=TONE_OF[st.status],
+                                                   bracket=not st.used), st.status)
+                      for st in result.states)
+        over = result.over_in
+        verdict = "within budget" if not over else "over in " + ", ".join(over)
+        rows.append(SummaryRow(s.name, s.kind, s.budget, s.reference_state, cells,
+                               result.status, verdict,
+                               result.adjustment_absorbs_deg if s.budget.degrees else None))
+    return tuple(rows)
+
+
+def _summary_section(analysis, rows):
+    plan = analysis.plan
+    columns = (Column("sensor", wrap=True), Column("budget", numeric=True),
+               *(Column(state, numeric=True) for state in plan.state_names), Column("verdict",
+                                                                                   wrap=True))
+    table_rows = tuple(
+        (cell(row.sensor), cell(row.budget.value, suffix=row.budget.unit.symbol),
+         *(c.cell for c in row.cells),
+         Cell(row.verdict, row.verdict, None, TONE_OF[row.status]))
+        for row in rows)
+    notes = []
+    if any(c.status is Status.NOT_USED for row in rows for c in row.cells):
+        notes.append("In brackets: a state the sensor is not relied on in; shown, not held "
+                     "against its budget.")
+    for row in rows:
+        if row.adjustment_absorbs_deg is not None:
+            notes.append(f"{row.sensor}: the adjustment in {row.reference_state!r} takes out "
+                         f"{words.with_degree_sign(row.adjustment_absorbs_deg)}.")
+    from .. import plots
+
+    blocks = [Table(columns, table_rows, "Figure held against each budget", notes=tuple(notes)),
+              Chart("held figure by state, as a share of each budget",
+                    lambda fmt: plots.budget_bars(analysis, fmt=fmt))]
+    return Section("Summary", tuple(blocks), sheet="summary")
+
+
+# The first page: a summary for the owner or surveyor ------------------------------------------
+
+#: What a sensor's verdict says on the first page, by its status.
+def _verdict_words(result):
+    sensor = result.sensor
+    worst = result.worst
+    held = words.held_text(sensor, worst)
+    if result.status is Status.WITHIN:
+        return (f"within its budget of {sensor.budget} in every state it is relied on in "
+                f"(at most {held}, in {worst.state})")
+    others = [s for s in result.over_in if s != worst.state]
+    also = f"; also over in {', '.join(others)}" if others else ""
+    if worst.overwhelmed:
+        return (f"over its budget of {sensor.budget}: overwhelmed in {worst.state}, it can point "
+                f"anywhere{also}")
+    return f"over its budget of {sensor.budget}: {held} in {worst.state}{also}"
+
+
+def _owner_section(analysis, rows, digest):
+    """Page 1: who and what the report is for, the plan file it came from, each sensor's
+    verdict in words, the fixes that make the plan pass, a drawing with the culprit, and a line
+    for whoever checks it."""
+    plan = analysis.plan
+    site = plan.site
+    from pathlib import Path
+
+    particulars = [("vessel or vehicle", site.vessel or ""), ("owner", site.owner or ""),
+                   ("installer", site.installer or ""),
+                   ("date of the plan", site.date_text),
+                   ("plan file", Path(str(plan.source)).name),
+                   ("plan SHA-256", digest or "not a file (built in Python)")]
+    blocks: list = [Table((Column("", wrap=True), Column("", wrap=True)),
+                          tuple((cell(a), cell(b)) for a, b in particulars),
+                          pen=())]
+    blocks.append(Table((Column("sensor", wrap=True), Column("verdict", wrap=True)),
+                        tuple((cell(r.sensor.name),
+                               Cell(_verdict_words(r), r.status.value, None, TONE_OF[r.status]))
+                              for r in analysis.sensors), "Each sensor's verdict"))
+    fixes = []
+    for result in analysis.sensors:
+        if result.status is Status.WITHIN or result.fixes is None:
+            continue
+        lines = words.fix_set_lines(result.fixes, site.units, result.sensor.budget.unit)
+        fixes.append(Paragraph(f"To bring {result.sensor.name} within its budget:", Tone.STRONG))
+        if lines:
+            fixes.append(Bullets(tuple(lines), ordered=True))
+        if not result.fixes.reaches_budget:
+            fixes.append(Paragraph(words.NO_FIX_SET, Tone.BAD))
+    if fixes:
+        blocks += fixes
+    over = [r for r in analysis.sensors if r.status is not Status.WITHIN]
+    shown = max(over or analysis.sensors, key=lambda r: r.sensor.budget.share(r.worst.held))
+    blocks.append(Table((Column("checked by", wrap=True), Column("date"),
+                         Column("signature")), ((cell(""), cell(""), cell("")),),
+                        pen=(0, 1, 2)))
+    blocks.append(Paragraph(" ".join(words.CAUTIONS[:2]), Tone.MUTED))
+    # Last, so that on paper it takes the room the page has left.
+    blocks.append(Chart(f"profile and plan around {shown.sensor.name}, the culprits heavier "
+                        "and named", lambda fmt: drawing_svg(plan, shown, width_mm=150,
+                                                             views=two_views(plan)),
+                        shrink=0.25))
+    return Section("Summary for the owner or surveyor", tuple(blocks), screen=False,
+                   workbook=False)
+
+
+def checklist_section(analysis):
+    """The installer's checklist of the fixes: a box to tick, and the lay, spacing and
+    clearance each change must achieve (paper only)."""
+    from ...units import format_length
+
+    units = analysis.plan.site.units
+    rows = []
+    for result in analysis.sensors:
+        if result.fixes is None:
+            continue
+        for step in result.fixes.steps:
+            rows.append((cell("☐"), cell(result.sensor.name), cell(step.run),
+                         cell({"pair": "return beside the supply", "twist": "twist with the "
+                               "return", "clearance": "keep clear of the sensor"}.get(
+                                   step.kind, step.kind)),
+                         cell(format_length(step.lay_m, units) if step.lay_m else ""),
+                         cell(format_length(step.spacing_m, units) if step.spacing_m else ""),
+                         cell(f"at least {format_length(step.clearance_m, units)}"
+                              if step.clearance_m else ""),
+                         figure(step.after, result.sensor.budget.unit,
+                                tone=Tone.GOOD if step.within_after else Tone.BAD)))
+    if not rows:
+        return None
+    columns = (Column("done"), Column("sensor", wrap=True), Column("run", wrap=True),
+               Column("change", wrap=True), Column("lay"), Column("centres"),
+               Column("clearance", wrap=True), Column("then", numeric=True))
+    return Section("Installer's checklist of the fixes", (
+        Paragraph("Tick each change when it is made; the lay (one full twist), the centre "
+                  "spacing of supply and return and the clearance from the sensor are what the "
+                  "figures assume. 'then': the sensor's held figure with this change and those "
+                  "above it made."),
+        Table(columns, tuple(rows))), screen=False, sheet="checklist", new_page=True)
+
+
+#: The words a report uses that a reader may not know, and what they mean.
+GLOSSARY = (
+    ("held against the budget", "the figure a sensor's verdict is judged by: the largest "
+     "deviation (or total-field error) over every heading, in the worst switching of the loads "
+     "that may be on, at the worst heel and pitch allowed, after adjustment where the sensor "
+     "has a reference state"),
+    ("level", "with the vessel upright: no heel or pitch"),
+    ("residual after adjustment", "what is left once the compass is adjusted (or the sensor "
+     "calibrated) in its reference state: the deviation of the field that changes from that "
+     "state, not the difference of two deviations"),
+    ("bound (≤)", "a figure that may be smaller but never larger: a part of unknown direction "
+     "(a pair whose lie is not given, a twisted run's ends, a labelled safe distance) counted "
+     "at its worst"),
+    ("not relied on", "a state in which the sensor is not used (the plan's used_in column): its "
+     "figure is shown in brackets and not held against the budget"),
+    ("overwhelmed", "the disturbance is at least the Earth's horizontal field: the sensor can "
+     "point anywhere"),
+)
+
+
+def glossary_section():
+    return Section("Words used in this report", (Table(
+        (Column("term", wrap=True), Column("meaning", wrap=True)),
+        tuple((cell(a), cell(b)) for a, b in GLOSSARY)),), screen=False, sheet="words")
+
+
+# A sensor ---------------------------------------------------------------------------------------
+
+def _sensor_line(sensor, lengths):
+    adjusted = (f"adjusted in {sensor.reference_state!r}, so the residual after adjustment counts"
+                if sensor.reference_state else "not adjusted, so the absolute deviation counts")
+    attitude = []
+    if sensor.max_heel_deg:
+        attitude.append(f"heel ±{sensor.max_heel_deg:g}°")
+    if sensor.max_pitch_deg:
+        attitude.append(f"pitch ±{sensor.max_pitch_deg:g}°")
+    lines = [Paragraph(f"{sensor.kind} at {lengths.position(sensor.position_m)}; budget "
+                       f"{sensor.budget}; {adjusted}"
+                       + ("; " + ", ".join(attitude) if attitude else ""))]
+    if sensor.used_in is not None:
+        lines.append(Paragraph("relied on in: " + ", ".join(sensor.used_in)))
+    return lines
+
+
+def state_title(sensor, st) -> str:
+    title = (f"{st.state}: {words.held_text(sensor, st)} of {sensor.budget} — "
+             f"{words.verdict(st)}")
+    if st.is_reference and sensor.budget.degrees:
+        title += (" (the reference state: the adjustment takes out "
+                  f"{words.with_degree_sign(st.heeled_max_deviation_deg)})")
+    if not st.used:
+        title += " (the sensor is not relied on in this state)"
+    return title
+
+
+def _shown_runs(sensor, st, all_runs):
+    """The runs of a state's table, and how many were left out as negligible."""
+    runs = list(st.runs)
+    if all_runs:
+        return runs, 0
+    if st.is_reference and sensor.budget.degrees:
+        # The shares are zero by definition in the reference state: show what is absorbed.
+        key = lambda r: sensor.budget.share(r.max_deviation_deg)  # noqa: E731
+    else:
+        key = lambda r: r.share_of_budget  # noqa: E731
+    shown = [r for r in runs if key(r) >= NEGLIGIBLE_SHARE] or runs[:1]
+    return shown, len(runs) - len(shown)
+
+
+def budget_table(sensor, st, lengths, all_runs=True, title=""):
+    """One state's table of runs and items (the runs below NEGLIGIBLE_SHARE summed in a note
+    unless ``all_runs``)."""
+    unit = sensor.budget.unit
+    degrees = unit is Unit.DEGREES
+    adjusted = bool(sensor.reference_state) and degrees
+    field_unit = "nT" if unit is Unit.NANOTESLA else "µT"
+    columns = [Column("run / item", wrap=True), Column("A", numeric=True),
+               Column(f"nearest {lengths.unit}", numeric=True),
+               Column(f"horiz {field_unit}", numeric=True),
+               Column(f"vert {field_unit}", numeric=True),
+               Column("alone °" if degrees else
+                      "residual nT" if sensor.reference_state else "alone nT", numeric=True)]
+    if adjusted:
+        columns.append(Column("residual °", numeric=True))
+    columns.append(Column("of budget", numeric=True))
+    runs, hidden = _shown_runs(sensor, st, all_runs)
+    rows = []
+    for r in runs:
+        bound = r.bound_t > 0
+        horizontal = float(np.hypot(r.field_t[0], r.field_t[1])) + r.bound_t
+        vertical = abs(float(r.field_t[2])) + r.unknown_t if bound else float(r.field_t[2])
+        row = [cell(r.name), amperes(r.current_a), lengths.cell(r.nearest_m),
+               field_cell(horizontal, unit, bound=bound), field_cell(vertical, unit, bound=bound),
+               figure(r.max_deviation_deg, unit, sign=False) if degrees else
+               figure(r.held, unit, sign=False)]
+        if adjusted:
+            row.append(figure(r.change_from_reference_deg, unit, sign=False))
+        row.append(share(r.share_of_budget, overwhelmed=degrees and r.held >= 180))
+        rows.append(tuple(row))
+    for item in st.equipment:
+        oriented = item.field_t is not None
+        horizontal = float(np.hypot(*item.field_t[:2])) if oriented else item.bound_t
+        vertical = float(item.field_t[2]) if oriented else item.bound_t
+        row = [cell(item.name), cell(None), lengths.cell(item.distance_m),
+               field_cell(horizontal, unit, bound=not oriented),
+               field_cell(vertical, unit, bound=not oriented),
+               figure(item.max_deviation_deg, unit, sign=False) if degrees else
+               figure(item.held, unit, sign=False)]
+        if adjusted:
+            row.append(Cell("adjusted", "adjusted") if item.compensated else
+                       figure(item.held, unit, sign=False))
+        row.append(share(sensor.budget.share(item.held),
+                         overwhelmed=degrees and item.held >= 180))
+        rows.append(tuple(row))
+    notes = []
+    if hidden:
+        notes.append(f"{hidden} more run{'s' if hidden != 1 else ''} below "
+                     f"{NEGLIGIBLE_SHARE * 100:g} % of the budget each (--all-runs lists them).")
+    if any(r.bound_t > 0 for r in runs) or any(e.field_t is None for e in st.equipment):
+        notes.append("≤ an upper bound: a part of unknown direction (a pair whose lie the plan "
+                     "does not say, a twisted run's ends and floor, a labelled safe distance "
+                     "(IEC 60945), a magnet of unknown orientation), shown at its largest.")
+    return Table(tuple(columns), tuple(rows), title, TONE_OF[st.status], tuple(notes))
+
+
+def total_lines(sensor, st):
+    """The totals under a state's table, and the held figure last."""
+    if not sensor.budget.degrees:
+        nt = 1e9
+        return [Paragraph(f"total-field error over headings and attitude: "
+                          f"{st.total_field_low_t * nt:+.2f} to {st.total_field_high_t * nt:+.2f}"
+                          f" nT; level heading error peak to peak "
+                          f"{st.heading_peak_to_peak_t * nt:.2f} nT"),
+                Paragraph(f"held against the budget ({words.held_figure(sensor)}): "
+                          f"{words.held_text(sensor, st)} of {sensor.budget} "
+                          f"({sensor.budget.share(st.held) * 100:.0f} % of the budget)",
+                          TONE_OF[st.status])]
+    lines = [("all together (vector sum), level", st.vector_deviation_deg),
+             ("if every field lined up, level", st.magnitude_bound_deg)]
+    if st.equipment_bound_t:
+        lines.append(("with equipment bounds, level", st.max_deviation_deg))
+    if sensor.max_heel_deg or sensor.max_pitch_deg:
+        lines.append(("absolute, worst attitude", st.heeled_max_deviation_deg))
+    if sensor.reference_state:
+        lines.append(("residual after adjustment, level", st.change_from_reference_deg))
+    out = [Paragraph(f"{label}: {words.with_degree_sign(value)}") for label, value in lines]
+    share_text = ("" if st.overwhelmed else
+                  f" ({sensor.budget.share(st.held) * 100:.0f} % of the budget)")
+    out.append(Paragraph(f"held against the budget ({words.held_figure(sensor)}): "
+                         f"{words.held_text(sensor, st)} of {sensor.budget}{share_text}",
+                         TONE_OF[st.status]))
+    return out
+
+
+def _state_blocks(sensor, st, analysis, lengths, all_runs):
+    plan = analysis.plan
+    blocks = [budget_table(sensor, st, lengths, all_runs), *total_lines(sensor, st)]
+    if sensor.kind == "magnetometer":
+        blocks.append(Paragraph(f"disturbance {st.fraction_of_total * 100:.1f} % of the Earth's "
+                                f"total field ({analysis.site.total_t * 1e6:.1f} µT)"))
+    if st.overwhelmed:
+        blocks.append(Paragraph(OVERWHELMED_LINE, Tone.BAD))
+    if st.remedies:
+        blocks.append(Bullets(tuple("→ " + words.remedy_text(m, plan.site.units, plan.source,
+                                                             sensor.budget.unit)
+                                    for m in st.remedies)))
+    return blocks
+
+
+def _fix_blocks(result, plan):
+    fixes = result.fixes
+    if fixes is None or (not fixes.steps and fixes.reaches_budget):
+        return []
+    blocks = [Paragraph("The set of fixes, each figure with the changes before it made (every "
+                        "state it is used in, worst attitude and switching):", Tone.STRONG)]
+    lines = words.fix_set_lines(fixes, plan.site.units, result.sensor.budget.unit)
+    if lines:
+        blocks.append(Bullets(tuple(lines), ordered=True))
+    if not fixes.reaches_budget:
+        blocks.append(Paragraph(words.NO_FIX_SET, Tone.BAD))
+    return blocks
+
+
+def _short_blocks(result, analysis, lengths):
+    """A sensor in a few lines: its worst state, the runs behind it, the fixes."""
+    sensor = result.sensor
+    worst = result.worst
+    blocks = _sensor_line(sensor, lengths)
+    blocks.append(Paragraph(f"worst state: {state_title(sensor, worst)}", TONE_OF[worst.status]))
+    if worst.overwhelmed:
+        blocks.append(Paragraph(OVERWHELMED_LINE, Tone.BAD))
+    ranked = [r for r in worst.runs if r.share_of_budget >= NEGLIGIBLE_SHARE][:SHORT_RUNS]
+    if ranked:
+        unit = sensor.budget.unit
+        def share_of(r):
+            if unit is Unit.DEGREES and r.held >= words.OVERWHELMED_DEG:
+                return ""                     # no share of a figure that is not a figure
+            return f" ({r.share_of_budget * 100:.0f} %" + (", a bound" if r.bound_t > 0
+                                                           else "") + ")"
+
+        blocks.append(Paragraph("largest there: " + "; ".join(
+            f"{r.name} {words.figure_text(r.held, unit)}{share_of(r)}" for r in ranked)))
+    blocks += _fix_blocks(result, analysis.plan)
+    return blocks
+
+
+def _card_section(card):
+    from .card import card_blocks
+
+    return Section(f"Predicted deviation card: {card.sensor.name}", tuple(card_blocks(card)),
+                   screen=False, sheet=f"card {card.sensor.name}", new_page=True)
+
+
+def _site_section(site):
+    """The site's field, for paper."""
+    rows = [("horizontal field H", cell(site.horizontal_t * 1e6, 3), "µT"),
+            ("vertical field Z (down +)", cell(site.vertical_t * 1e6, 3), "µT"),
+            ("total field F", cell(site.total_t * 1e6, 3), "µT"),
+            ("inclination", cell(site.inclination_deg, 2), "°")]
+    if site.declination_deg is not None:
+        rows.insert(3, ("declination (east +)", cell(site.declination_deg, 2), "°"))
+    if site.declination_uncertainty_deg is not None:
+        rows.insert(4, ("declination uncertainty", cell(site.declination_uncertainty_deg, 2),
+                        "°"))
+    rows += [("source", cell(f"{site.source}, {site.date_text}"), ""),
+             ("zone", cell(site.zone), "")]
+    table = Table((Column("quantity", wrap=True), Column("value", numeric=True),
+                   Column("unit")), tuple((cell(a), b, cell(c)) for a, b, c in rows))
+    return Section("Site", (table,), screen=False, sheet="site")
+
+
+def check_document(analysis, *, all_runs=False, digest=None) -> Document:
+    """The check of a plan as one document (see :mod:`deviation.render.model`).
+
+    ``digest``: the plan file's SHA-256 for the first page (default: worked out from the plan's
+    source where it is a file or folder).
+    """
+    from ...card import cards
+    from ...files import plan_digest
+    from ..json_out import analysis_json
+
+    plan = analysis.plan
+    lengths = Lengths(plan)
+    rows = summary_rows(analysis)
+    if digest is None:
+        digest = plan_digest(plan.source)
+    summary = _summary_section(analysis, rows)
+    sections = [_owner_section(analysis, rows, digest),
+                Section(summary.title, summary.blocks, sheet=summary.sheet, new_page=True)]
+    for result, one_card in zip(analysis.sensors, cards(analysis, 15.0)):
+        sensor = result.sensor
+        tone = TONE_OF[result.status]
+        blocks = (*_short_blocks(result, analysis, lengths),
+                  Chart(f"where things are around {sensor.name}: profile, end view and plan, "
+                        "runs coloured by their share of its budget",
+                        lambda fmt, result=result: drawing_svg(plan, result)))
+        sections.append(Section(sensor.name, blocks, tone=tone, sheet=f"budget {sensor.name}",
+                                new_page=True))
+        for st in result.states:
+            sections.append(Section(state_title(sensor, st),
+                                    tuple(_state_blocks(sensor, st, analysis, lengths, all_runs)),
+                                    tone=TONE_OF[st.status], level=3, detail=True))
+        sections.append(_card_section(one_card))
+    sections.append(_site_section(analysis.site))
+    per_ampere = _per_ampere_section(analysis)
+    if per_ampere is not None:
+        sections.append(per_ampere)
+    if analysis.findings:
+        sections.append(Section("Findings", (Bullets(tuple(words.finding_text(f)
+                                                          for f in analysis.findings)),),
+                                sheet="findings"))
+    checklist = checklist_section(analysis)
+    if checklist is not None:
+        sections.append(checklist)
+    sections.append(glossary_section())
+    meta = _meta(analysis) + ((f"plan SHA-256 {digest}",) if digest else ())
+    return Document("check", "Deviation budget", meta, tuple(sections),
+                    words.CAUTIONS, _warnings(analysis), _recap(rows), analysis_json(analysis),
+                    stamp(), paper=paper_for(plan))
+
+
+def _per_ampere_section(analysis):
+    """The electronic sensors' per-ampere table, to key into a compensation setting (paper)."""
+    from ...electronic import electronic_report
+    from ..electronic import CSV_COLUMNS, per_ampere_records
+
+    reports = electronic_report(analysis)
+    if not reports:
+        return None
+    rows = tuple(tuple(cell(record.get(c), 6) if isinstance(record.get(c), float)
+                       else cell(record.get(c)) for c in CSV_COLUMNS)
+                 for record in per_ampere_records(reports, "uT"))
+    columns = tuple(Column(c, numeric=c.endswith(("_a", "_per_a"))) for c in CSV_COLUMNS)
+    return Section("Per-ampere interference (µT per A)", (Table(columns, rows),), screen=False,
+                   sheet="per ampere")
+
+
+def _meta(analysis):
+    from ..words import site_line
+
+    return (f"plan {analysis.plan.source}", f"site {site_line(analysis.site)}")
+
+
+def _warnings(analysis):
+    out = []
+    zone = words.zone_warning(analysis.site)
+    if zone:
+        out.append(zone)
+    examples = words.example_rows(analysis.plan.skipped_examples)
+    if examples:
+        out.append(examples[0].upper() + examples[1:] + ".")
+    return tuple(out)
+
+
+def _recap(rows):
+    over = [row for row in rows if row.status is not Status.WITHIN]
+    head = ("Verdict: every sensor within its budget in every state it is relied on in."
+            if not over else f"Verdict: {len(over)} of {len(rows)} sensor"
+            f"{'s' if len(rows) != 1 else ''} over budget.")
+    lines = [Paragraph(head, Tone.GOOD if not over else Tone.BAD)]
+    for row in rows:
+        used = [c for c in row.cells if c.status is not Status.NOT_USED]
+        worst = max(used, key=lambda c: c.cell.value if c.cell.numeric else float("inf"),
+                    default=None)
+        if worst is None:
+            held = "not relied on in any state"
+        elif worst.status is Status.OVERWHELMED:
+            held = f"overwhelmed in {worst.state}: it can point anywhere"
+        else:
+            held = f"{worst.cell.text} of {row.budget} in {worst.state}"
+        verdict = "within" if row.status is Status.WITHIN else "OVER"
+        lines.append(Paragraph(f"{row.sensor}: {verdict} — {held}", TONE_OF[row.status],
+                               indent=1))
+    return tuple(lines)
