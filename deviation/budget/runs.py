@@ -14,7 +14,7 @@ from ..physics.field import (
     point_segment_distance,
     segment_field_by_group,
 )
-from ..physics.routing import as_paired, turning_run
+from ..physics.routing import as_paired, route_runs, turning_run
 from ..physics.worst_case import worst_combination
 
 #: The turns [deg] at which each lie of a pair puts its return (from "left of travel" towards
@@ -510,8 +510,6 @@ def parts_of_runs(runs, points_m, conductors=None, *, nearest=True) -> RunParts:
     (:func:`twisted_floor`).
     """
     points = np.asarray(points_m, dtype=float).reshape(-1, 3)
-    from ..physics.routing import route_runs
-
     geometries = [r.geometry for r in runs]
     routed = conductors if conductors is not None else route_runs(geometries)
     inside = np.zeros(len(points), dtype=bool)
@@ -519,7 +517,9 @@ def parts_of_runs(runs, points_m, conductors=None, *, nearest=True) -> RunParts:
     n_p, n_r = unit.shape[:2]
     spread = np.zeros((n_p, n_r, SPREAD_GENERATORS, 3))
     bound = np.zeros((n_p, n_r))
-    known, free = [], []           # (run, part, turns) with a known lie; (run, slot, part, M)
+    # (run, part, turns, routed turn) for a lie the plan gives; (run, first generator slot,
+    # part, harmonics, routed turn) for a part of unknown turn.
+    known, free = [], []
     twisted = []
     for i, run in enumerate(runs):
         g = run.geometry

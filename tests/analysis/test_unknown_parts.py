@@ -361,3 +361,34 @@ def test_total_field_bounds_widen_both_ends_and_the_peak_to_peak_twice():
     assert state.total_field_high_t >= error.max()
     assert state.total_field_low_t <= error.min()
     assert state.heading_peak_to_peak_t >= peak_to_peak
+
+
+# A point's figure on its own ---------------------------------------------------------------------
+
+def test_a_points_figure_does_not_depend_on_the_points_evaluated_with_it():
+    # Twenty pairs of unknown lie and ten twisted runs give more turning generators than the
+    # exact search takes (64 level, 24 with heel): the ones it takes are chosen point by point,
+    # so the figure at a point is the same evaluated alone or among others (the spot search
+    # relies on it: its brute force and its coarse-to-fine stages see different point sets).
+    from deviation.analysis import parts_at
+    from deviation.budget.figures import sensor_figures
+    from deviation.sitefield import site_field
+
+    runs = [{"run": f"pair {i}", "circuits": "c", "return": "paired", "spacing": "6 mm",
+             "route": f"-1, {0.05 * i - 0.5:.2f}, -0.1 > 1, {0.05 * i - 0.5:.2f}, -0.1"}
+            for i in range(20)]
+    runs += [{"run": f"twist {i}", "circuits": "c", "return": "twisted", "spacing": "6 mm",
+              "lay": "30 mm", "route": f"{0.1 * i - 0.5:.1f}, -1, 0.1 > {0.1 * i - 0.5:.1f}, 1, 0.1"}
+             for i in range(10)]
+    for heel in (0.0, 20.0):
+        plan = deviation.plan_from_tables({
+            "site": site(), "runs": runs, "states": [{"circuit": "c", "on": 1.0}],
+            "sensors": [{"sensor": "s", "at": "0, 0, 0", "kind": "magnetometer",
+                         "budget_deg": 5, "max_heel_deg": heel}]})
+        [sensor] = plan.sensors
+        earth = site_field(plan.site)
+        alone = np.array([[0.02, 0.03, 0.0]])
+        among = np.vstack([alone, [[0.45, -0.45, 0.0], [-0.3, 0.4, -0.05]]])
+        held_alone = sensor_figures(plan, sensor, earth, parts_at(plan, alone), alone).held
+        held_among = sensor_figures(plan, sensor, earth, parts_at(plan, among), among).held
+        np.testing.assert_allclose(held_among[0], held_alone[0], rtol=0, atol=1e-12)
