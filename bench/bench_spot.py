@@ -19,6 +19,7 @@ from pathlib import Path
 import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
+from measure import load, peak_rss_mb  # noqa: E402
 from synthetic import write_plan  # noqa: E402
 
 
@@ -46,11 +47,12 @@ def main():
     low, high, step = np.array([1.5, -0.495, 1.8]), np.array([2.49, 0.495, 2.79]), 0.01
     segment_field(conductors.start_m, conductors.end_m, np.ones(len(conductors)),
                   np.zeros((64, 3)) + 5, backend="compiled")            # load the kernel
-    t0 = time.perf_counter()
+    t0, c0 = time.perf_counter(), time.process_time()
     result = spot.search_box(plan, analysis, sensor, low, high, step)
-    t_search = time.perf_counter() - t0
+    t_search, c_search = time.perf_counter() - t0, time.process_time() - c0
     print(f"coarse to fine: {result.grid_points:,} grid positions, {result.evaluated:,} evaluated, "
-          f"{t_search:.2f} s; best {result.spots[0].held:.4f}° at "
+          f"{t_search:.2f} s ({c_search:.2f} CPU s, {load()}); peak resident memory "
+          f"{peak_rss_mb():.0f} MB; best {result.spots[0].held:.4f}° at "
           f"{np.round(result.spots[0].position_m, 3).tolist()}")
     if args.no_brute:
         return
@@ -61,7 +63,8 @@ def main():
     print(f"brute force: all {len(points):,} positions in {t_brute:.2f} s "
           f"({len(points) * len(conductors) / t_brute:.3g} pairs/s); best {brute.min():.4f}°")
     print(f"coarse to fine is {t_brute / t_search:.1f}x faster; same best figure: "
-          f"{abs(brute.min() - result.spots[0].held) < 1e-6}")
+          f"{abs(brute.min() - result.spots[0].held) < 1e-6}; peak resident memory "
+          f"{peak_rss_mb():.0f} MB")
 
 if __name__ == "__main__":
     main()

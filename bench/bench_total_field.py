@@ -13,6 +13,7 @@ smallest-error bound lies under the true smallest (never above it).
 from __future__ import annotations
 
 import argparse
+import resource
 import time
 
 import numpy as np
@@ -68,6 +69,8 @@ def main():
                   f"brute force 2^{args.brute} {t_brute:.3f} s: same high {same}, low bound "
                   f"{(low.min() - few.low) * 1e9:.3f} nT under the true "
                   f"{low.min() * 1e9:.2f} nT (never above: {few.low <= low.min()})")
+    peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    print(f"peak resident memory {peak_mb:.0f} MB")
 
 
 if __name__ == "__main__":

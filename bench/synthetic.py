@@ -10,8 +10,11 @@ import numpy as np
 KINDS = ("twisted", "paired", "separate", "none")
 
 
-def write_plan(folder, n_runs, twisted_share=1 / 3, n_sensors=3, seed=1):
-    """Write a plan of ``n_runs`` runs (a share of them twisted) as CSV sheets; returns the folder."""
+def write_plan(folder, n_runs, twisted_share=1 / 3, n_sensors=3, seed=1, n_independent=4,
+               max_pitch_deg=10):
+    """Write a plan of ``n_runs`` runs (a share of them twisted) on 40 circuits, the first
+    ``n_independent`` of them switching on their own, and ``n_sensors`` compasses checked at
+    heel 20 and pitch ``max_pitch_deg``, as CSV sheets; returns the folder."""
     rng = np.random.default_rng(seed)
     folder = Path(folder)
     folder.mkdir(parents=True, exist_ok=True)
@@ -33,13 +36,15 @@ def write_plan(folder, n_runs, twisted_share=1 / 3, n_sensors=3, seed=1):
             back = " > ".join(fmt(np.add(p, (0, 0, -0.15))) for p in waypoints[::-1])
         runs.append([f"run {i}", f"circuit {i % 40}", route, kind, back, "",
                      "25 mm" if kind == "twisted" else "", "12 AWG"])
-    states = [["circuit", "harbour", "motoring", "anchoring"]]
+    states = [["circuit", "harbour", "motoring", "anchoring", "switching"]]
     for c in range(40):
-        states.append([f"circuit {c}", *np.round(rng.uniform(0, 20, 3), 2)])
-    sensors = [["sensor", "at", "kind", "budget_deg", "reference_state", "max_heel_deg"]]
+        states.append([f"circuit {c}", *np.round(rng.uniform(0, 20, 3), 2),
+                       "independent" if c < n_independent else ""])
+    sensors = [["sensor", "at", "kind", "budget_deg", "reference_state", "max_heel_deg",
+                "max_pitch_deg"]]
     for s in range(n_sensors):
         sensors.append([f"sensor {s}", fmt((2.0 + 3 * s, 0.0, 2.4)), "magnetic compass", 1.0,
-                        "harbour" if s % 2 == 0 else "", 20])
+                        "harbour" if s % 2 == 0 else "", 20, max_pitch_deg])
     sheets = {
         "site": [["setting", "value"], ["units", "m"], ["latitude", 50.8], ["longitude", -1.3],
                  ["date", "2027-06-01"]],

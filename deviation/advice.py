@@ -11,7 +11,18 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from .budget import RunParts, circuit_currents, equipment_fields, parts_of_runs, sensor_figures
+from .budget import (
+    MAX_EXACT_GENERATORS_ATTITUDE,
+    MAX_EXACT_GENERATORS_LEVEL,
+    RunParts,
+    _attitude_size,
+    _worst,
+    asin_deg,
+    circuit_currents,
+    equipment_fields,
+    parts_of_runs,
+    sensor_figures,
+)
 from .constants import ISO25862_BIPOLAR_RADIUS_M
 from .electronic import Standing, electronic_sensor
 from .physics.routing import hint_lay_m
@@ -151,41 +162,68 @@ def rule_findings(analysis) -> tuple[RuleFinding, ...]:
 # Remedies -----------------------------------------------------------------------------------------
 
 class _Evaluator:
-    """Re-evaluates one sensor's budget figures with one run re-routed."""
+    """One sensor's held figure with some runs re-routed, for many candidate changes at once.
+
+    Only what a change moves is evaluated again: the re-routed run's field (computed once per
+    re-routed run and kept) and the sums that depend on it, updated by the difference; the
+    worst switching and attitude, which are not linear, are searched again for every candidate
+    in one vectorised call. The rules are those of :func:`deviation.budget.budget_figures` for
+    the figure held against a heading sensor's budget (the residual from the reference state,
+    the spread generators searched exactly and the rest counted apart, the equipment bounds);
+    tests/analysis/test_fix_set.py holds the two to each other on every candidate. A
+    total-field magnetometer's candidates go through :func:`deviation.budget.sensor_figures`
+    whole, one by one.
+    """
 
     def __init__(self, analysis, result):
-        self.plan = analysis.plan
-        self.site = analysis.site
+        plan, sensor = analysis.plan, result.sensor
+        self.plan, self.sensor, self.site = plan, sensor, analysis.site
         self.horizontal_t = analysis.site.horizontal_t
-        self.sensor = result.sensor
-        self.currents = circuit_currents(self.plan)
-        self.parts = result.parts                                      # P = 1
-        self.items = equipment_fields(self.plan, self.sensor, self.sensor.position_m[None, :],
-                                      self.horizontal_t)
+        self.used = np.array([sensor.used_in_state(s) for s in plan.state_names], dtype=bool)
+        self.result = result
+        self.currents = split = circuit_currents(plan)
+        self.items = items = equipment_fields(plan, sensor, sensor.position_m[None, :],
+                                              self.horizontal_t)
         self._cache = {}
+        self._committed = None
+        self.incremental = sensor.budget.degrees
+        if not self.incremental:
+            return
+        parts = result.parts                                                 # P = 1
+        self.unit, self.bound = parts.unit_t[0], parts.bound_t[0]          # (R, 3), (R,)
+        self.base_a = split.base_a                                          # (R, K)
+        self.to_circuit = split.incidence                                   # (R, Ci)
+        self.circuit_a = split.switched_a.T                                 # (K, Ci)
+        self.reversing = split.reversing
+        # The sums as budget_figures makes them, for the plan as it is.
+        self.base = (np.einsum("prj,rk->pkj", parts.unit_t, self.base_a) + items.oriented)[0]
+        self.circuit_unit = np.einsum("prj,rc->pcj", parts.unit_t, self.to_circuit)[0]
+        self.reference = (None if sensor.reference_state is None
+                          else plan.state_index(sensor.reference_state))
+        self.scale = split.scale_a(self.reference)                          # (R, K)
+        self.scalar = (parts.bound_t @ self.scale
+                       + (items.bound if self.reference is None else items.changing))[0]
+        heel, pitch = sensor.max_heel_deg, sensor.max_pitch_deg
+        self.heel, self.pitch = (heel, pitch) if heel or pitch else (0.0, 0.0)
+        cap = MAX_EXACT_GENERATORS_ATTITUDE if heel or pitch else MAX_EXACT_GENERATORS_LEVEL
+        self.room = max(0, cap - len(self.reversing))
+        # Spread generators: their weights (which are searched exactly), and each one's share
+        # counted apart when it is not.
+        self.scale_peak = np.abs(self.scale).max(axis=1)                    # (R,)
+        self.n_generators = parts.spread_t.shape[2]
+        self.spread = parts.spread_t[0]                                     # (R, G, 3)
+        self.weight, self.term = self._generators(self.spread, np.arange(len(self.unit)))
+        self.order = np.argsort(-self.weight.reshape(-1), kind="stable")
+        self.term_total = self.term.reshape(-1, self.term.shape[-1]).sum(axis=0)   # (K,)
 
-    def with_run(self, r, run, others=None):
-        """Figures (:class:`~deviation.budget.SensorFigures`, P = 1) with run ``r`` replaced by
-        ``run`` (and the runs in ``others``, {index: Run}, replaced too), and the new run's
-        nearest distance."""
-        changes = dict(others or {})
-        changes[r] = run
-        unit, spread = self.parts.unit_t.copy(), self.parts.spread_t.copy()
-        bound = self.parts.bound_t.copy()
-        nearest = 0.0
-        for index, changed in changes.items():
-            new = self._parts(changed)
-            unit[:, index], spread[:, index], bound[:, index] = (new.unit_t[:, 0],
-                                                                 new.spread_t[:, 0],
-                                                                 new.bound_t[:, 0])
-            if index == r:
-                nearest = float(new.nearest_m[0, 0])
-        parts = RunParts(unit, spread, bound, self.parts.nearest_m, self.parts.inside)
-        figures = sensor_figures(self.plan, self.sensor, self.site, parts, items=self.items,
-                                 currents=self.currents)
-        return figures, nearest
+    def _generators(self, spread, runs):
+        """Weights (n, G) and apart terms (n, G, K) of the spread generators of some runs."""
+        weight = np.linalg.norm(spread, axis=-1) * self.scale_peak[runs][:, None]
+        size = _attitude_size(spread, self.heel, self.pitch)                 # (n, G)
+        return weight, size[..., None] * np.abs(self.scale[runs])[:, None, :]
 
-    def _parts(self, run):
+    def parts(self, run):
+        """The run's own :class:`RunParts` at the sensor, computed once per run value."""
         key = id(run)
         cached = self._cache.get(key)
         if cached is None or cached[0] is not run:
@@ -193,12 +231,125 @@ class _Evaluator:
             self._cache[key] = cached
         return cached[1]
 
-    def held(self, figures):
-        """The held figure over the states the sensor is used in, and whether all are within."""
-        used = [k for k, state in enumerate(self.plan.state_names)
-                if self.sensor.used_in_state(state)]
-        return (max(float(figures.held[0, k]) for k in used),
-                all(bool(figures.within[0, k]) for k in used))
+    def reroutings(self, r):
+        """:func:`_reroutings` of run ``r``, made once (so each re-routed run's field is too)."""
+        key = ("reroutings", r)
+        if key not in self._cache:
+            self._cache[key] = _reroutings(self.plan.runs[r])
+        return self._cache[key]
+
+    def _apply(self, changes, start=None):
+        """The sums with the runs in ``changes`` ({index: Run}) re-routed, on top of ``start``
+        (sums from :meth:`_apply`; the plan as it is if None)."""
+        if start is None:
+            start = (self.base, self.circuit_unit, self.scalar, self.term_total, {})
+        base, circuit_unit, scalar, rest, new = start
+        base, circuit_unit = base.copy(), circuit_unit.copy()
+        scalar, rest, new = scalar.copy(), rest.copy(), dict(new)
+        for r, run in changes.items():
+            own = self.parts(run)
+            change = own.unit_t[0, 0] - self.unit[r]
+            base += self.base_a[r][:, None] * change[None, :]
+            circuit_unit += self.to_circuit[r][:, None] * change[None, :]
+            scalar += (own.bound_t[0, 0] - self.bound[r]) * self.scale[r]
+            weight, term = self._generators(own.spread_t[0, 0][None], np.array([r]))
+            rest += term[0].sum(axis=0) - self.term[r].sum(axis=0)
+            new[r] = (own.spread_t[0, 0], weight[0], term[0])
+        return base, circuit_unit, scalar, rest, new
+
+    def _kept(self, new):
+        """The spread generators searched exactly, largest weight first (ties by run, then
+        generator), with ``new`` ({run: (spread, weight, term)}) replacing those runs' own:
+        (vectors (n, 3), runs (n,), terms (n, K))."""
+        g = self.n_generators
+        prefix = self.order[:self.room + g * len(new)]
+        prefix = prefix[~np.isin(prefix // g, list(new))]
+        flat = np.concatenate([prefix] + [r * g + np.arange(g) for r in new])
+        weight = np.concatenate([self.weight.reshape(-1)[prefix]]
+                                + [item[1] for item in new.values()])
+        order = np.lexsort((flat, -weight))[:self.room]
+        order = order[weight[order] > 0]
+        index = flat[order]
+        runs, which = index // g, index % g
+        vectors = np.empty((len(index), 3))
+        terms = np.empty((len(index), self.term.shape[-1]))
+        for i, (r, j) in enumerate(zip(runs, which)):
+            spread, _, term = new[r] if r in new else (self.spread[r], None, self.term[r])
+            vectors[i], terms[i] = spread[j], term[j]
+        return vectors, runs, terms
+
+    def figures(self, candidates, others=None):
+        """The figure held against the budget in every state, for each candidate change.
+
+        Parameters
+        ----------
+        candidates : list of (int, Run)
+            Run index and the re-routed run, each evaluated with the runs in ``others`` also
+            changed.
+        others : dict {int: Run} or None
+
+        Returns
+        -------
+        held : (B, K) array
+            The held figure of :func:`deviation.budget.sensor_figures`, in the budget's unit.
+        within : (B, K) bool array
+        """
+        n_k = len(self.plan.state_names)
+        if not candidates:
+            return np.zeros((0, n_k)), np.zeros((0, n_k), dtype=bool)
+        others = dict(others or {})
+        if not self.incremental:
+            rows = [self._whole({**others, r: run}) for r, run in candidates]
+            return np.stack([row[0] for row in rows]), np.stack([row[1] for row in rows])
+        key = tuple(sorted((r, id(run)) for r, run in others.items()))
+        if self._committed is None or self._committed[0] != key:
+            self._committed = (key, self._apply(others))
+        rows = []
+        for r, run in candidates:
+            if r in others:                     # a committed change replaced: start afresh
+                sums = self._apply({**others, r: run})
+            else:                               # one more change on top of the committed ones
+                sums = self._apply({r: run}, self._committed[1])
+            base, circuit_unit, scalar, rest, new = sums
+            vectors, runs, terms = self._kept(new)
+            rows.append((base, circuit_unit, scalar + (rest - terms.sum(axis=0)), vectors, runs))
+        n_kept = max(len(row[4]) for row in rows)
+        fields = np.stack([row[0] for row in rows])                          # (B, K, 3)
+        switched = (np.stack([row[1] for row in rows])[:, None, :, :]
+                    * self.circuit_a[None, :, :, None])                       # (B, K, Ci, 3)
+        kept = np.zeros((len(rows), n_k, n_kept, 3))
+        for b, (_, _, _, vectors, runs) in enumerate(rows):
+            kept[b, :, :len(runs)] = vectors[None, :, :] * np.abs(self.scale[runs]).T[:, :, None]
+        apart = np.stack([row[2] for row in rows])                           # (B, K)
+        if self.reference is not None:
+            fields = fields - fields[:, self.reference:self.reference + 1, :]
+        generators = np.concatenate([switched, kept], axis=2)
+        reversing = np.concatenate([self.reversing, np.ones(n_kept, dtype=bool)])
+        size, _ = _worst(fields, generators, reversing, self.heel, self.pitch)
+        held = size + apart
+        held_deg = asin_deg(held / self.horizontal_t)
+        within = (held_deg <= self.sensor.budget.value) & ~(held >= self.horizontal_t)
+        return held_deg, within
+
+    def _whole(self, changes):
+        """(held (K,), within (K,)) by the budget's one entry, every run summed afresh."""
+        parts = self.result.parts
+        unit, spread = parts.unit_t.copy(), parts.spread_t.copy()
+        bound = parts.bound_t.copy()
+        for index, changed in changes.items():
+            new = self.parts(changed)
+            unit[:, index], spread[:, index], bound[:, index] = (new.unit_t[:, 0],
+                                                                 new.spread_t[:, 0],
+                                                                 new.bound_t[:, 0])
+        figures = sensor_figures(self.plan, self.sensor, self.site,
+                                 RunParts(unit, spread, bound, parts.nearest_m, parts.inside),
+                                 items=self.items, currents=self.currents)
+        return figures.held[0], figures.within[0]
+
+    def held(self, held, within):
+        """The held figure over the states the sensor is used in (one candidate's (K,) rows),
+        and whether all are within."""
+        return float(held[self.used].max()), bool(within[self.used].all())
 
 
 def _pair_spacing(run):
@@ -241,8 +392,9 @@ def detour(route, sensor, offset_m):
 
 
 def _solve_clearance(evaluator, r, run, figure_of, target, others=None):
-    """Smallest detour (bisection, to 1 mm) of run ``r`` that brings ``figure_of(figures)`` to
-    at most ``target``, with the runs in ``others`` already changed; None if none does.
+    """Smallest detour (bisection, to 1 mm) of run ``r`` that brings ``figure_of(held,
+    within)`` (a candidate's (K,) rows, see :meth:`_Evaluator.figures`) to at most ``target``,
+    with the runs in ``others`` already changed; None if none does.
 
     Returns (figure, nearest distance, the re-routed run)."""
     route = run.geometry.route_m
@@ -258,8 +410,9 @@ def _solve_clearance(evaluator, r, run, figure_of, target, others=None):
             back = shifted if shifted is not None else back
         moved = replace(run, geometry=replace(run.geometry, route_m=new_route,
                                               return_route_m=back))
-        figures, nearest = evaluator.with_run(r, moved, others)
-        return figure_of(figures), nearest, moved
+        held, within = evaluator.figures([(r, moved)], others)
+        nearest = float(evaluator.parts(moved).nearest_m[0, 0])
+        return figure_of(held[0], within[0]), nearest, moved
 
     far = attempt(MAX_DETOUR_M)
     if far is None or far[0] > target:
@@ -305,29 +458,37 @@ def remedies_for(analysis, result) -> dict[str, tuple[Remedy, ...]]:
     plan = analysis.plan
     evaluator = _Evaluator(analysis, result)
     by_name = {r.name: i for i, r in enumerate(plan.runs)}
-    out = {}
     tick = counter(f"remedies for {sensor.name}, state by state", len(result.states))
+    culprits = {}
+    for st in result.states:
+        if st.used:
+            over = not st.within_budget
+            culprits[st.state] = [
+                by_name[c.name] for c in st.runs if c.share_of_budget >= HINT_SHARE
+                or (over and c.share_of_budget >= HINT_SHARE_OVER)][:CULPRITS_PER_STATE]
+    # Every rerouting of every culprit, evaluated once for all states together.
+    options = {r: evaluator.reroutings(r) for r in sorted(set().union(*culprits.values()))}
+    flat = [(r, option) for r in options for option in options[r]]
+    held, within = evaluator.figures([(r, option[1]) for r, option in flat])
+    row = {(r, id(option[1])): i for i, (r, option) in enumerate(flat)}
+    out = {}
     for k, st in enumerate(result.states):
         tick()
         if not st.used:
             out[st.state] = ()
             continue
         over = not st.within_budget
-        candidates = [c for c in st.runs if c.share_of_budget >= HINT_SHARE
-                      or (over and c.share_of_budget >= HINT_SHARE_OVER)][:CULPRITS_PER_STATE]
         found = []
-        for contribution in candidates:
-            r = by_name[contribution.name]
+        for r in culprits[st.state]:
             run = plan.runs[r]
-            for kind, rerouted, spacing, size, lay in _reroutings(run):
-                figures, _ = evaluator.with_run(r, rerouted)
+            for kind, rerouted, spacing, size, lay in options[r]:
+                i = row[r, id(rerouted)]
                 found.append(Remedy(sensor.name, st.state, kind, run.name, st.held,
-                                    float(figures.held[0, k]),
-                                    bool(figures.within[0, k]), spacing_m=spacing,
-                                    size=size, lay_m=lay))
+                                    float(held[i, k]), bool(within[i, k]),
+                                    spacing_m=spacing, size=size, lay_m=lay))
             if over:
                 solved = _solve_clearance(evaluator, r, run,
-                                          lambda f, k=k: float(f.held[0, k]),
+                                          lambda figure, _, k=k: float(figure[k]),
                                           sensor.budget.value * CLEARANCE_MARGIN)
                 if solved is not None:
                     figure, nearest, _ = solved
@@ -406,8 +567,8 @@ def fix_set(analysis, result) -> FixSet:
     runs = [by_name[name] for name in ranked]
     target = sensor.budget.value * CLEARANCE_MARGIN
 
-    def held_of(figures):
-        return evaluator.held(figures)[0]
+    def held_of(figure, within):
+        return evaluator.held(figure, within)[0]
 
     tick = counter(f"the set of fixes for {sensor.name}, change by change", MAX_FIX_STEPS)
     try:
@@ -422,15 +583,13 @@ def _grow_fix_set(evaluator, plan, sensor, runs, before, target, held_of, tick):
     while True:
         tick()
         options = []                       # (finishes, held, run index, changed run, step)
-        for r in runs:
-            if r in changed:
-                continue
-            run = plan.runs[r]
-            for kind, rerouted, spacing, size, lay in _reroutings(run):
-                figures, _ = evaluator.with_run(r, rerouted, changed)
-                held, within = evaluator.held(figures)
-                options.append((within, held, r, rerouted,
-                                FixStep(kind, run.name, held, within, spacing, size, lay)))
+        tried = [(r, option) for r in runs if r not in changed
+                 for option in evaluator.reroutings(r)]
+        figures, verdicts = evaluator.figures([(r, option[1]) for r, option in tried], changed)
+        for i, (r, (kind, rerouted, spacing, size, lay)) in enumerate(tried):
+            held, within = evaluator.held(figures[i], verdicts[i])
+            options.append((within, held, r, rerouted,
+                            FixStep(kind, plan.runs[r].name, held, within, spacing, size, lay)))
         if not any(option[0] for option in options):
             # No pairing or twist finishes it: a clearance may, with the margin kept free.
             for r in [r for r in runs if r not in changed][:FIX_SET_CLEARANCE_RUNS]:

@@ -23,7 +23,7 @@ from .common import (
 @click.option("--threshold", "threshold_deg", type=click.FloatRange(0, 90), default=1.0,
               show_default=True,
               help="Advise a new swing where the deviation card changes by more than this, "
-                   "degrees (common practice, no source).")
+                   "degrees (rule of thumb, no published source).")
 @report_option
 @json_option
 @width_option

@@ -33,9 +33,9 @@ from .common import (
                    "else not).")
 @click.option("--resolution", "resolution_deg", type=click.FloatRange(0, 10), default=0.5,
               show_default=True,
-              help="Reading resolution of the card, degrees (common practice, no source).")
+              help="Reading resolution of the card, degrees (rule of thumb, no published source).")
 @click.option("--fraction", type=click.FloatRange(0, 1), default=0.25, show_default=True,
-              help="Share of the predicted change allowed (common practice, no source).")
+              help="Share of the predicted change allowed (rule of thumb, no published source).")
 @click.option("--report", type=OutputPath(),
               help="Also write the comparison: FILE.xlsx, FILE.html or FILE.pdf.")
 @json_option

@@ -15,12 +15,17 @@ from __future__ import annotations
 
 import numpy as np
 
-#: Relative size of :math:`|v_k \\cdot w|/|v_k|` below which a circuit counts as lying in the
-#: plane of an arrangement vertex ``w`` and is swept rather than fixed. Common practice, no source:
-#: well above the rounding of a unit cross product (~1e-16) and far below any physical effect.
+#: Relative size of :math:`|v_j \\times \\hat v_i|/|v_j|` below which circuit j counts as parallel
+#: to circuit i (the same great circle of the arrangement) and goes with i's side of it. Common
+#: practice, no source: well above the rounding of a unit cross product (~1e-16) and far below any
+#: physical effect.
 IN_PLANE_TOLERANCE = 1e-9
 
-#: Doubles held at once by the vertex enumeration (bounds memory: chunk x pairs x 2 x n).
+#: Relative margin below the best level figure within which a vertex is still scored: many
+#: times the rounding of a length or of the attitude figure (~1e-16), far below any effect.
+_PRUNE_MARGIN = 1e-12
+
+#: Doubles held at once by the searches (bounds memory: about 24 n per walk of a circle).
 _CHUNK_ELEMENTS = 4_000_000
 
 
@@ -213,7 +218,9 @@ def _best_level(base, generators):
 
 
 def _pick_best(batch, value, masks, rows):
-    """Per batch row, the mask of the record with the largest value; -inf where it has none."""
+    """Per batch row, the mask of the record with the largest value; -inf where it has none.
+
+    Ties go to the record that comes first."""
     best_value = np.full(rows, -np.inf)
     best_mask = np.zeros((rows, masks.shape[-1]), dtype=bool)
     if len(batch):
@@ -224,95 +231,105 @@ def _pick_best(batch, value, masks, rows):
     return best_value, best_mask
 
 
+def _plane_basis(unit):
+    """Two unit vectors (..., 3) spanning the plane normal to each unit vector (..., 3)."""
+    # Cross with the coordinate axis least aligned with the normal: never near-parallel.
+    axis = np.zeros_like(unit)
+    np.put_along_axis(axis, np.argmin(np.abs(unit), axis=-1)[..., None], 1.0, axis=-1)
+    e1 = np.cross(unit, axis)
+    e1 /= np.linalg.norm(e1, axis=-1, keepdims=True)
+    return e1, np.cross(unit, e1)
+
+
+def _circle_walks(base, generators, norms, batch, circle, size, floor):
+    """Walk the great circles ``circle`` of rows ``batch``: the best vertex met on each.
+
+    Returns, per walk, the largest ``size`` of a vertex of a cell next to the circle, and the
+    switching (bool mask) that gives it. ``floor`` (B,) is a value each row already reaches:
+    vertices that cannot beat it are not scored.
+    """
+    g = generators[batch]                                        # (W, n, 3)
+    walks, n = g.shape[:2]
+    normal = g[np.arange(walks), circle] / norms[batch, circle][:, None]
+    e1, e2 = _plane_basis(normal)
+    planar = np.stack([np.einsum("wnk,wk->wn", g, e1), np.einsum("wnk,wk->wn", g, e2)], axis=-1)
+    along = np.einsum("wnk,wk->wn", g, normal)
+    nonzero = norms[batch] > 0.0
+    # |planar| = |g_j x normal|: a circuit (nearly) parallel to the circle's own has the same
+    # great circle, so it goes with the side of the circle, by the sign of its dot product.
+    parallel = np.hypot(planar[..., 0], planar[..., 1]) <= IN_PLANE_TOLERANCE * norms[batch]
+    active = nonzero & ~parallel
+    plus = nonzero & parallel & (along > 0.0)
+    minus = nonzero & parallel & (along < 0.0)
+    sums, initial, enter_rank, leave_rank = _sweep(planar, g, active)     # (W, 2n+1, 3)
+    sides = np.stack([np.einsum("wn,wnk->wk", plus.astype(float), g),
+                      np.einsum("wn,wnk->wk", minus.astype(float), g)], axis=1)  # (W, 2, 3)
+    corners = (base[batch][:, None, None, :] + sums[:, :, None, :]
+               + sides[:, None, :, :]).reshape(walks, -1, 3)   # (W, (2n+1) * 2, 3)
+    # The size over attitude lies between the level horizontal part and the length: a vertex
+    # shorter than what another reaches level is never the worst, and is not scored (the
+    # margin covers rounding in both figures).
+    floor = floor.copy()
+    np.maximum.at(floor, batch, np.hypot(corners[..., 0], corners[..., 1]).max(axis=-1))
+    length = np.sqrt(np.einsum("wck,wck->wc", corners, corners))
+    scored = length >= floor[batch][:, None] * (1.0 - _PRUNE_MARGIN)
+    value = np.full(scored.shape, -np.inf)
+    value[scored] = size(corners[scored])
+    best = np.argmax(value, axis=-1)
+    event, side = np.divmod(best, 2)
+    masks = _sweep_subset(initial, enter_rank, leave_rank, active, event)
+    masks |= np.where(side[:, None] == 0, plus, minus)
+    return value[np.arange(walks), best], masks
+
+
 def _best_attitude(base, generators, max_heel_deg, max_pitch_deg):
-    """Best 0/1 choice (B, n) with heel and pitch: the vertices of the 3-D zonotope."""
+    """Best 0/1 choice (B, n) with heel and pitch: every vertex of the 3-D zonotope, met by
+    walking each generator's great circle (see :func:`worst_combination`)."""
     rows, n = generators.shape[:2]
 
     def size(v):
         return horizontal_over_attitude(v, max_heel_deg, max_pitch_deg)
 
     norms = np.linalg.norm(generators, axis=-1)
-    nonzero = norms > 0.0
-    candidates = []                                          # (value (B,), mask (B, n))
-    empty = np.zeros((rows, n), dtype=bool)
-    candidates.append((size(base), empty))
-    # Rank 1 (all vectors parallel): the two ends of the segment.
-    along = generators[np.arange(rows), np.argmax(norms, axis=-1)]
-    projection = np.einsum("bnk,bk->bn", generators, along)
-    for mask in (nonzero & (projection > 0), nonzero & (projection < 0)):
-        candidates.append((size(base + np.einsum("bn,bnk->bk", mask.astype(float), generators)),
-                           mask))
-    if n >= 2:
-        first, second = np.triu_indices(n, 1)
-        members = np.zeros((len(first), n), dtype=bool)
-        members[np.arange(len(first)), first] = True
-        members[np.arange(len(first)), second] = True
-        cross = np.cross(generators[:, first], generators[:, second])       # (B, P, 3)
-        cross_norm = np.linalg.norm(cross, axis=-1)
-        valid = cross_norm > 0.0
-        w = cross / np.where(valid, cross_norm, 1.0)[..., None]
-        w = np.stack([w, -w], axis=2)                                        # (B, P, 2, 3)
-        dots = np.einsum("bpsk,bnk->bpsn", w, generators)
-        # Generic vertex: circuits off the plane fixed by their exact sign, the pair free.
-        fixed = (dots > 0.0) & nonzero[:, None, None, :] & ~members[None, :, None, :]
-        fixed_sum = np.einsum("bpsn,bnk->bpsk", fixed.astype(float), generators)
-        g_first = generators[:, first][:, :, None, None, :]
-        g_second = generators[:, second][:, :, None, None, :]
-        pair_choice = np.array([[0, 0], [1, 0], [0, 1], [1, 1]], dtype=float)
-        corner_sum = (fixed_sum[:, :, :, None, :] + pair_choice[:, 0, None] * g_first
-                      + pair_choice[:, 1, None] * g_second)                  # (B, P, 2, 4, 3)
-        value = size(base[:, None, None, None, :] + corner_sum)
-        value = np.where(valid[:, :, None, None], value, -np.inf).reshape(rows, -1)
-        best = np.argmax(value, axis=-1)
-        pair, side, choice = np.unravel_index(best, (len(first), 2, 4))
-        mask = fixed[np.arange(rows), pair, side].copy()
-        mask[np.arange(rows), first[pair]] = pair_choice[choice, 0] > 0
-        mask[np.arange(rows), second[pair]] = pair_choice[choice, 1] > 0
-        candidates.append((value[np.arange(rows), best], mask))
-        # Degenerate vertex: more circuits (nearly) in the plane of w; sweep them all in it.
-        near = (np.abs(dots) <= IN_PLANE_TOLERANCE * norms[:, None, None, :]) \
-            & nonzero[:, None, None, :] & ~members[None, :, None, :]
-        degenerate = valid[:, :, None] & np.any(near, axis=-1)
-        if np.any(degenerate):
-            candidates.append(_degenerate_vertices(base, generators, norms, nonzero, members,
-                                                   first, second, cross_norm, w, dots, near,
-                                                   degenerate, size))
-    values = np.stack([c[0] for c in candidates], axis=-1)
-    masks = np.stack([c[1] for c in candidates], axis=-2)
-    return masks[np.arange(rows), np.argmax(values, axis=-1)]
+    best_value = size(base)                                          # everything off
+    best_mask = np.zeros((rows, n), dtype=bool)
+    batch, circle = np.nonzero(norms > 0.0)
+    # Doubles per walk: planar and running sums, the corners and their scores.
+    chunk = max(1, _CHUNK_ELEMENTS // (24 * n + 12))
+    for lo in range(0, len(batch), chunk):
+        part = slice(lo, lo + chunk)
+        value, masks = _circle_walks(base, generators, norms, batch[part], circle[part], size,
+                                     best_value)
+        value, masks = _pick_best(batch[part], value, masks, rows)
+        better = value > best_value
+        best_value = np.where(better, value, best_value)
+        best_mask[better] = masks[better]
+    return best_mask
 
 
-def _degenerate_vertices(base, generators, norms, nonzero, members, first, second, cross_norm,
-                         w, dots, near, degenerate, size):
-    rows = len(generators)
-    batch, pair, side = np.nonzero(degenerate)
-    in_plane = near[batch, pair, side] | members[pair]
-    fixed = (dots[batch, pair, side] > IN_PLANE_TOLERANCE * norms[batch]) & nonzero[batch] \
-        & ~in_plane
-    # Many pairs name the same vertex; keep the best-conditioned pair of each.
-    conditioning = cross_norm[batch, pair] / (norms[batch, first[pair]] * norms[batch, second[pair]])
-    order = np.argsort(-conditioning, kind="stable")
-    keys = np.concatenate([batch[order, None], np.packbits(in_plane[order], axis=-1),
-                           np.packbits(fixed[order], axis=-1)], axis=-1)
-    keep = order[np.unique(keys, axis=0, return_index=True)[1]]
-    batch, pair, side = batch[keep], pair[keep], side[keep]
-    in_plane, fixed = in_plane[keep], fixed[keep]
-    normal = w[batch, pair, side]                                          # (R, 3)
-    g = generators[batch]                                                  # (R, n, 3)
-    along = g[np.arange(len(keep)), first[pair]]
-    e1 = along - np.einsum("rk,rk->r", along, normal)[:, None] * normal
-    e1 /= np.linalg.norm(e1, axis=-1, keepdims=True)
-    e2 = np.cross(normal, e1)
-    planar = np.stack([np.einsum("rnk,rk->rn", g, e1), np.einsum("rnk,rk->rn", g, e2)], axis=-1)
-    sums, initial, enter_rank, leave_rank = _sweep(planar, g, in_plane)
-    fixed_sum = np.einsum("rn,rnk->rk", fixed.astype(float), g)
-    value = size(base[batch][:, None, :] + fixed_sum[:, None, :] + sums)   # (R, 2n+1)
-    events = np.argmax(value, axis=-1)
-    masks = fixed | _sweep_subset(initial, enter_rank, leave_rank, in_plane, events)
-    return _pick_best(batch, value[np.arange(len(keep)), events], masks, rows)
+#: Work (rows x circuits^2) from which the search with heel or pitch runs compiled when the
+#: compiled kernels are not loaded yet (loading them costs about half a second; a check of a
+#: normal plan never does), and from which it runs compiled once they are.
+COMPILED_MIN_WALK = 1_000_000
+COMPILED_MIN_WALK_LOADED = 20_000
 
 
-def worst_combination(base, vectors, reversing=None, max_heel_deg=0.0, max_pitch_deg=0.0):
+def _walk_compiled(rows, n, backend):
+    if backend not in ("auto", "numpy", "compiled"):
+        raise ValueError(f"backend must be auto, numpy or compiled, not {backend!r}")
+    if backend != "auto":
+        return backend == "compiled"
+    import sys
+
+    from .field import _compiled_available
+
+    loaded = "deviation.physics._kernels" in sys.modules
+    return rows * n * n >= (COMPILED_MIN_WALK_LOADED if loaded else COMPILED_MIN_WALK) \
+        and _compiled_available()
+
+
+def worst_combination(base, vectors, reversing=None, max_heel_deg=0.0, max_pitch_deg=0.0, *,
+                      backend="auto"):
     """The switching of independent circuits that makes the level horizontal disturbance largest.
 
     Parameters
@@ -327,6 +344,10 @@ def worst_combination(base, vectors, reversing=None, max_heel_deg=0.0, max_pitch
         vector); None means none reverses.
     max_heel_deg, max_pitch_deg : float [deg]
         Attitude limits as in :func:`horizontal_over_attitude`.
+    backend : {"auto", "numpy", "compiled"}
+        The search with heel or pitch in NumPy, or compiled (numba, on every core, the same
+        walk and scores); "auto" compiles from :data:`COMPILED_MIN_WALK` rows x circuits^2 up
+        (:data:`COMPILED_MIN_WALK_LOADED` once the compiled kernels are loaded).
 
     Returns
     -------
@@ -351,16 +372,22 @@ def worst_combination(base, vectors, reversing=None, max_heel_deg=0.0, max_pitch
     running sum, O(n log n), and every vertex of the 2-D zonotope is met.
 
     *With heel or pitch*: the vertices of the 3-D zonotope are the cells of the arrangement of
-    great circles :math:`v_i^\\perp` on the sphere of directions, and every cell has a corner at an
-    arrangement vertex :math:`w = \\pm (v_i \\times v_j)/|v_i \\times v_j|`. Near w, circuits with
-    :math:`v_k \\cdot w \\neq 0` keep the sign of :math:`v_k \\cdot w`, and those in the plane
-    :math:`w^\\perp` take every pattern a direction turning in that plane gives them. Each pair
-    gives its four patterns of (i, j) with the others fixed by their exact sign (all pairs at
-    once); where other circuits lie within :data:`IN_PLANE_TOLERANCE` of the plane, all of them are
-    also swept with the 2-D walk in the plane. Together these meet every vertex except cells
-    narrower than the rounding of w, whose value differs from a neighbour's by rounding only.
-    The rank-1 ends (all vectors parallel) and the all-off choice are added. Every candidate is
-    scored with :func:`horizontal_over_attitude`: :math:`O(n^3)` work for n circuits.
+    great circles :math:`v_i^\\perp` on the sphere of directions (the vertex extreme in direction
+    u switches on :math:`\\{i : u \\cdot v_i > 0\\}`, constant on a cell). Every cell has an edge
+    on some circle :math:`v_i^\\perp`, and along that circle the other circuits' signs are those
+    of their projections on the plane :math:`v_i^\\perp`: walking each circle with the 2-D sweep
+    above meets every cell next to it, on both sides (circuit i off and on). Circuits parallel
+    to :math:`v_i` (within :data:`IN_PLANE_TOLERANCE`) share its circle and go with the side of
+    it their direction gives. So every vertex is met (cells narrower than the rounding of a
+    projection aside, whose value differs from a neighbour's by rounding only), and the all-off
+    choice is added. Each vertex is scored with :func:`horizontal_over_attitude`, except those
+    no longer than the best level horizontal part already met, which cannot be the worst.
+
+    Cost: level, :math:`O(B\\,n \\log n)` time and :math:`O(B\\,n)` memory for B rows of n circuits;
+    with heel or pitch, :math:`O(B\\,n^2 \\log n)` time (n walks of 2n sorted events per row) and
+    memory bounded by :data:`_CHUNK_ELEMENTS` doubles (rows and walks are processed in chunks,
+    vectorised, never one at a time); compiled, the same time spread over the cores and
+    :math:`O(n)` memory per row.
 
     References
     ----------
@@ -389,17 +416,20 @@ def worst_combination(base, vectors, reversing=None, max_heel_deg=0.0, max_pitch
     generators = np.where(flat_rev[..., None], 2.0 * flat_v, flat_v)
     shifted = base.reshape(-1, 3) - np.einsum("bn,bnk->bk", flat_rev.astype(float), flat_v)
     level = heel_limit == 0.0 and pitch_limit == 0.0
-    # Doubles per row: the sweep's running sums (level), or dots and corner sums (attitude).
-    per_row = 6 * n + 3 if level else max(n * (n - 1), 1) * max(n, 12)
-    chunk = max(1, _CHUNK_ELEMENTS // per_row)
     picked = np.zeros(flat_v.shape[:2], dtype=bool)
-    for lo in range(0, rows if n else 0, chunk):
-        part = slice(lo, lo + chunk)
-        if level:
+    if n and level:
+        # Doubles per row: the sweep's running sums.
+        chunk = max(1, _CHUNK_ELEMENTS // (6 * n + 3))
+        for lo in range(0, rows, chunk):
+            part = slice(lo, lo + chunk)
             picked[part] = _best_level(shifted[part], generators[part])
-        else:
-            picked[part] = _best_attitude(shifted[part], generators[part],
-                                          max_heel_deg, max_pitch_deg)
+    elif n and _walk_compiled(rows, n, backend):
+        from . import _kernels
+
+        picked = _kernels.best_attitude(shifted, generators, heel_limit, pitch_limit,
+                                        IN_PLANE_TOLERANCE, _PRUNE_MARGIN)
+    elif n:
+        picked = _best_attitude(shifted, generators, max_heel_deg, max_pitch_deg)
     choice = np.where(flat_rev, 2 * picked.astype(int) - 1, picked.astype(int))
     matters = np.any(flat_v[..., :2] != 0.0, axis=-1) if level else np.any(flat_v != 0.0, axis=-1)
     choice = np.where(matters, choice, 0)

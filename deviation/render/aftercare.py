@@ -14,7 +14,7 @@ from .words import CAUTIONS
 
 TOLERANCE_NOTE = ("A step differs when the observed change is further from the predicted than the "
                   "larger of {resolution:g}° (the reading resolution of a typical card) and "
-                  "{fraction:.0%} of the predicted change; both are common practice, no source, "
+                  "{fraction:.0%} of the predicted change; both are rules of thumb, no published source, "
                   "and can be set on the command line.")
 
 #: What the card does when the reading rises or falls, seen from above (Compass = Magnetic -

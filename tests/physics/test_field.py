@@ -289,3 +289,132 @@ def test_grouped_compiled_kernel_matches_numpy_per_group():
                                          backend="compiled")
     np.testing.assert_allclose(b, a, rtol=1e-12, atol=1e-12 * np.abs(a).max())
     assert (inside_a == inside_b).all() and inside_a.any()
+
+
+# --- the compiled kernel: accuracy against 50 digits, the kept vertex, the word before a wait ---
+
+def _oracle_50_digits(start, end, point, current):
+    """Field of one segment in 50-digit arithmetic by the textbook form through the foot of the
+    perpendicular, B = mu0 I/(4 pi d^2) (u x rho) (u.b/|b| - u.a/|a|) (Griffiths, Introduction
+    to Electrodynamics, 4th ed., example 5.5), sharing no expression with the package's
+    closed form; the inputs are the same doubles, taken exactly."""
+    mp = pytest.importorskip("mpmath")
+    with mp.workdps(50):
+        s, e, p = ([mp.mpf(float(x)) for x in v] for v in (start, end, point))
+        length = [e[i] - s[i] for i in range(3)]
+        norm = mp.sqrt(sum(x * x for x in length))
+        u = [x / norm for x in length]
+        a = [s[i] - p[i] for i in range(3)]
+        b = [e[i] - p[i] for i in range(3)]
+        along = -sum(u[i] * a[i] for i in range(3))
+        rho = [p[i] - s[i] - along * u[i] for i in range(3)]
+        d2 = sum(x * x for x in rho)
+        u_x_rho = [u[1] * rho[2] - u[2] * rho[1], u[2] * rho[0] - u[0] * rho[2],
+                   u[0] * rho[1] - u[1] * rho[0]]
+        cosines = (sum(u[i] * b[i] for i in range(3)) / mp.sqrt(sum(x * x for x in b))
+                   - sum(u[i] * a[i] for i in range(3)) / mp.sqrt(sum(x * x for x in a)))
+        scale = mp.mpf("1e-7") * mp.mpf(float(current)) * cosines / d2    # mu0/4pi, SI 1e-7
+        return np.array([float(x * scale) for x in u_x_rho])
+
+
+@pytest.mark.parametrize("backend", BACKENDS)
+def test_field_agrees_with_a_50_digit_oracle_to_a_few_units_in_the_last_place(backend):
+    # Oracle: mpmath at 50 digits (above). Segments near and far, observers beside, beyond the
+    # ends (a.b > 0) and alongside (a.b < 0), a chain of them sharing vertices as routed runs do.
+    rng = np.random.default_rng(3)
+    start = rng.uniform(-1, 1, (120, 3))
+    end = start + rng.normal(scale=0.3, size=(120, 3))
+    end[60:] = np.roll(start[60:], -1, axis=0)           # a closed chain: each ends where the
+    end[-1] = start[60]                                   # next starts
+    points = np.concatenate([rng.uniform(-2, 2, (40, 3)), rng.uniform(-40, 40, (8, 3))])
+    fields = segment_field(start, end, np.eye(120) * 3.0, points, backend=backend)  # (P, S, 3)
+    eps = np.finfo(float).eps
+    worst = 0.0
+    for s in range(0, 120, 3):
+        for p in range(len(points)):
+            expected = _oracle_50_digits(start[s], end[s], points[p], 3.0)
+            error = np.abs(fields[p, s] - expected).max() / np.linalg.norm(expected)
+            # Rounding a = s - p and b = e - p alone moves a x b by ~eps |a||b|: no float64
+            # evaluation does better than a few eps times |a||b|/|a x b| (large far away).
+            a, b = start[s] - points[p], end[s] - points[p]
+            condition = np.linalg.norm(a) * np.linalg.norm(b) / np.linalg.norm(np.cross(a, b))
+            worst = max(worst, error / (eps * (1.0 + condition)))
+    assert worst < 8.0
+
+
+@pytest.mark.compiled
+def test_a_vertex_kept_from_the_segment_before_gives_the_same_bits_as_computed_afresh():
+    # Along a chain every segment after the first reuses the vector, square and length to its
+    # start from the segment before; taken alone (odd and even segments apart, so none follows
+    # another) each is computed afresh. Per-segment fields must agree to the bit.
+    rng = np.random.default_rng(8)
+    chain = np.cumsum(rng.normal(scale=0.1, size=(301, 3)), axis=0)
+    start, end = chain[:-1], chain[1:]
+    points = rng.uniform(-1.5, 1.5, (700, 3))
+    every = np.arange(300)
+    together, _ = field.segment_field_by_group(start, end, np.full(300, 2.5), every, 300, points,
+                                               radius_m=1e-4, backend="compiled")
+    for half in (every[0::2], every[1::2]):
+        alone, _ = field.segment_field_by_group(start[half], end[half], np.full(150, 2.5),
+                                                np.arange(150), 150, points, radius_m=1e-4,
+                                                backend="compiled")
+        np.testing.assert_array_equal(alone, together[:, half])
+    summed = segment_field(start, end, np.full(300, 2.5), points, radius_m=1e-4,
+                           backend="compiled")
+    np.testing.assert_allclose(summed, together.sum(axis=1), rtol=1e-12, atol=1e-20)
+
+
+class _Reporter:
+    """A progress reporter (deviation.progress) keeping the steps started and finished."""
+
+    def __init__(self):
+        self.steps = []
+
+    def start(self, label, total):
+        self.steps.append([label, total, 0, False])
+        record = self.steps[-1]
+
+        class Handle:
+            def advance(self, n=1):
+                record[2] += n
+
+            def done(self):
+                record[3] = True
+
+        return Handle()
+
+
+@pytest.mark.compiled
+def test_a_call_that_compiles_is_reported_once_as_a_progress_step(monkeypatch, capsys):
+    # The library never prints: a compiling call is a progress step (which the command line
+    # draws as one line on a terminal only), reported once per kernel and process.
+    from deviation import progress
+    from deviation.physics import _kernels
+
+    monkeypatch.setattr(_kernels, "_needs_compiling", lambda kernel: True)
+    monkeypatch.setattr(_kernels, "_checked", set())
+    reporter = _Reporter()
+    with progress.reporting(reporter):
+        for _ in range(2):
+            segment_field([[0, 0, 0.0]], [[1, 0, 0.0]], [1.0], [[0, 1, 0.0]], backend="compiled")
+    assert reporter.steps == [[_kernels.COMPILING_LABEL, 1, 1, True]]
+    monkeypatch.setattr(_kernels, "_checked", set())
+    segment_field([[0, 0, 0.0]], [[1, 0, 0.0]], [1.0], [[0, 1, 0.0]], backend="compiled")
+    assert capsys.readouterr() == ("", "")                 # no reporter: nothing anywhere
+    # Nothing is reported when numba's cache already holds the kernels for this machine.
+    monkeypatch.undo()
+    assert not _kernels._needs_compiling(_kernels._kernel)
+
+
+@pytest.mark.compiled
+def test_an_empty_cache_is_known_to_need_compiling(tmp_path):
+    # In a fresh process with an empty numba cache, both kernels need compiling (asked of the
+    # cache index only: nothing is compiled here).
+    import subprocess
+    import sys
+
+    code = ("from deviation.physics import _kernels as k; "
+            "print(k._needs_compiling(k._kernel), k._needs_compiling(k._group_kernel))")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                          env={**__import__("os").environ, "NUMBA_CACHE_DIR": str(tmp_path)})
+    assert done.stdout.split() == ["True", "True"], done.stderr

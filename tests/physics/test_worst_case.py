@@ -11,6 +11,7 @@ import math
 import zlib
 
 import numpy as np
+import previous_worst_case  # tests/physics: the search as it was, an oracle
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -412,6 +413,93 @@ def test_leading_dimensions_broadcast():
     for i, j in itertools.product(range(2), range(3)):
         one = wc.worst_combination(base, vectors[i, j], reversing, 15.0, 5.0)[0]
         assert size[i, j] == pytest.approx(one, rel=1e-13)
+
+
+@pytest.mark.parametrize("kind", KINDS)
+@pytest.mark.parametrize("heel, pitch", LIMITS[1:])
+def test_many_circuits_match_the_previous_vertex_enumeration(kind, heel, pitch):
+    # Oracle: the O(n^3) pair-by-pair vertex enumeration this package used before the circle
+    # walk (tests/physics/previous_worst_case.py, frozen), itself checked against brute force
+    # above; here at 16 to 60 circuits, where brute force cannot go. Same figure to rounding.
+    rng = np.random.default_rng(zlib.crc32(repr((kind, heel, pitch, "many")).encode()))
+    for n in (16, 33, 60):
+        vectors = _random_sets(rng, kind, 6, n) * 1e-6                  # [T], about 1 uT each
+        base = rng.normal(size=(6, 3)) * 1e-6 * rng.choice([0.0, 0.5, 3.0], size=(6, 1))
+        reversing = rng.random(n) < 0.3
+        expected, _ = previous_worst_case.worst_combination(base, vectors, reversing, heel, pitch)
+        size, choice = wc.worst_combination(base, vectors, reversing, heel, pitch)
+        np.testing.assert_allclose(size, expected, rtol=4e-16, atol=0.0)
+        attained = base + np.einsum("bn,bnk->bk", choice, vectors)
+        np.testing.assert_array_equal(wc.horizontal_over_attitude(attained, heel, pitch), size)
+
+
+@pytest.mark.compiled
+@pytest.mark.parametrize("kind", KINDS)
+def test_compiled_walk_matches_brute_force_and_the_numpy_walk(kind):
+    # Oracles: brute force over every switching (n up to 9), and the NumPy walk (n up to 40):
+    # the compiled walk meets the same vertices and scores them the same way.
+    rng = np.random.default_rng(zlib.crc32(repr((kind, "compiled")).encode()))
+    for heel, pitch in LIMITS[1:]:
+        for n in (1, 2, 3, 6, 9, 20, 40):
+            vectors = _random_sets(rng, kind, 8, n)
+            base = rng.normal(size=(8, 3)) * rng.choice([0.0, 0.5, 3.0], size=(8, 1))
+            reversing = rng.random(n) < 0.3
+            size, choice = wc.worst_combination(base, vectors, reversing, heel, pitch,
+                                                backend="compiled")
+            numpy_size, _ = wc.worst_combination(base, vectors, reversing, heel, pitch,
+                                                 backend="numpy")
+            np.testing.assert_allclose(size, numpy_size, rtol=4e-16, atol=0.0)
+            if n <= 9:
+                expected = _brute_force(base, vectors, reversing, heel, pitch)
+                np.testing.assert_allclose(size, expected, rtol=1e-12, atol=1e-14)
+            attained = base + np.einsum("bn,bnk->bk", choice, vectors)
+            np.testing.assert_array_equal(wc.horizontal_over_attitude(attained, heel, pitch),
+                                          size)
+
+
+def test_a_big_search_goes_compiled_and_a_small_one_stays_in_numpy(monkeypatch):
+    # The path follows the work, rows x circuits^2, with a lower bar once the compiled kernels
+    # are loaded (the package against its own rule; numba need not be imported for it).
+    import sys
+
+    from deviation.physics import field
+
+    monkeypatch.setattr(field, "_compiled_available", lambda: True)
+    monkeypatch.delitem(sys.modules, "deviation.physics._kernels", raising=False)
+    assert not wc._walk_compiled(24, 24, "auto")           # a normal plan: 24 states, 24
+    assert wc._walk_compiled(30, 200, "auto")               # 200 independent circuits
+    monkeypatch.setitem(sys.modules, "deviation.physics._kernels", object())
+    assert wc._walk_compiled(24, 30, "auto") and not wc._walk_compiled(2, 24, "auto")
+    assert wc._walk_compiled(1, 2, "compiled") and not wc._walk_compiled(10**6, 200, "numpy")
+    with pytest.raises(ValueError):
+        wc._walk_compiled(1, 1, "fast")
+
+
+def test_the_circle_walk_in_small_chunks_gives_the_same_choice(monkeypatch):
+    # Rows split across chunks of walks must merge to the same answer as one chunk (the package
+    # against itself, with chunks of 7 walks: rows of 20 circuits fall across chunk ends).
+    rng = np.random.default_rng(11)
+    vectors = rng.normal(size=(9, 20, 3))
+    base = rng.normal(size=(9, 3))
+    whole = wc.worst_combination(base, vectors, None, 20.0, 10.0)
+    monkeypatch.setattr(wc, "_CHUNK_ELEMENTS", 7 * (24 * 20 + 12))
+    chunked = wc.worst_combination(base, vectors, None, 20.0, 10.0)
+    np.testing.assert_array_equal(chunked[0], whole[0])
+    np.testing.assert_array_equal(chunked[1], whole[1])
+
+
+def test_vertices_left_unscored_could_not_have_been_the_worst(monkeypatch):
+    # Scoring every vertex (margin 1: nothing is skipped) gives the same figure as skipping
+    # those shorter than the best level horizontal part.
+    rng = np.random.default_rng(12)
+    for kind in ("general", "vertical plane", "axis integers"):
+        vectors = _random_sets(rng, kind, 30, 14)
+        base = rng.normal(size=(30, 3))
+        pruned = wc.worst_combination(base, vectors, None, 25.0, 8.0)[0]
+        monkeypatch.setattr(wc, "_PRUNE_MARGIN", 1.0)
+        every = wc.worst_combination(base, vectors, None, 25.0, 8.0)[0]
+        monkeypatch.undo()
+        np.testing.assert_array_equal(pruned, every)
 
 
 # --- worst cases through the whole budget ---------------------------------------------------------

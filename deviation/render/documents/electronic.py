@@ -75,7 +75,7 @@ def _total_field_blocks(report):
             Paragraph(f"Over every heading and attitude within heel ±{sensor.max_heel_deg:g}° and "
                       f"pitch ±{sensor.max_pitch_deg:g}°, the worst switching of the independent "
                       f"loads; a compensated survey installation aims at a figure of merit of "
-                      f"{low_fom:g}-{high_fom:g} nT (common practice, no published source).")]
+                      f"{low_fom:g}-{high_fom:g} nT (rule of thumb, no published source).")]
 
 
 #: How each standing is toned.
