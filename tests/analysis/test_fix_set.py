@@ -185,8 +185,10 @@ def test_remedies_and_fix_set_equal_those_of_full_re_evaluation(plan, monkeypatc
 
     monkeypatch.setattr(advice, "_Evaluator", FullEvaluator)
     slow = advice.with_remedies(analysis)
+    # The drone's leads (4 to 16 cm) are shorter than two untwisted ends, so twisting them
+    # changes nothing (each end counts at its worst turn) and no step helps there.
     assert any(s.fixes is not None and s.fixes.steps for s in slow.sensors) \
-        or plan.sensors[0].name == "dash compass"
+        or plan.sensors[0].name in ("dash compass", "mast magnetometer")
     for a, b in zip(fast.sensors, slow.sensors):
         assert (a.fixes is None) == (b.fixes is None)
         if a.fixes is not None:
