@@ -24,9 +24,10 @@ __version__ = "0.2.0"
 _EXPORTS = {
     "read_plan": "api", "plan_from_tables": "api", "check": "api", "find_spots": "api",
     "rank_spots": "api", "deviation_cards": "api", "site_field": "api", "to_json": "api",
-    "electronic_figures": "api", "operating_area": "api",
+    "electronic_figures": "api", "operating_area": "api", "at_voltage": "api",
     "CheckResult": "api",
     "Plan": "plan", "Sensor": "plan", "Run": "plan", "Circuit": "plan", "Equipment": "plan",
+    "Inverter": "plan", "StateCondition": "plan",
     "Site": "plan", "Finding": "plan", "PlanError": "plan",
     "DeviationError": "errors", "UnknownSensorError": "errors",
     "OutsideModelError": "physics.geomag", "OutputError": "files",

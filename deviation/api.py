@@ -26,6 +26,7 @@ import numpy as np
 from .analysis import Analysis, analyse
 from .card import Card, cards
 from .plan import Plan, Sensor
+from .plan import at_voltage as _at_voltage
 from .sitefield import SiteField, model_field
 from .spot import SpotSearch, rank_positions, search_box
 
@@ -77,6 +78,19 @@ def check(plan: Plan, *, remedies: bool = True,
     return check_plan(plan, remedies=remedies, fixes_for=fixes_for)
 
 
+def at_voltage(plan: Plan, voltage_v: float) -> Plan:
+    """The plan with every load given in watts drawn at the DC voltage ``voltage_v`` [V]
+    ("what if we went to 24 V?"); loads given in amperes stay as they are. Check the plan it
+    returns: ``deviation.check(deviation.at_voltage(plan, 24))``.
+
+    Raises
+    ------
+    InputError
+        The voltage is not more than 0 and at most 1 500 V, or no load is given in watts.
+    """
+    return _at_voltage(plan, voltage_v)
+
+
 def _sensor(plan: Plan, sensor: str | Sensor) -> Sensor:
     return plan.sensor(sensor) if isinstance(sensor, str) else sensor
 
@@ -109,9 +123,11 @@ def rank_spots(plan: Plan, sensor: str | Sensor, positions_m=None, names=None, *
 
 
 def deviation_cards(plan_or_result: Plan | Analysis, sensor: str | None = None,
-                    step_deg: float = 15.0) -> tuple[Card, ...]:
+                    step_deg: float | None = None) -> tuple[Card, ...]:
     """Predicted deviation cards (deviation and the compass heading to steer at each magnetic
-    heading), per sensor and state; ``sensor`` limits them to one."""
+    heading), per sensor and state; ``sensor`` limits them to one. ``step_deg`` defaults to 15°,
+    or 30° in the aviation profile (which refuses more than 45°, 14 CFR 25.1547(d)); there each
+    card carries its placard lines and the 10° limit (``Card.placard``, ``CardState.limit``)."""
     analysis = (plan_or_result if isinstance(plan_or_result, Analysis)
                 else analyse(plan_or_result))
     return cards(analysis, step_deg, sensor)

@@ -16,14 +16,93 @@ from dataclasses import dataclass
 import numpy as np
 
 from .budget import TESLA_PER_NT, circuit_currents, equipment_fields
+from .constants import (
+    AVIATION_CARD_STEP_DEG,
+    AVIATION_LIMIT_DEG,
+    AVIATION_MAX_STEP_DEG,
+    CARD_STEP_DEG,
+    OVERWHELMED_DEG,
+)
+from .errors import InputError, Problem
 from .physics import heading
-from .plan import frozen_array
+from .plan import StateCondition, frozen_array
 from .quantities import Status, Unit
 
 #: Sensor kinds with no heading to steer by (survey and flight-controller magnetometers).
 NOT_STEERED = ("magnetometer", "total-field magnetometer")
 #: Heading step of the curves drawn in plots [deg].
 CURVE_STEP_DEG = 1.0
+#: Kinds held to the 10 degree limit of the aviation profile: direction indicators, magnetic or
+#: electronic (14 CFR 23.1327 speaks of magnetic direction indicators, stabilized or not).
+DIRECTION_INDICATORS = ("magnetic compass", "electronic compass")
+
+
+def card_step_deg(plan) -> float:
+    """The card's step for the plan's profile [deg]: 30 for aviation, else 15."""
+    return AVIATION_CARD_STEP_DEG if plan.site.aviation else CARD_STEP_DEG
+
+
+@dataclass(frozen=True)
+class LevelLimit:
+    """Where a state stands against a regulation's limit on a direction indicator: the largest
+    deviation in level flight on any heading, of the compensated installation.
+
+    level_deg : [deg] the largest over headings, level, with every part of unknown direction
+        and the worst switching of the independent loads; the residual after adjustment where
+        the sensor is adjusted in a reference state (the compensated installation), else the
+        absolute deviation (OVERWHELMED_DEG where it can point anywhere)
+    limit_deg : [deg] the limit (AVIATION_LIMIT_DEG)
+    switched_on : the independent circuits on in that worst case, (name, sign)
+    """
+
+    level_deg: float
+    limit_deg: float
+    switched_on: tuple[tuple[str, int], ...] = ()
+
+    @property
+    def within(self) -> bool:
+        return self.level_deg <= self.limit_deg and self.level_deg < OVERWHELMED_DEG
+
+
+def level_limit(plan, sensor, state_result) -> LevelLimit | None:
+    """The aviation profile's limit for one sensor in one state; None outside the profile or for
+    a sensor that is no direction indicator (a magnetometer)."""
+    if not plan.site.aviation or sensor.kind not in DIRECTION_INDICATORS:
+        return None
+    level = (state_result.change_from_reference_deg if sensor.reference_state
+             else state_result.max_deviation_deg)
+    return LevelLimit(float(level), AVIATION_LIMIT_DEG, tuple(state_result.switched_on))
+
+
+@dataclass(frozen=True)
+class LimitVerdict:
+    """A direction indicator in one state against the aviation profile's limit."""
+
+    sensor: str
+    state: str
+    used: bool
+    condition: StateCondition | None
+    limit: LevelLimit
+
+
+def aviation_verdicts(analysis) -> tuple[LimitVerdict, ...]:
+    """Every direction indicator in every state against the 10 degree limit (empty outside the
+    aviation profile)."""
+    out = []
+    plan = analysis.plan
+    for result in analysis.sensors:
+        for st in result.states:
+            limit = level_limit(plan, result.sensor, st)
+            if limit is not None:
+                out.append(LimitVerdict(result.sensor.name, st.state, st.used,
+                                        plan.condition(st.state), limit))
+    return tuple(out)
+
+
+def within_aviation_limit(analysis) -> bool:
+    """Every direction indicator within the limit in every state it is relied on in (True
+    outside the aviation profile)."""
+    return all(v.limit.within for v in aviation_verdicts(analysis) if v.used)
 
 
 @dataclass(frozen=True)
@@ -42,6 +121,11 @@ class CardState:
     held : the state's figure held against the budget (budget's unit), at the worst attitude
     status : where the held figure stands (not used: shown, not held)
     curve_headings_deg, curve_deviation_deg, curve_band : every CURVE_STEP_DEG, for plots
+    condition : what the state stands for on a placard (engines, generator, radio receivers),
+        from the plan's conditions sheet; None where it does not say
+    limit : the aviation profile's 10 degree limit and where the state stands (None outside it)
+    used : the sensor is relied on in this state
+    switched_on : the independent circuits on in the worst case, (name, sign)
     """
 
     state: str
@@ -58,6 +142,10 @@ class CardState:
     curve_headings_deg: np.ndarray
     curve_deviation_deg: np.ndarray
     curve_band: np.ndarray
+    condition: StateCondition | None = None
+    limit: LevelLimit | None = None
+    used: bool = True
+    switched_on: tuple[tuple[str, int], ...] = ()
 
     @property
     def level_worst(self) -> float:
@@ -66,9 +154,42 @@ class CardState:
 
 
 @dataclass(frozen=True)
+class PlacardLine:
+    """One state's line of a compass placard, as values (the words are the renderer's): what
+    the state stands for, the step of the readings, and where its level figure stands against
+    the limit (14 CFR 25.1547: calibration in level flight with the engines operating, radio
+    receivers on or off, readings in not more than 45 degree increments; 27.1547(e): the loads
+    that would cause more than 10 degrees when turned on)."""
+
+    state: str
+    condition: StateCondition | None
+    step_deg: float
+    limit: LevelLimit | None
+    used: bool
+
+    @property
+    def radios_stated(self) -> bool:
+        return self.condition is not None and self.condition.radios is not None
+
+
+@dataclass(frozen=True)
 class Card:
     sensor: object
     states: tuple[CardState, ...]
+    profile: str = "general"
+    step_deg: float = CARD_STEP_DEG
+
+    @property
+    def aviation(self) -> bool:
+        return self.profile == "aviation"
+
+    @property
+    def placard(self) -> tuple[PlacardLine, ...]:
+        """The placard's lines, one per state (aviation profile; empty elsewhere)."""
+        if not self.aviation or self.sensor.kind not in DIRECTION_INDICATORS:
+            return ()
+        return tuple(PlacardLine(st.state, st.condition, self.step_deg, st.limit, st.used)
+                     for st in self.states)
 
     @property
     def unit(self) -> Unit:
@@ -115,15 +236,16 @@ def _total_field_nt(b_t, horizontal_t, vertical_t, headings_deg):
     return (seen - total) / TESLA_PER_NT
 
 
-def deviation_card(analysis, sensor_result, step_deg=15.0) -> Card:
+def deviation_card(analysis, sensor_result, step_deg=None) -> Card:
     """The card of one sensor: for each state, the figure at every ``step_deg`` of heading.
 
     Parameters
     ----------
     analysis : Analysis
     sensor_result : SensorResult
-    step_deg : float [deg]
-        Spacing of magnetic headings, dividing 360.
+    step_deg : float [deg], optional
+        Spacing of magnetic headings, dividing 360; default 15, or 30 in the aviation profile,
+        where more than 45 is refused (14 CFR 25.1547(d)).
 
     Returns
     -------
@@ -148,6 +270,11 @@ def deviation_card(analysis, sensor_result, step_deg=15.0) -> Card:
     """
     plan, site = analysis.plan, analysis.site
     sensor = sensor_result.sensor
+    step_deg = card_step_deg(plan) if step_deg is None else float(step_deg)
+    if plan.site.aviation and step_deg > AVIATION_MAX_STEP_DEG:
+        raise InputError(f"a card in {step_deg:g}° steps: the placard's readings are in not more "
+                         f"than {AVIATION_MAX_STEP_DEG:g}° increments of magnetic heading (14 CFR "
+                         "25.1547(d)); the aviation profile takes 30°", kind=Problem.OUT_OF_RANGE)
     headings = np.arange(0.0, 360.0, step_deg)
     curve = np.arange(0.0, 360.0 + CURVE_STEP_DEG / 2, CURVE_STEP_DEG)
     h, z = site.horizontal_t, site.vertical_t
@@ -190,11 +317,12 @@ def deviation_card(analysis, sensor_result, step_deg=15.0) -> Card:
             None if compass is None else frozen_array(compass),
             None if unadjusted is None else frozen_array(unadjusted), frozen_array(seen), beta,
             st.held, st.status, st.overwhelmed, frozen_array(curve),
-            frozen_array(curve_figure), frozen_array(curve_band)))
-    return Card(sensor, tuple(states))
+            frozen_array(curve_figure), frozen_array(curve_band), plan.condition(st.state),
+            level_limit(plan, sensor, st), st.used, tuple(st.switched_on)))
+    return Card(sensor, tuple(states), plan.site.profile, step_deg)
 
 
-def cards(analysis, step_deg=15.0, sensor_name=None) -> tuple[Card, ...]:
+def cards(analysis, step_deg=None, sensor_name=None) -> tuple[Card, ...]:
     """Cards of every sensor (or of one, by name)."""
     chosen = analysis.sensors if sensor_name is None else (analysis.sensor(sensor_name),)
     return tuple(deviation_card(analysis, result, step_deg) for result in chosen)

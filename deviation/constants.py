@@ -110,3 +110,39 @@ MAX_STATES = 1000
 MAX_INDEPENDENT_CIRCUITS = 200
 MAX_FIXES_STATES = 100
 MAX_FIXES_INDEPENDENT_CIRCUITS = 100
+
+# Loads in watts --------------------------------------------------------------------------------
+#: Highest DC voltage a circuit may have [V]: the upper limit of "low voltage" for direct
+#: current in the EU Low Voltage Directive 2014/35/EU, Article 1 (75 to 1 500 V DC). A plan's
+#: DC system above it is not one this tool is made for; more is a typing slip.
+MAX_DC_VOLTAGE_V = 1500.0
+#: Default efficiency of an inverter feeding an AC load from the DC system, where the plan gives
+#: none. Rule of thumb, no published source: NREL's PVWatts inverter model (Dobos, "PVWatts
+#: Version 5 Manual", NREL, 2014; pvlib's ``inverter.pvwatts``), with its
+#: nominal efficiency 0.96, gives 0.92 to 0.96 from 10 % to 100 % of the inverter's rating; a
+#: battery inverter on a boat or in a vehicle is seldom as efficient as a grid-tied PV inverter,
+#: and a lower efficiency can only raise the DC current (the default never flatters).
+DEFAULT_INVERTER_EFFICIENCY = 0.85
+#: PVWatts inverter model (Dobos 2014, as above): eta = eta_nom/eta_ref (-0.0162 zeta
+#: - 0.0059/zeta + 0.9858), zeta = P_dc/P_dc0, eta_ref = 0.9637; pvlib's default nominal
+#: efficiency eta_nom = 0.96.
+PVWATTS_COEFFICIENTS = (-0.0162, -0.0059, 0.9858)
+PVWATTS_ETA_NOM = 0.96
+#: The default idle draw of an inverter, where the plan gives none, is the DC power the PVWatts
+#: curve draws at zero AC output (physics.loads.pvwatts_idle_share: 0.62 % of the AC rating),
+#: with the inverter rated at the circuit's largest AC load. An inverter rated above its largest
+#: load idles higher: give idle_w from its data sheet.
+
+# Aviation profile ------------------------------------------------------------------------------
+#: The compensated installation may not have a deviation, in level flight, greater than 10
+#: degrees on any heading: 14 CFR 23.1327(a)(2) (Amdt. 23-20, 42 FR 36969, 1977; before
+#: amendment 23-64), 14 CFR 25.1327(b) and 29.1327(b) [deg].
+AVIATION_LIMIT_DEG = 10.0
+#: Each calibration reading of the placard must be in terms of magnetic heading in not more than
+#: 45 degree increments: 14 CFR 25.1547(d) (also 27.1547(d)) [deg].
+AVIATION_MAX_STEP_DEG = 45.0
+#: The aviation card's step [deg]: 30 degrees, within the 45 degree limit above (common practice,
+#: no source).
+AVIATION_CARD_STEP_DEG = 30.0
+#: The card's step elsewhere [deg].
+CARD_STEP_DEG = 15.0

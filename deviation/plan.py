@@ -7,13 +7,16 @@ computed from the plan that is passed, never cached on an old one (see :func:`co
 
 from __future__ import annotations
 
+import math
 import weakref
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import TYPE_CHECKING
 
 import numpy as np
 
-from .errors import DeviationError, Problem, UnknownSensorError
+from .constants import DEFAULT_INVERTER_EFFICIENCY, MAX_DC_VOLTAGE_V
+from .errors import DeviationError, InputError, Problem, UnknownSensorError
+from .physics.loads import dc_current_a, pvwatts_idle_share
 from .physics.routing import RunGeometry
 from .quantities import Budget
 from .schema import SAFE_DISTANCE_FOR, SENSOR_KINDS  # noqa: F401  (re-exported)
@@ -102,6 +105,31 @@ class Site:
     vessel: str | None = None
     owner: str | None = None
     installer: str | None = None
+    # What the plan is for (schema.PROFILES): "general", or "aviation" (the card in 30 degree
+    # steps with the placard's conditions, the 10 degree limit, the swing triggers of aircraft).
+    profile: str = "general"
+
+    @property
+    def aviation(self) -> bool:
+        return self.profile == "aviation"
+
+
+@dataclass(frozen=True)
+class Inverter:
+    """An inverter feeding a circuit's AC load from the DC system, as the plan gives it.
+
+    ``efficiency`` and ``idle_w`` [W] are None where the plan leaves them blank; the defaults
+    then count (:attr:`Circuit.efficiency`, :attr:`Circuit.idle_w`).
+    """
+
+    efficiency: float | None = None
+    idle_w: float | None = None
+
+
+def valid_voltage(voltage_v) -> bool:
+    """A DC voltage a circuit may have: more than 0 and at most MAX_DC_VOLTAGE_V [V]."""
+    return (voltage_v is not None and math.isfinite(voltage_v)
+            and 0.0 < voltage_v <= MAX_DC_VOLTAGE_V)
 
 
 @dataclass(frozen=True)
@@ -111,24 +139,85 @@ class Circuit:
     ``switching`` is "with states" (the current is what the state column says), "independent"
     (the load may be on or off on top of any state, at the current its cell gives in that state),
     or "independent reversing" (on either way round, or off).
+
+    A load may be given in watts (``power_w``, NaN in the states given in amperes or left
+    blank) on a circuit of DC voltage ``voltage_v``, straight from the DC system or, for an AC
+    load, through an ``inverter``. The plan keeps the watts as written; ``currents_a`` is then
+    worked out from them here (:func:`deviation.physics.loads.dc_current_a`), so a plan made with
+    ``dataclasses.replace`` at another voltage carries the currents of that voltage. A circuit
+    through an inverter draws nothing where its cell is blank (the inverter off) and its idle
+    draw wherever a power is given, 0 W included.
     """
 
     name: str
-    currents_a: np.ndarray            # (K,) amperes in each state
+    currents_a: np.ndarray            # (K,) amperes in each state (DC side)
     switching: str = "with states"
     note: str = ""
     row: int | None = None
+    power_w: np.ndarray | None = None   # (K,) [W] as given; NaN where given in A or blank
+    voltage_v: float | None = None      # the circuit's DC voltage [V]
+    inverter: Inverter | None = None    # an AC load fed through an inverter
 
     def __post_init__(self):
-        _freeze(self, "currents_a")
+        _freeze(self, "currents_a", "power_w")
+        if self.power_w is None or not valid_voltage(self.voltage_v):
+            return                        # no watts, or a finding (consistency_findings)
+        given = np.isfinite(self.power_w)
+        watts = np.where(given, self.power_w, 0.0)
+        derived = dc_current_a(watts, self.voltage_v, self.efficiency, self.idle_w, on=given)
+        if self.inverter is None:
+            derived = np.where(given, derived, np.asarray(self.currents_a, dtype=float))
+        object.__setattr__(self, "currents_a", frozen_array(derived))
+
+    @property
+    def in_watts(self) -> bool:
+        """Some state's load is given in watts."""
+        return self.power_w is not None and bool(np.isfinite(self.power_w).any())
+
+    @property
+    def efficiency(self) -> float:
+        """The efficiency that counts: the inverter's as given, else the default; 1 for DC."""
+        if self.inverter is None:
+            return 1.0
+        given = self.inverter.efficiency
+        return DEFAULT_INVERTER_EFFICIENCY if given is None else given
+
+    @property
+    def idle_w(self) -> float:
+        """The inverter's idle draw that counts [W]: as given, else the PVWatts curve's draw at
+        zero output for an inverter rated at the circuit's largest load; 0 for DC."""
+        if self.inverter is None:
+            return 0.0
+        if self.inverter.idle_w is not None:
+            return self.inverter.idle_w
+        watts = np.abs(self.power_w[np.isfinite(self.power_w)]) if self.power_w is not None \
+            else np.zeros(0)
+        return float(watts.max() if len(watts) else 0.0) * pvwatts_idle_share()
 
     @property
     def independent(self) -> bool:
         return self.switching != "with states"
 
+    def at_voltage(self, voltage_v: float) -> Circuit:
+        """The same circuit on another DC voltage (its loads in watts drawn at that voltage)."""
+        return replace(self, voltage_v=float(voltage_v)) if self.in_watts else self
+
     @property
     def reversing(self) -> bool:
         return self.switching == "independent reversing"
+
+
+@dataclass(frozen=True)
+class StateCondition:
+    """What an operating state stands for on a placard (the conditions sheet): the engines, the
+    generator and the radio receivers, each one of the schema's words or None where not said."""
+
+    state: str
+    engines: str | None = None        # schema.ENGINES: running, stopped
+    generator: str | None = None      # schema.GENERATOR: charging, not charging
+    radios: str | None = None         # schema.RADIOS: on, off
+    note: str = ""
+    row: int | None = None
 
 
 @dataclass(frozen=True)
@@ -259,10 +348,12 @@ class Plan:
     skipped_examples: tuple[tuple[str, int], ...] = ()
     #: Notes of items that carry none themselves: {"points"/"spots": {name key: note}}.
     item_notes: dict = field(default_factory=dict, compare=False)
+    #: What each state stands for on a placard (the conditions sheet); states not named: none.
+    conditions: tuple[StateCondition, ...] = ()
 
     def __post_init__(self):
         for name in ("runs", "state_names", "circuits", "sensors", "equipment", "spots",
-                     "points"):
+                     "points", "conditions"):
             object.__setattr__(self, name, tuple(getattr(self, name)))
         findings = consistency_findings(self)
         if findings:
@@ -315,6 +406,15 @@ class Plan:
 
     def state_index(self, state: str) -> int:
         return self.state_names.index(state)
+
+    def condition(self, state: str) -> StateCondition | None:
+        """What the state stands for on a placard, or None where the plan does not say."""
+        return next((c for c in self.conditions if c.state == state), None)
+
+    @property
+    def in_watts(self) -> bool:
+        """Some circuit's load is given in watts."""
+        return any(c.in_watts for c in self.circuits)
 
     @property
     def circuit_matrix(self) -> np.ndarray:
@@ -388,6 +488,20 @@ def consistency_findings(plan) -> list[Finding]:
         if np.shape(circuit.currents_a) != (len(plan.state_names),):
             add("states", circuit.row, "circuit", f'circuit "{circuit.name}": '
                 f"{np.size(circuit.currents_a)} currents for {len(plan.state_names)} states")
+        if circuit.power_w is not None and np.shape(circuit.power_w) != (len(plan.state_names),):
+            add("states", circuit.row, "circuit", f'circuit "{circuit.name}": '
+                f"{np.size(circuit.power_w)} powers for {len(plan.state_names)} states")
+        if circuit.in_watts and not valid_voltage(circuit.voltage_v):
+            add("states", circuit.row, "voltage", f'circuit "{circuit.name}": a load in watts '
+                f"needs the circuit's DC voltage, more than 0 and at most {MAX_DC_VOLTAGE_V:g} V"
+                f" (it is {circuit.voltage_v})")
+        if circuit.inverter is not None and not 0.0 < circuit.efficiency <= 1.0:
+            add("states", circuit.row, "efficiency", f'circuit "{circuit.name}": an efficiency '
+                f"is more than 0 and at most 1 (it is {circuit.efficiency:g})")
+    for condition in plan.conditions:
+        if condition.state not in states:
+            add("conditions", condition.row, "state",
+                f'"{condition.state}" is not a state of the plan')
     for sensor in plan.sensors:
         for state in ((sensor.reference_state,) if sensor.reference_state else ()) + tuple(
                 sensor.used_in or ()):
@@ -401,6 +515,26 @@ def consistency_findings(plan) -> list[Finding]:
                 add("equipment", item.row, "states",
                     f'item "{item.name}": "{state}" is not a state of the plan')
     return out
+
+
+def at_voltage(plan: Plan, voltage_v: float) -> Plan:
+    """The plan with every load given in watts drawn at the DC voltage ``voltage_v`` [V] (a
+    what-if: "what if we went to 24 V?"); loads given in amperes are left as they are.
+
+    Raises
+    ------
+    InputError
+        The voltage is not more than 0 and at most MAX_DC_VOLTAGE_V, or no load of the plan is
+        given in watts (the what-if would change nothing).
+    """
+    if not valid_voltage(voltage_v):
+        raise InputError(f"a DC voltage is more than 0 and at most {MAX_DC_VOLTAGE_V:g} V (got "
+                         f"{voltage_v:g} V)", kind=Problem.OUT_OF_RANGE)
+    if not plan.in_watts:
+        raise InputError("no load of the plan is given in watts, so another voltage changes "
+                         "nothing: give loads as e.g. 1500 W with the circuit's voltage in the "
+                         "states sheet", kind=Problem.INCONSISTENT)
+    return replace(plan, circuits=tuple(c.at_voltage(voltage_v) for c in plan.circuits))
 
 
 _ROUTED: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()

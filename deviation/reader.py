@@ -21,6 +21,7 @@ from . import units
 from .constants import (
     MAX_COORDINATE_M,
     MAX_CURRENT_A,
+    MAX_DC_VOLTAGE_V,
     MAX_LENGTH_M,
     MAX_MOMENT_AM2,
     MAX_SAFE_DISTANCE_M,
@@ -36,17 +37,23 @@ from .plan import (
     Circuit,
     Equipment,
     Finding,
+    Inverter,
     Plan,
     PlanError,
     Run,
     Sensor,
     Site,
+    StateCondition,
     frozen_array,
     name_key,
 )
 from .quantities import Budget, Unit
 from .schema import (
+    ENGINES,
+    GENERATOR,
     PAIR_LIES,
+    PROFILES,
+    RADIOS,
     REQUIRED_SHEETS,
     RETURN_KINDS,
     SAFE_DISTANCE_FOR,
@@ -54,7 +61,7 @@ from .schema import (
     SHEETS,
     SITE_SETTINGS,
     SITE_TEXT_SETTINGS,
-    STATES_TEXT_COLUMNS,
+    SUPPLIES,
     SWITCHING,
     TOTAL_FIELD_KIND,
     VECTOR_ELECTRONIC_KINDS,
@@ -332,10 +339,12 @@ def _read_site(sheet, collector):
                       "instead", Problem.OUT_OF_RANGE)
     places = tuple(p for p in (_place(number, value, note, collector)
                                for number, value, note in place_rows) if p is not None)
+    profile = _choice(values.get("profile"), PROFILES, "general", collector, "site",
+                      rows.get("profile"), "value", "a profile")
     text = {name: str(values[name]).strip() or None for name in SITE_TEXT_SETTINGS
             if values.get(name) is not None}
     return Site(unit, latitude, longitude, year, date_text, altitude, horizontal, vertical,
-                tuple(notes), places=places, **text)
+                tuple(notes), places=places, profile=profile, **text)
 
 
 def _place(number, value, note, collector):
@@ -390,7 +399,7 @@ def _read_points(sheet, unit, collector):
 
 def _read_states(sheet, collector):
     """Circuit currents: ({circuit key: (K,) amperes}, [state names], {circuit key: name},
-    {circuit key: (switching, note, row)})."""
+    {circuit key: (switching, note, row, power_w, voltage_v, inverter)})."""
     if sheet is None:
         return None, [DEFAULT_STATE], {}, {}
     if "circuit" not in sheet.columns:
@@ -408,19 +417,196 @@ def _read_states(sheet, collector):
         circuit = _unique_name(row, "circuit", "circuit", seen, collector, "states", number)
         if circuit is None:
             continue
-        values = []
+        amps, watts = [], []
         for col, label in sheet.state_columns:
-            cell = row.get(col)
-            values.append(0.0 if cell is None else
-                          _number(cell, "a current in amperes", collector, "states", number, label,
-                                  limit=MAX_CURRENT_A, unit="A"))
-        # A bad cell is reported above; the circuit stays known so runs naming it find it.
-        currents[key(circuit)] = np.array([0.0 if v is None else v for v in values], dtype=float)
-        names[key(circuit)] = str(circuit)
+            current, power = _load_cell(row.get(col), collector, number, label)
+            amps.append(0.0 if current is None else current)
+            watts.append(np.nan if power is None else power)
         switching = _choice(row.get("switching"), SWITCHING, "with states", collector, "states",
                             number, "switching", "a way of switching")
-        details[key(circuit)] = (switching, str(row.get("note") or ""), number)
+        power_w, voltage, inverter = _supply(row, np.array(watts, dtype=float), sheet, collector,
+                                             number)
+        made = Circuit(str(circuit), np.array(amps, dtype=float), switching,
+                       str(row.get("note") or ""), number, power_w, voltage, inverter)
+        _check_load_currents(made, sheet, collector)
+        # A bad cell is reported above; the circuit stays known so runs naming it find it.
+        currents[key(circuit)] = np.asarray(made.currents_a, dtype=float)
+        names[key(circuit)] = str(circuit)
+        details[key(circuit)] = (switching, made.note, number, power_w, voltage, inverter)
     return currents, states, names, details
+
+
+# Loads in watts -----------------------------------------------------------------------------------
+
+_NUMBER = r"([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:e[-+]?\d+)?)"
+#: A states cell with a unit: 1500 W, 1.5 kW, 12 A.
+_LOAD = re.compile(rf"^\s*{_NUMBER}\s*(kw|w|a)\s*$", re.I)
+#: A voltage cell: 12, 12 V, 24 VDC, 24 V DC; an AC one (230 V AC, 120 VAC) is found apart.
+_VOLTAGE = re.compile(rf"^\s*{_NUMBER}\s*(v)?\s*(dc|ac)?\s*$", re.I)
+_PERCENT = re.compile(rf"^\s*{_NUMBER}\s*%\s*$")
+_WATT_EXAMPLE = "e.g. 1500 W or 1.5 kW"
+
+
+def _load_cell(cell, collector, number, label):
+    """A states cell: (amperes, None), (None, watts), or (None, None) blank or bad (found)."""
+    if cell is None:
+        return None, None
+    if isinstance(cell, str):
+        match = _LOAD.match(cell)
+        if match:
+            value, unit = float(match.group(1)), match.group(2).lower()
+            if not math.isfinite(value):
+                collector.add("states", number, label, f'"{visible(cell)}" is not a finite number',
+                              Problem.NOT_A_VALUE)
+                return None, None
+            if unit == "a":
+                return _limited(value, collector, number, label), None
+            return None, value * (1000.0 if unit == "kw" else 1.0)
+    what = "a current in amperes"
+    if isinstance(cell, str) and re.search(r"\d\s*[a-z]", cell, re.I) and "inf" not in cell.lower():
+        what += f" or a load in watts ({_WATT_EXAMPLE})"       # a number with a unit we lack
+    value = _number(cell, what, collector, "states", number, label, limit=MAX_CURRENT_A, unit="A")
+    return value, None
+
+
+def _limited(value, collector, number, label):
+    if abs(value) > MAX_CURRENT_A:
+        collector.add("states", number, label, f"{_sig(value)} A is more than the "
+                      f"{MAX_CURRENT_A:,.0f} A any plan has (rule of thumb, no published source); "
+                      "check the digits and the unit", Problem.OUT_OF_RANGE)
+        return None
+    return value
+
+
+def _voltage(value, collector, number):
+    """The voltage cell: (volts or None, whether it says AC); a finding where it is no voltage."""
+    if value is None:
+        return None, False
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        volts, ac = float(value), False
+    else:
+        match = _VOLTAGE.match(str(value)) if isinstance(value, str) else None
+        if not match:
+            _number(value, "a DC voltage (e.g. 12 or 24 V)", collector, "states", number,
+                    "voltage")
+            return None, False
+        volts, ac = float(match.group(1)), (match.group(3) or "").lower() == "ac"
+    if ac:
+        return volts, True
+    if not (math.isfinite(volts) and 0.0 < volts <= MAX_DC_VOLTAGE_V):
+        collector.add("states", number, "voltage", f'"{visible(value)}" is not a DC voltage a '
+                      f"circuit may have: more than 0 and at most {MAX_DC_VOLTAGE_V:,.0f} V (the "
+                      "upper limit of low voltage DC, EU Low Voltage Directive 2014/35/EU)",
+                      Problem.OUT_OF_RANGE)
+        return None, False
+    return volts, False
+
+
+def _efficiency(value, collector, number):
+    if value is None:
+        return None
+    match = _PERCENT.match(value) if isinstance(value, str) else None
+    if match:
+        number_value, percent = float(match.group(1)), True
+    else:
+        number_value = _number(value, "an efficiency (e.g. 0.88 or 88 %)", collector, "states",
+                               number, "efficiency")
+        percent = False
+        if number_value is None:
+            return None
+    share = number_value / 100.0 if percent else number_value
+    if not 0.0 < share <= 1.0:
+        hint = (f"; for {number_value:g} % write {number_value:g} % or {number_value / 100:g}"
+                if not percent and 1.0 < number_value <= 100.0 else "")
+        collector.add("states", number, "efficiency", f'"{visible(value)}" is not an efficiency: '
+                      f"more than 0 and at most 1 (100 %){hint}", Problem.OUT_OF_RANGE)
+        return None
+    return share
+
+
+def _idle(value, collector, number):
+    if value is None:
+        return None
+    if isinstance(value, str):
+        match = _LOAD.match(value)
+        if match and match.group(2).lower() in ("w", "kw"):
+            value = float(match.group(1)) * (1000.0 if match.group(2).lower() == "kw" else 1.0)
+    watts = _number(value, "an idle draw in watts (e.g. 25 or 25 W)", collector, "states", number,
+                    "idle_w", limit=MAX_CURRENT_A * MAX_DC_VOLTAGE_V, unit="W")
+    if watts is not None and watts < 0:
+        collector.add("states", number, "idle_w", f"an idle draw of {_sig(watts)} W is less than "
+                      "nothing; give the inverter's own draw when on, from its data sheet",
+                      Problem.OUT_OF_RANGE)
+        return None
+    return watts
+
+
+def _supply(row, watts, sheet, collector, number):
+    """The row's voltage, supply, efficiency and idle draw, each checked against its cells:
+    (power_w or None, voltage_v or None, Inverter or None)."""
+    via = _choice(row.get("supply"), SUPPLIES, "DC", collector, "states", number, "supply",
+                  "a supply") == "via inverter"
+    voltage, ac = _voltage(row.get("voltage"), collector, number)
+    given = np.isfinite(watts)
+    labels = [label for _, label in sheet.state_columns]
+    first = labels[int(np.argmax(given))] if given.any() else None
+    if ac:
+        text = visible(row.get("voltage"))
+        what = (f'a load in watts ({_sig(watts[given][0])} W in "{first}") on a circuit that is not '
+                "DC has no DC current to count" if given.any() else
+                "this tool counts the fields of DC circuits")
+        collector.add("states", number, "voltage", f'"{text}" is not DC: {what}; for an AC load '
+                      'fed through an inverter give the inverter\'s DC voltage and supply "via '
+                      'inverter"', Problem.INCONSISTENT)
+        voltage = None
+    elif given.any() and voltage is None and row.get("voltage") is None:
+        collector.add("states", number, first, f"{_sig(watts[given][0])} W needs the circuit's DC "
+                      "voltage to become a current: fill the voltage column (e.g. 12 or 24 V)",
+                      Problem.MISSING)
+    inverter = None
+    if via:
+        for (col, label), power in zip(sheet.state_columns, watts):
+            cell = row.get(col)
+            if cell is not None and not math.isfinite(power):
+                collector.add("states", number, label, f'"{visible(cell)}" is in amperes; a load '
+                              "via inverter is given in watts of AC output "
+                              f"({_WATT_EXAMPLE}), and its DC current is worked out",
+                              Problem.INCONSISTENT)
+            elif math.isfinite(power) and power < 0:
+                collector.add("states", number, label, f"{_sig(power)} W: a load via inverter "
+                              "draws power, it does not feed it (for charging give the DC "
+                              "current or power with supply DC)", Problem.OUT_OF_RANGE)
+        if row.get("voltage") is None and not given.any():
+            collector.add("states", number, "voltage", "a load via inverter needs the inverter's "
+                          "DC voltage (e.g. 12 or 24 V)", Problem.MISSING)
+        inverter = Inverter(_efficiency(row.get("efficiency"), collector, number),
+                            _idle(row.get("idle_w"), collector, number))
+    else:
+        for column in ("efficiency", "idle_w"):
+            if row.get(column) is not None:
+                collector.add("states", number, column, f"{column} is for a load via inverter; "
+                              'set supply to "via inverter" or leave the cell blank',
+                              Problem.INCONSISTENT)
+    if voltage is None:
+        # Reported above; the watts are left out so the plan can still be made and every other
+        # finding reported with it.
+        return None, voltage, None
+    if not given.any() and not via:
+        return None, voltage, None
+    return watts, voltage, inverter
+
+
+def _check_load_currents(circuit, sheet, collector):
+    """A load in watts whose current is beyond what any plan carries (a slip of kW for W)."""
+    if not circuit.in_watts or circuit.voltage_v is None:
+        return
+    for (_, label), power, current in zip(sheet.state_columns, circuit.power_w,
+                                          circuit.currents_a):
+        if math.isfinite(power) and abs(current) > MAX_CURRENT_A:
+            collector.add("states", circuit.row, label, f"{_sig(power)} W at "
+                          f"{circuit.voltage_v:g} V is {_sig(current)} A, more than the "
+                          f"{MAX_CURRENT_A:,.0f} A any plan has (rule of thumb, no published "
+                          "source); check the digits and the unit", Problem.OUT_OF_RANGE)
 
 
 def _unique_name(row, column, what, seen, collector, sheet, number):
@@ -975,6 +1161,30 @@ def _read_spots(sheet, site, points, sensors, collector):
     return spots
 
 
+def _read_conditions(sheet, states, collector):
+    """What each named state stands for on a placard: engines, generator, radio receivers."""
+    out = []
+    if sheet is None or not _check_columns(sheet, collector):
+        return out
+    seen = set()
+    for number, row in sheet.rows:
+        name = _unique_name(row, "state", "state", seen, collector, "conditions", number)
+        if name is None:
+            continue
+        matches = [s for s in states if key(s) == key(name)]
+        if not matches:
+            collector.add("conditions", number, "state", f'"{visible(name)}" is not a state of '
+                          f"the states sheet{_suggest(str(name), states)}", Problem.UNKNOWN_NAME)
+            continue
+        words = [_choice(row.get(column), choices, None, collector, "conditions", number, column,
+                         what) for column, choices, what in (
+                             ("engines", ENGINES, "a condition of the engines"),
+                             ("generator", GENERATOR, "a condition of the generator"),
+                             ("radios", RADIOS, "a condition of the radio receivers"))]
+        out.append(StateCondition(matches[0], *words, str(row.get("note") or ""), number))
+    return out
+
+
 def _read_volumes(sheet, site, points, sensors, collector):
     """Boxes to mount a sensor in or keep it out of, each with its corners ordered."""
     from .plan import Volume  # imported here to keep this sheet's change in one place
@@ -1036,10 +1246,11 @@ def _sheets_of(found, collector):
 
         def free_text(column, name=name, known=known):
             # Notes, and columns the plan does not know (kept as notes); in the states sheet
-            # every column but the text ones is a state's currents.
+            # every column but switching and the circuit's own (voltage, supply, ...) is a
+            # state's currents.
             if column in NOTE_COLUMNS:
                 return True
-            return column not in known if name != "states" else column in STATES_TEXT_COLUMNS
+            return column not in known if name != "states" else column == "switching"
 
         sheet = table(name, raw.label, raw.grid, collector, canonical, date_columns=dates,
                       free_text=free_text)
@@ -1153,6 +1364,7 @@ def _plan_from_sheets(sheets, source, collector, others=()) -> Plan:
         collector.add("sensors", None, None, f"the plan has no sensors to check{examples}")
     spots = _read_spots(sheets.get("spots"), site, points, sensors, collector)
     volumes = _read_volumes(sheets.get("volumes"), site, points, sensors, collector)
+    conditions = _read_conditions(sheets.get("conditions"), states, collector)
     if circuit_currents is None:        # no states sheet: each run is its own circuit
         circuits = [Circuit(run.name, run_currents[r], row=run.row) for r, run in enumerate(runs)]
         runs = [replace(run, circuits=(run.name,)) for run in runs]
@@ -1164,7 +1376,7 @@ def _plan_from_sheets(sheets, source, collector, others=()) -> Plan:
                 circuits_from_runs=circuit_currents is None, volumes=tuple(volumes),
                 skipped_examples=tuple((name, row) for name in SHEETS if name in sheets
                                        for row in sheets[name].examples),
-                item_notes=_item_notes(sheets))
+                item_notes=_item_notes(sheets), conditions=tuple(conditions))
     if not collector.findings:
         _check_measured_currents(plan, collector)
     if collector.findings:

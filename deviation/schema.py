@@ -24,8 +24,19 @@ PAIR_LIES = ("not known", "side by side", "one above the other")
 SWITCHING = ("with states", "independent", "independent reversing")
 #: Kinds of box in the volumes sheet.
 VOLUME_KINDS = ("mount in", "keep out")
-#: Column names of the states sheet that are free text, never an operating state.
-STATES_TEXT_COLUMNS = ("note", "notes", "comment", "comments", "switching")
+#: How a circuit's load is fed: straight from the DC system, or an AC load through an inverter.
+SUPPLIES = ("DC", "via inverter")
+#: Columns of the states sheet that describe the circuit, not an operating state.
+STATES_CIRCUIT_COLUMNS = ("switching", "voltage", "supply", "efficiency", "idle_w")
+#: Column names of the states sheet that are free text or describe the circuit, never an
+#: operating state.
+STATES_TEXT_COLUMNS = ("note", "notes", "comment", "comments") + STATES_CIRCUIT_COLUMNS
+#: What the plan is for (the site's profile setting).
+PROFILES = ("general", "aviation")
+#: The placard's conditions of an operating state (the conditions sheet).
+ENGINES = ("running", "stopped")
+GENERATOR = ("charging", "not charging")
+RADIOS = ("on", "off")
 
 
 @dataclass(frozen=True)
@@ -92,15 +103,26 @@ SCHEMA: dict[str, SheetSpec] = {s.name: s for s in (
            ("current_a", "Current in amperes, used only when the plan has no states sheet."),
            NOTE),
     _sheet("states",
-           ("circuit", "Circuit name. Every other column except switching and note is an "
-                       "operating state; each cell is the circuit's current in A in that state "
-                       "(blank: off; negative: reversed, e.g. charging).", True),
+           ("circuit", "Circuit name. Every other column except switching, voltage, supply, "
+                       "efficiency, idle_w and note is an operating state; each cell is the "
+                       "circuit's current in A in that state, or its load in watts as 1500 W or "
+                       "1.5 kW with the voltage column filled (blank: off; negative: reversed, "
+                       "e.g. charging).", True),
            ("harbour", "An operating state: rename, add or remove state columns freely."),
            ("night motoring", "Another operating state."),
            ("switching", "with states (blank), or independent: the load may be on or off on top "
                          "of any state (windlass, thruster, a radio transmitting), at the current "
                          "its cell gives; independent reversing: either way round. The budget "
                          "takes the worst combination.", False, SWITCHING),
+           ("voltage", "The circuit's DC voltage, e.g. 12 or 24 V; needed where a cell is in "
+                       "watts (an inverter's DC input for a load via inverter)."),
+           ("supply", "DC (blank): the watts are drawn from the DC system; via inverter: an AC "
+                      "load fed through an inverter, its cells in watts of AC output (blank: "
+                      "the inverter off; 0 W: on and idling).", False, SUPPLIES),
+           ("efficiency", "Via inverter: the inverter's efficiency, 0.88 or 88 % (blank: 0.85, "
+                          "rule of thumb, no published source; below NREL's PVWatts curve)."),
+           ("idle_w", "Via inverter: the inverter's own draw in W when on, from its data sheet "
+                      "(blank: 0.62 % of the largest load, the PVWatts curve at zero output)."),
            NOTE),
     _sheet("sensors",
            ("sensor", "Unique name of the compass or magnetometer.", True),
@@ -148,12 +170,20 @@ SCHEMA: dict[str, SheetSpec] = {s.name: s for s in (
            ("to", "The opposite corner: point name or x, y, z.", True),
            ("for_sensor", "The sensor it applies to (blank or all: every sensor)."),
            NOTE),
-)}
+    _sheet("conditions",
+           ("state", "An operating state, as named in the states sheet: what it stands for on "
+                     "a compass placard (aviation profile).", True),
+           ("engines", "running or stopped.", False, ENGINES),
+           ("generator", "charging or not charging.", False, GENERATOR),
+           ("radios", "Radio receivers on or off (14 CFR 25.1547(c): the placard states which).",
+            False, RADIOS),
+           NOTE))}
 
 SHEETS = tuple(SCHEMA)
 REQUIRED_SHEETS = ("runs", "sensors")
 SITE_SETTINGS = ("units", "latitude", "longitude", "date", "altitude_m", "horizontal_field_ut",
-                 "vertical_field_ut", "place", "vessel", "owner", "installer")
+                 "vertical_field_ut", "place", "vessel", "owner", "installer",
+                 "profile")
 #: Site settings that are free text, shown on a report's first page and the deviation card.
 SITE_TEXT_SETTINGS = ("vessel", "owner", "installer")
 
@@ -163,5 +193,5 @@ def columns_of(sheet: str) -> dict[str, tuple[str, ...]]:
     spec = SCHEMA[sheet]
     known = spec.known
     if sheet == "states":                 # state columns are the user's own; only these are fixed
-        known = ("circuit", "switching", "note")
+        known = ("circuit", "note") + STATES_CIRCUIT_COLUMNS
     return {"required": spec.required, "known": known}

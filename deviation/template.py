@@ -5,6 +5,8 @@ from __future__ import annotations
 import re
 from decimal import Decimal
 
+import numpy as np
+
 from .files import write_atomically
 from .plan import name_key
 from .schema import SCHEMA, SITE_SETTINGS
@@ -43,7 +45,10 @@ SITE_ROWS = [{"setting": "units", "value": "m",
                                            "first page and the deviation card"},
              {"setting": "owner", "note": "optional: its owner, for the reports' first page"},
              {"setting": "installer", "note": "optional: who installs the wiring, for the "
-                                              "reports' first page"}]
+                                              "reports' first page"},
+             {"setting": "profile", "note": "optional: general (blank) or aviation (the card "
+                                            "in 30° steps with the placard's conditions, the "
+                                            "10° limit on any heading)"}]
 
 #: Worked examples, by column; the template writes them under each sheet's header. Each one's
 #: first cell begins with EXAMPLE, so the reader skips it and ``check`` says it is still there.
@@ -59,7 +64,13 @@ EXAMPLE_ROWS = {
     "states": [{"circuit": EXAMPLE + "instruments", "harbour": 1.5, "night motoring": 3.0,
                 "note": "example circuit"},
                {"circuit": EXAMPLE + "windlass", "harbour": 80, "switching": "independent",
-                "note": "example: on or off in any state"}],
+                "note": "example: on or off in any state"},
+               {"circuit": EXAMPLE + "microwave", "harbour": "1500 W", "voltage": "12 V",
+                "supply": "via inverter", "efficiency": 0.88,
+                "note": "example: an AC load in watts through an inverter"}],
+    "conditions": [{"state": EXAMPLE + "night motoring", "engines": "running",
+                    "generator": "charging", "radios": "on",
+                    "note": "example: what the state stands for on a placard"}],
     "sensors": [{"sensor": EXAMPLE + "steering compass", "at": "helm", "kind": "magnetic compass",
                  "budget_deg": 1.0, "reference_state": "harbour", "max_heel_deg": 20,
                  "note": "example"}],
@@ -245,8 +256,10 @@ def _site_rows(site):
               else None,
               "horizontal_field_ut": site.horizontal_ut, "vertical_field_ut": site.vertical_ut,
               "vessel": site.vessel, "owner": site.owner, "installer": site.installer}
+    if site.profile != "general":
+        values["profile"] = site.profile
     for name in SITE_SETTINGS[1:]:
-        if name == "place":
+        if name == "place" or (name == "profile" and name not in values):
             continue
         value = values[name]
         if value is None and name not in notes:
@@ -256,6 +269,37 @@ def _site_rows(site):
     for name, latitude, longitude in site.places:        # the operating area, one row each
         rows.append(["place", f"{latitude!r}, {longitude!r}", name])
     return rows
+
+
+def watts_text(power_w):
+    """A load in watts as a person types it: 1500 W (the shortest decimal that reads back)."""
+    return f"{shortest_number(power_w, 'm')} W"
+
+
+def _states_rows(plan):
+    """The states sheet: each circuit's cells as given (amperes, or watts as 1500 W), and the
+    circuit's voltage, supply, efficiency and idle draw where any circuit has them."""
+    supplied = any(c.voltage_v is not None or c.inverter is not None for c in plan.circuits)
+    extra = ["voltage", "supply", "efficiency", "idle_w"] if supplied else []
+    states = [["circuit", *plan.state_names, "switching", *extra, "note"]]
+    for circuit in plan.circuits:
+        cells = []
+        for k, amps in enumerate(circuit.currents_a):
+            power = None if circuit.power_w is None else float(circuit.power_w[k])
+            if power is not None and np.isfinite(power):
+                cells.append(watts_text(power))
+            elif circuit.inverter is not None:
+                cells.append(None)                    # the inverter off
+            else:
+                cells.append(number_cell(amps))
+        inverter = circuit.inverter
+        own = [number_cell(circuit.voltage_v),
+               "via inverter" if inverter is not None else None,
+               None if inverter is None else number_cell(inverter.efficiency),
+               None if inverter is None else number_cell(inverter.idle_w)] if supplied else []
+        states.append([circuit.name, *cells, circuit.switching if circuit.independent else None,
+                       *own, circuit.note or None])
+    return states
 
 
 def plan_rows(plan):
@@ -292,12 +336,7 @@ def plan_rows(plan):
         "note": run.note or None}
         for run in plan.runs for g in [run.geometry]])
     if not own:
-        states = [["circuit", *plan.state_names, "switching", "note"]]
-        for circuit in plan.circuits:
-            states.append([circuit.name, *(number_cell(a) for a in circuit.currents_a),
-                           circuit.switching if circuit.independent else None,
-                           circuit.note or None])
-        rows["states"] = states
+        rows["states"] = _states_rows(plan)
     rows["sensors"] = _table("sensors", [{
         "sensor": s.name, "at": places.at(s.position_m), "kind": s.kind,
         "budget_deg": number_cell(s.budget.value) if s.budget.degrees else None,
@@ -323,6 +362,9 @@ def plan_rows(plan):
     rows["spots"] = _table("spots", [{
         "spot": p.name, "at": places.at(p.position_m), "for_sensor": p.for_sensor,
         "note": spot_notes.get(name_key(p.name))} for p in plan.spots])
+    rows["conditions"] = _table("conditions", [{
+        "state": c.state, "engines": c.engines, "generator": c.generator, "radios": c.radios,
+        "note": c.note or None} for c in plan.conditions])
     rows["volumes"] = _table("volumes", [{
         "volume": v.name, "kind": v.kind, "from": places.at(v.low_m), "to": places.at(v.high_m),
         "for_sensor": v.for_sensor, "note": v.note or None} for v in plan.volumes])

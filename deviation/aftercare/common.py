@@ -23,6 +23,11 @@ CHANGE_FRACTION = 0.25
 #: Change of the deviation card, at any heading, beyond which a new swing is advised [deg]
 #: (common practice, no source).
 SWING_THRESHOLD_DEG = 1.0
+#: Change of the site's horizontal field H, or of the ratio Z/H that sets the induced part of
+#: coefficient B (NGA Pub. 226), beyond which a new site is "a different geographic location with
+#: a major change" (FAA AC 43.13-1B CHG 1, par. 12-37a(8), which gives no figure): a share of the
+#: earlier value (rule of thumb, no published source).
+LOCATION_FIELD_CHANGE = 0.2
 #: A change of reading below this is shown as no visible change [deg] (a tenth of the card's
 #: resolution).
 NO_VISIBLE_CHANGE_DEG = 0.05

@@ -13,7 +13,7 @@ from ..errors import InputError, Problem
 from ..physics import heading
 from ..plan import Plan, frozen_array, name_key
 from ..quantities import Unit
-from .common import SWING_THRESHOLD_DEG
+from .common import LOCATION_FIELD_CHANGE, SWING_THRESHOLD_DEG
 
 
 @dataclass(frozen=True)
@@ -68,6 +68,49 @@ class RefitNote:
         return self.change in SWING_CHANGES
 
 
+class SwingTrigger(str, enum.Enum):
+    """An occasion on which a compass swing must be performed, in FAA AC 43.13-1B CHG 1,
+    par. 12-37a (aircraft)."""
+
+    ELECTRICAL = "electrical system changed"     # (6) whenever a change is made to the
+    #                                              electrical system
+    FERROUS = "ferrous items changed"            # (2) after any cockpit modification or major
+    #                                              replacement involving ferrous metal
+    LOCATION = "large change of location"        # (8) operation changed to a different
+    #                                              geographic location with a major change
+
+
+#: The paragraph of AC 43.13-1B CHG 1, 12-37a, naming each occasion.
+TRIGGER_PARAGRAPHS = {SwingTrigger.ELECTRICAL: "12-37a(6)", SwingTrigger.FERROUS: "12-37a(2)",
+                      SwingTrigger.LOCATION: "12-37a(8)"}
+
+
+@dataclass(frozen=True)
+class TriggerFound:
+    """An occasion for a swing that a refit meets, with what meets it.
+
+    runs, circuits : the runs and circuits that changed (electrical system)
+    items : the magnetised items added, removed, moved or changed (ferrous)
+    horizontal_before_t, horizontal_after_t : [T] the sites' H (location)
+    field_change : the larger relative change of H and of Z/H (location)
+    card_change_deg : [deg] the largest change the new site alone makes to a direction
+        indicator's card of the earlier installation (location)
+    """
+
+    trigger: SwingTrigger
+    runs: tuple[str, ...] = ()
+    circuits: tuple[str, ...] = ()
+    items: tuple[str, ...] = ()
+    horizontal_before_t: float | None = None
+    horizontal_after_t: float | None = None
+    field_change: float | None = None
+    card_change_deg: float | None = None
+
+    @property
+    def paragraph(self) -> str:
+        return TRIGGER_PARAGRAPHS[self.trigger]
+
+
 @dataclass(frozen=True)
 class Refit:
     old_source: str
@@ -75,13 +118,17 @@ class Refit:
     threshold_deg: float
     states: tuple[StateRefit, ...]
     notes: tuple[RefitNote, ...]       # sensors or states only in one version, moved sensors
+    triggers: tuple[TriggerFound, ...] = ()   # occasions for a swing the refit meets
+    profile: str = "general"           # the new plan's: in "aviation" every trigger calls a swing
 
     @property
     def swing_advised(self) -> bool:
-        """A new swing is due: the card of a used state moves beyond the threshold, or a sensor
-        is new or has moved."""
-        return any(s.swing_advised for s in self.states) or any(n.advises_swing
-                                                                  for n in self.notes)
+        """A new swing is due: the card of a used state moves beyond the threshold, a sensor is
+        new or has moved, or (aviation profile) the refit meets an occasion of AC 43.13-1B
+        par. 12-37a."""
+        return any(s.swing_advised for s in self.states) or any(
+            n.advises_swing for n in self.notes) or (self.profile == "aviation"
+                                                     and bool(self.triggers))
 
     def to_frame(self):
         """One row per sensor and state: the held figures before and after (in the budget's
@@ -139,6 +186,78 @@ def _item_differences(old, new):
     if old.states != new.states:
         how.append("states changed")
     return how
+
+
+def _circuit_changed(a, b) -> bool:
+    def watts(c):
+        return None if c.power_w is None else tuple(np.nan_to_num(c.power_w, nan=-1e300))
+
+    return (not _same_array(a.currents_a, b.currents_a) or a.switching != b.switching
+            or watts(a) != watts(b) or a.voltage_v != b.voltage_v or a.inverter != b.inverter)
+
+
+def swing_triggers(old: Plan, new: Plan, before, after,
+                   threshold_deg: float = SWING_THRESHOLD_DEG) -> tuple[TriggerFound, ...]:
+    """The occasions for a compass swing of FAA AC 43.13-1B CHG 1, par. 12-37a, that a refit
+    meets, as values.
+
+    * (6) "whenever a change is made to the electrical system": any run added, removed, moved,
+      re-sized, re-returned or carrying other circuits; any circuit added, removed, or with
+      other currents, loads, voltage or switching, whatever its effect at a sensor;
+    * (2) "after any cockpit modification or major replacement involving ferrous metal": any
+      magnetised item added, removed, moved or changed (the plan does not say where the cockpit
+      ends, so every item counts);
+    * (8) a "different geographic location with a major change": the site's H or Z/H changes by
+      more than LOCATION_FIELD_CHANGE of its earlier value (rule of thumb, no published source),
+      or the new site's field alone moves the card of the earlier installation by more than
+      ``threshold_deg`` at some heading. The deviation of a vessel-fixed field b is
+      atan2(b_E, H + b_N), so at another H it is that of b H'/H at H' (the same angle): the
+      change is :func:`deviation.physics.heading.max_change_deg` of b and b H_new/H_old.
+    """
+    found = []
+    old_runs = {name_key(r.name): r for r in old.runs}
+    new_runs = {name_key(r.name): r for r in new.runs}
+    runs = sorted({(new_runs.get(k) or old_runs[k]).name for k in old_runs.keys() | new_runs.keys()
+                   if k not in old_runs or k not in new_runs
+                   or _run_differences(old_runs[k], new_runs[k])
+                   or tuple(map(name_key, old_runs[k].circuits))
+                   != tuple(map(name_key, new_runs[k].circuits))})
+    old_circuits = {name_key(c.name): c for c in old.circuits}
+    new_circuits = {name_key(c.name): c for c in new.circuits}
+    circuits = sorted({(new_circuits.get(k) or old_circuits[k]).name
+                       for k in old_circuits.keys() | new_circuits.keys()
+                       if k not in old_circuits or k not in new_circuits
+                       or _circuit_changed(old_circuits[k], new_circuits[k])})
+    if runs or circuits:
+        found.append(TriggerFound(SwingTrigger.ELECTRICAL, runs=tuple(runs),
+                                  circuits=tuple(circuits)))
+    old_items = {name_key(e.name): e for e in old.equipment}
+    new_items = {name_key(e.name): e for e in new.equipment}
+    items = sorted({(new_items.get(k) or old_items[k]).name
+                    for k in old_items.keys() | new_items.keys()
+                    if k not in old_items or k not in new_items
+                    or _item_differences(old_items[k], new_items[k])})
+    if items:
+        found.append(TriggerFound(SwingTrigger.FERROUS, items=tuple(items)))
+    h0, h1 = before.site.horizontal_t, after.site.horizontal_t
+    z0, z1 = before.site.vertical_t, after.site.vertical_t
+    change = max(abs(h1 / h0 - 1.0), abs((z1 / h1) / (z0 / h0) - 1.0) if z0 else 0.0)
+    card = 0.0
+    new_sensors = {name_key(s.sensor.name) for s in after.sensors}
+    for result in before.sensors:
+        sensor = result.sensor
+        if name_key(sensor.name) not in new_sensors or not sensor.budget.degrees:
+            continue
+        b_ref = (np.asarray(result.state(sensor.reference_state).field_t)
+                 if sensor.reference_state else np.zeros(3))
+        for st in result.states:
+            seen = np.asarray(st.field_t) - b_ref
+            card = max(card, float(heading.max_change_deg(seen * h1 / h0, seen, h1)))
+    if change > LOCATION_FIELD_CHANGE or card > threshold_deg:
+        found.append(TriggerFound(SwingTrigger.LOCATION, horizontal_before_t=float(h0),
+                                  horizontal_after_t=float(h1), field_change=float(change),
+                                  card_change_deg=card))
+    return tuple(found)
 
 
 def _check_comparable(old: Plan, new: Plan) -> None:
@@ -292,4 +411,5 @@ def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> R
                 float(level[0]), float(level[1]), card,
                 bool(st_new.used and card > threshold_deg), tuple(differences),
                 sensor.budget.unit))
-    return Refit(old.source, new.source, float(threshold_deg), tuple(states), tuple(notes))
+    return Refit(old.source, new.source, float(threshold_deg), tuple(states), tuple(notes),
+                 swing_triggers(old, new, before, after, threshold_deg), new.site.profile)

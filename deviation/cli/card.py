@@ -29,8 +29,9 @@ def _slug(name):
 @main.command()
 @plan_argument
 @click.option("--sensor", "sensor_name", default=None, help="Only this sensor (default: all).")
-@click.option("--step", "step_deg", type=click.Choice(["5", "10", "15", "30", "45"]), default="15",
-              show_default=True, help="Degrees of magnetic heading between rows.")
+@click.option("--step", "step_deg", type=click.Choice(["5", "10", "15", "30", "45"]), default=None,
+              help="Degrees of magnetic heading between rows (default 15; 30 in the aviation "
+                   "profile).")
 @click.option("--plot", "plot_path", type=OutputPath(),
               help="Draw the deviation curves of all states (FILE.png or FILE.svg; with several "
                    "sensors, one file each, named FILE-sensor.png).")
@@ -64,7 +65,7 @@ def card(plan, sensor_name, step_deg, plot_path, sheet_path, paper, as_json, wid
 
         check_report_path(sheet_path, plan)
     result = api.check(the_plan, remedies=False)
-    made = api.deviation_cards(result, sensor_name, float(step_deg))
+    made = api.deviation_cards(result, sensor_name, None if step_deg is None else float(step_deg))
     if plot_path:
         from ..render.plots import card_curves
 
@@ -78,7 +79,8 @@ def card(plan, sensor_name, step_deg, plot_path, sheet_path, paper, as_json, wid
         from ..render.reports import write_report
 
         # An A6 card (turned sideways) holds a row every 45 degrees.
-        posted = made if paper.upper() == "A5" or float(step_deg) >= 45 else \
+        step = made[0].step_deg if made else 0.0
+        posted = made if paper.upper() == "A5" or step >= 45 else \
             api.deviation_cards(result, sensor_name, 45.0)
         postable = postable_document(result, posted, paper.upper())
         if not postable.sections:

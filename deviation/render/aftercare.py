@@ -10,12 +10,13 @@ import numpy as np
 
 from ..aftercare import NO_VISIBLE_CHANGE_DEG
 from ..physics.swing import COEFFICIENTS
+from . import words
 from .words import CAUTIONS
 
 TOLERANCE_NOTE = ("A step differs when the observed change is further from the predicted than the "
                   "larger of {resolution:g}° (the reading resolution of a typical card) and "
-                  "{fraction:.0%} of the predicted change; both are rules of thumb, no published source, "
-                  "and can be set on the command line.")
+                  "{fraction:.0%} of the predicted change; both are rules of thumb, no published "
+                  "source, and can be set on the command line.")
 
 #: What the card does when the reading rises or falls, seen from above (Compass = Magnetic -
 #: Deviation; the card's north follows the needle).
@@ -180,6 +181,19 @@ def refit_json(result):
             "notes": [{"change": n.change.value, "name": n.name,
                        "advises_swing": n.advises_swing, "text": refit_note_text(n)}
                       for n in result.notes],
+            "profile": result.profile,
+            "triggers": [{"trigger": t.trigger.value, "paragraph": t.paragraph,
+                          "runs": list(t.runs), "circuits": list(t.circuits),
+                          "items": list(t.items),
+                          "horizontal_before_ut": None if t.horizontal_before_t is None
+                          else round(t.horizontal_before_t * 1e6, 4),
+                          "horizontal_after_ut": None if t.horizontal_after_t is None
+                          else round(t.horizontal_after_t * 1e6, 4),
+                          "field_change": None if t.field_change is None
+                          else round(t.field_change, 4),
+                          "card_change_deg": None if t.card_change_deg is None
+                          else round(t.card_change_deg, 4),
+                          "text": words.trigger_text(t)} for t in result.triggers],
             "states": [{"sensor": st.sensor, "state": st.state, "used": st.used,
                         "held_before": round(st.held_before, 4),
                         "held_after": round(st.held_after, 4),

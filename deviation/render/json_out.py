@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 
+from ..constants import AVIATION_LIMIT_DEG
 from . import view, words
 from .words import CAUTIONS
 
@@ -126,6 +127,25 @@ def finding_json(finding):
             "message": words.finding_message(finding), "source": words.finding_source(finding)}
 
 
+def _number_or_null(value):
+    return None if value is None or not math.isfinite(value) else round(float(value), 6)
+
+
+def loads_json(plan):
+    """Every circuit's load per state: the watts as given (null where given in A or blank) and
+    the DC current the budget counts, with its voltage and supply."""
+    return [{
+        "circuit": c.name, "voltage_v": c.voltage_v,
+        "supply": "via inverter" if c.inverter is not None else "DC",
+        "efficiency": c.efficiency if c.inverter is not None else None,
+        "idle_w": _number_or_null(c.idle_w) if c.inverter is not None else None,
+        "states": [{"state": state,
+                    "power_w": None if c.power_w is None else _number_or_null(c.power_w[k]),
+                    "current_a": round(float(c.currents_a[k]), 6)}
+                   for k, state in enumerate(plan.state_names)]}
+        for c in plan.circuits]
+
+
 def analysis_json(analysis):
     """The whole result as a JSON-ready dict."""
     plan = analysis.plan
@@ -154,6 +174,9 @@ def analysis_json(analysis):
             "states": [state_json(s.sensor, st, plan.site.units, plan.source) for st in s.states],
             "fix_set": fix_set_json(s.fixes, plan.site.units),
         } for s in analysis.sensors],
+        "loads": loads_json(plan),
+        "profile": plan.site.profile,
+        "aviation": aviation_json(analysis),
         "findings": [finding_json(f) for f in analysis.findings],
         "skipped_examples": [{"sheet": sheet, "row": row}
                              for sheet, row in plan.skipped_examples],
@@ -201,6 +224,40 @@ def cards_json(cards):
                                               if st.compass_deg is not None else None),
                               "unadjusted_deviation_deg": None if st.unadjusted_deg is None
                               else _deg(st.unadjusted_deg[i])}
-                             for i, psi in enumerate(st.headings_deg)]}
-                for st in c.states]})
+                             for i, psi in enumerate(st.headings_deg)],
+                "condition": condition_json(st.condition), "limit": limit_json(st.limit)}
+                for st in c.states],
+            "profile": c.profile, "step_deg": c.step_deg,
+            "placard": [words.placard_text(line) for line in c.placard]})
     return {"sensors": out, "cautions": list(CAUTIONS)}
+
+
+def condition_json(condition):
+    """What a state stands for on a placard, or null."""
+    if condition is None:
+        return None
+    return {"engines": condition.engines, "generator": condition.generator,
+            "radios": condition.radios}
+
+
+def limit_json(limit):
+    """A state against the aviation profile's 10 degree limit, or null outside it."""
+    if limit is None:
+        return None
+    return {"level_deg": _held(limit.level_deg), "limit_deg": limit.limit_deg,
+            "within": limit.within,
+            "switched_on": [{"circuit": name, "sign": sign} for name, sign in limit.switched_on]}
+
+
+def aviation_json(analysis):
+    """The aviation profile's verdicts (null outside it): every direction indicator in every
+    state against 10 degrees on any heading, level."""
+    from ..card import aviation_verdicts, within_aviation_limit
+
+    if not analysis.plan.site.aviation:
+        return None
+    return {"limit_deg": AVIATION_LIMIT_DEG, "source": words.LIMIT_SOURCE,
+            "within_limit": within_aviation_limit(analysis),
+            "states": [{"sensor": v.sensor, "state": v.state, "used": v.used,
+                        "condition": condition_json(v.condition), **limit_json(v.limit)}
+                       for v in aviation_verdicts(analysis)]}

@@ -270,3 +270,99 @@ def site_line(site):
     source = "WMM2025" if site.source == "WMM2025" else "from the plan"
     parts.append(f"{source}, {site.date_text}")
     return "  ".join(parts)
+
+
+# The aviation profile ---------------------------------------------------------------------------
+
+#: Where the 10 degree limit and the placard's content come from, as the reports cite them.
+LIMIT_SOURCE = ("14 CFR 23.1327(a)(2) (Amdt. 23-20, before amendment 23-64) and 25.1327(b): the "
+                "compensated installation may not have a deviation, in level flight, greater than "
+                "10° on any heading")
+PLACARD_SOURCE = ("14 CFR 25.1547: a placard on or near the magnetic direction indicator shows "
+                  "its calibration in level flight with the engines operating, states whether it "
+                  "was made with radio receivers on or off, in not more than 45° increments of "
+                  "magnetic heading")
+OVER_LIMIT_SOURCE = ("14 CFR 27.1547(e) (and 23.1547(e), to which 23.1327(b) refers): the "
+                     "placard states which electrical loads would cause a deviation of more than "
+                     "10° when turned on")
+PLACARD_CAUTION = ("Predicted, for planning: the placard is made from the compass swing, by the "
+                   "person who adjusts the compass.")
+
+_ENGINES = {"running": "engines running", "stopped": "engines stopped"}
+_GENERATOR = {"charging": "generator charging", "not charging": "generator not charging"}
+_RADIOS = {"on": "radio receivers on", "off": "radio receivers off"}
+
+
+def condition_words(condition) -> str | None:
+    """What a state stands for, in the placard's words: "engines running, generator charging,
+    radio receivers on"; None where the plan says nothing of it."""
+    if condition is None:
+        return None
+    parts = [table[value] for table, value in ((_ENGINES, condition.engines),
+                                              (_GENERATOR, condition.generator),
+                                              (_RADIOS, condition.radios)) if value is not None]
+    return ", ".join(parts) or None
+
+
+def _switched(switched_on) -> str:
+    names = [name + (" (reversed)" if sign < 0 else "") for name, sign in switched_on]
+    return f" with {', '.join(names)} on" if names else ""
+
+
+def limit_text(limit) -> str:
+    """A state's level figure against the 10 degree limit, in words."""
+    level = with_degree_sign(limit.level_deg)
+    if limit.within:
+        return f"{level} in level flight on the worst heading: within {limit.limit_deg:g}°"
+    return (f"{level} in level flight on the worst heading{_switched(limit.switched_on)}: OVER "
+            f"{limit.limit_deg:g}°")
+
+
+def placard_text(line) -> str:
+    """A state's line of the placard: the conditions and the step, and the loads to name where
+    the state is over the limit."""
+    conditions = condition_words(line.condition)
+    radios = "" if line.radios_stated else (
+        "; radio receivers on or off: not stated in the plan (give the state a row in the "
+        "conditions sheet)")
+    text = (f"{line.state}: calibration in level flight"
+            + (f", {conditions}" if conditions else "") + radios
+            + f"; readings every {line.step_deg:g}° of magnetic heading")
+    if line.limit is not None and not line.limit.within:
+        text += (f"; more than {line.limit.limit_deg:g}° when on: {line.state}"
+                 f"{_switched(line.limit.switched_on)}")
+    return text + "."
+
+
+#: The occasions for a swing in FAA AC 43.13-1B CHG 1, par. 12-37a, in its words, by trigger
+#: value (aftercare.refit.SwingTrigger).
+TRIGGER_WORDS = {
+    "electrical system changed": "whenever a change is made to the electrical system",
+    "ferrous items changed": "after any cockpit modification or major replacement involving "
+                             "ferrous metal",
+    "large change of location": "when an aircraft operation is changed to a different "
+                                "geographic location with a major change in magnetic deviation",
+}
+
+
+def _names(label, names, most=6):
+    if not names:
+        return ""
+    shown = ", ".join(names[:most]) + (f" and {len(names) - most} more" if len(names) > most
+                                       else "")
+    return f"{label} {shown}"
+
+
+def trigger_text(found) -> str:
+    """An occasion for a swing a refit meets: AC 43.13-1B's words, and what meets it."""
+    head = (f"FAA AC 43.13-1B CHG 1 par. {found.paragraph}: a compass swing must be performed "
+            f"{TRIGGER_WORDS[found.trigger.value]}")
+    if found.trigger.value == "large change of location":
+        what = (f"H {found.horizontal_before_t * 1e6:.2f} → {found.horizontal_after_t * 1e6:.2f} "
+                f"µT ({found.field_change * 100:.0f} % change of H or Z/H); the new field alone "
+                f"moves the earlier card by up to {with_degree_sign(found.card_change_deg)}")
+    else:
+        what = "; ".join(part for part in (_names("runs", list(found.runs)),
+                                           _names("circuits", list(found.circuits)),
+                                           _names("items", list(found.items))) if part)
+    return f"{head} — {what}."

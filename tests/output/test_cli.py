@@ -111,7 +111,7 @@ def test_new_template_has_comments_and_drop_downs(tmp_path):
     run("new", path, "--units", "ft")
     book = openpyxl.load_workbook(path)
     assert book.sheetnames == ["site", "points", "runs", "states", "sensors", "equipment", "spots",
-                               "volumes"]
+                               "volumes", "conditions"]
     runs = book["runs"]
     assert [c.value for c in runs[1]][:4] == ["run", "circuits", "route", "return"]
     assert all(c.comment is not None for c in runs[1])

@@ -32,6 +32,28 @@ def total_field_only(folder):
                     ["stinger", "0, 0, 0", "total-field magnetometer", 5, "survey"]]})
 
 
+def aircraft_in_watts(folder):
+    """The aviation profile with loads in watts: a compass over a feed drawn through an
+    inverter, the states' conditions stated, one state over 10° though within the budget."""
+    return write_plan(folder, {
+        "site": [["setting", "value"], ["horizontal_field_ut", 20], ["vertical_field_ut", 40],
+                 ["profile", "aviation"]],
+        "runs": [["run", "circuits", "route", "return"],
+                 ["galley feed", "galley", "-3, 0, -0.5 > 3, 0, -0.5", "none"],
+                 ["avionics", "avionics", "-2, 0.4, -0.3 > 2, 0.4, -0.3", "none"]],
+        "states": [["circuit", "radios on", "radios off", "voltage", "supply", "efficiency"],
+                   ["galley", "250 W", "", 28, "via inverter", "0.9"],
+                   ["avionics", "84 W", "", "28 V", "", ""]],
+        "conditions": [["state", "engines", "generator", "radios"],
+                       ["radios on", "running", "charging", "on"],
+                       ["radios off", "running", "charging", "off"]],
+        "sensors": [["sensor", "at", "kind", "budget_deg"],
+                    ["wet compass", "0, 0, 0", "magnetic compass", 15]]})
+
+
+PLANS = {"total-field only": total_field_only, "aircraft in watts": aircraft_in_watts}
+
+
 def expected_text(held, unit, used, status):
     if status == "overwhelmed":
         text = "overwhelmed"
@@ -130,10 +152,16 @@ def from_frame(result):
     return out
 
 
-@pytest.mark.parametrize("name", SAMPLE_NAMES + ["total-field only"])
+def exit_status(data):
+    """0 within every budget and, in the aviation profile, every direction indicator within
+    10° (14 CFR 23.1327); else 1."""
+    aviation = data["aviation"]
+    return 0 if data["within_budget"] and (aviation is None or aviation["within_limit"]) else 1
+
+
+@pytest.mark.parametrize("name", SAMPLE_NAMES + list(PLANS))
 def test_the_summary_is_the_same_in_every_output(name, tmp_path):
-    plan_path = (total_field_only(tmp_path / "plan") if name == "total-field only"
-                 else SAMPLES / name)
+    plan_path = PLANS[name](tmp_path / "plan") if name in PLANS else SAMPLES / name
     plan = deviation.read_plan(plan_path)
     n_states = len(plan.state_names)
     result = deviation.check(plan)
@@ -141,7 +169,7 @@ def test_the_summary_is_the_same_in_every_output(name, tmp_path):
     truth = from_json(data)
     assert set(truth) == {s.name for s in plan.sensors}
     terminal = run_cli("check", plan_path, "--width", 200)
-    assert terminal.exit_code == (0 if data["within_budget"] else 1)
+    assert terminal.exit_code == exit_status(data)
     assert from_terminal(terminal.output, n_states) == truth
     detail = run_cli("check", plan_path, "--width", 200, "--detail")
     assert from_terminal(detail.output, n_states) == truth
@@ -157,6 +185,55 @@ def test_the_summary_is_the_same_in_every_output(name, tmp_path):
             assert "180" not in truth[sensor.name][0]
             flat = terminal.output + detail.output
             assert not re.search(re.escape(sensor.name) + r"[^\n]*\b180(\.0+)?°", flat)
+
+
+def _html_table(page, header):
+    parser = _Tables()
+    parser.feed(page)
+    return next(t for t in parser.tables if t and t[0][:len(header)] == header)[1:]
+
+
+def _terminal_rows(text, first):
+    rows = []
+    for line in text.splitlines():
+        cells = [c.strip() for c in line.strip().strip("|").split("|")]
+        if len(cells) > 2 and cells[0] == first:
+            rows.append(cells)
+    return rows
+
+
+def test_the_aviation_verdicts_and_the_loads_read_the_same_in_every_output(tmp_path):
+    plan_path = aircraft_in_watts(tmp_path / "plan")
+    data = json.loads(run_cli("check", plan_path, "--json").output)
+    # The truth: JSON's level figures against 10° and its load list (W as given, A worked out:
+    # 250 W / (28 V x 0.9) + the PVWatts idle draw / 28 V; 84 W / 28 V = 3 A).
+    aviation = [(v["state"], f"{v['level_deg']:.2f}°",
+                 "within" if v["within"] else "OVER") for v in data["aviation"]["states"]]
+    assert [a[2] for a in aviation] == ["OVER", "within"]
+    loads = {c["circuit"]: [s["current_a"] for s in c["states"]] for c in data["loads"]}
+    assert loads["avionics"] == [3.0, 0.0]
+    terminal = run_cli("check", plan_path, "--width", 200)
+    assert terminal.exit_code == 1 and data["within_budget"]
+    shown = [(r[1], r[3], r[5]) for r in _terminal_rows(terminal.output, "wet compass")
+             if len(r) == 6]
+    assert shown == aviation
+    assert run_cli("check", plan_path, "--report", tmp_path / "r.html").exit_code == 1
+    assert run_cli("check", plan_path, "--report", tmp_path / "r.xlsx").exit_code == 1
+    page = (tmp_path / "r.html").read_text(encoding="utf-8")
+    rows = _html_table(page, ["sensor", "state", "conditions"])
+    assert [(r[1], r[3], r[5]) for r in rows] == aviation
+    book = openpyxl.load_workbook(tmp_path / "r.xlsx")
+    sheet_rows = [[_shown(c.value, c.number_format) for c in row]
+                  for row in book["aviation"].iter_rows() if row[0].value == "wet compass"]
+    assert [(r[1], r[3], r[5]) for r in sheet_rows] == aviation
+    # W and A side by side, the same figures on paper as in the JSON.
+    html_loads = {r[0]: r for r in _html_table(page, ["circuit", "V", "supply"])}
+    assert html_loads["avionics"][3:5] == ["84.0", "3.0"]
+    assert html_loads["galley"][3] == "250"
+    assert float(html_loads["galley"][4]) == pytest.approx(loads["galley"][0], abs=0.05)
+    xlsx_loads = {row[0].value: [_shown(c.value, c.number_format) for c in row[:5]]
+                  for row in book["loads"].iter_rows() if row[0].value in loads}
+    assert xlsx_loads["avionics"][3:5] == ["84.0", "3.0"]
 
 
 def test_the_total_field_only_plan_is_judged_in_nt(tmp_path):

@@ -76,8 +76,9 @@ def test_a_template_with_its_examples_left_in_checks_only_the_real_rows_and_says
     plan = read_plan(path)
     # Rows of write_template: the examples sit right under each header.
     assert plan.skipped_examples == (("points", 2), ("points", 3), ("runs", 2), ("states", 2),
-                                     ("states", 3), ("sensors", 2), ("equipment", 2),
-                                     ("spots", 2), ("volumes", 2))
+                                     ("states", 3), ("states", 4), ("sensors", 2),
+                                     ("equipment", 2), ("spots", 2), ("volumes", 2),
+                                     ("conditions", 2))
     assert [r.name for r in plan.runs] == ["feed"] and [s.name for s in plan.sensors] == [
         "compass"]
     assert [c.name for c in plan.circuits] == ["feed"] and not plan.points and not plan.equipment
@@ -88,15 +89,16 @@ def test_a_template_with_its_examples_left_in_checks_only_the_real_rows_and_says
     assert held == pytest.approx(math.degrees(math.asin(4.0 / 20.0)), rel=1e-4)
     result = run("check", path, "--width", 160)
     assert result.exit_code == 1, result.output
-    assert ("The plan still has 9 example rows from the template (points row 2, points row 3, "
-            "runs row 2, states row 2, states row 3, sensors row 2, equipment row 2, spots row 2, "
-            "volumes row 2); they were not counted — delete them.") in flat(result.output)
+    assert ("The plan still has 11 example rows from the template (points row 2, points row 3, "
+            "runs row 2, states row 2, states row 3, states row 4, sensors row 2, equipment row 2, "
+            "spots row 2, volumes row 2, conditions row 2); they were not counted — delete "
+            "them.") in flat(result.output)
 
 
 def test_the_reports_carry_the_example_rows_line(tmp_path):
     path = tmp_path / "plan.xlsx"
     _fill_left_in_template(path)
-    line = "The plan still has 9 example rows from the template (points row 2,"
+    line = "The plan still has 11 example rows from the template (points row 2,"
     assert run("check", path, "--report", tmp_path / "r.html").exit_code == 1
     assert line in html.unescape((tmp_path / "r.html").read_text())
     assert run("check", path, "--report", tmp_path / "r.xlsx").exit_code == 1

@@ -379,6 +379,14 @@ def refit_document(result) -> Document:
         "of thumb, no published source).")]
     if result.notes:
         blocks.append(Bullets(tuple(refit_note_text(n) for n in result.notes), Tone.WARN))
+    if result.triggers:
+        aviation = result.profile == "aviation"
+        blocks.append(Paragraph(
+            "Occasions for a swing the refit meets (FAA AC 43.13-1B CHG 1, par. 12-37a"
+            + ("): each calls a new swing." if aviation else
+               ", for aircraft; in this plan's profile the card change decides):")))
+        blocks.append(Bullets(tuple(words.trigger_text(t) for t in result.triggers),
+                              Tone.WARN if aviation else Tone.PLAIN))
     blocks.append(Table(columns, tuple(rows)))
     causes = []
     for st in result.states:

@@ -7,7 +7,19 @@ import math
 
 from ...quantities import Unit
 from .. import words
-from ..model import TONE_OF, Cell, Chart, Column, Document, Paragraph, Section, Table, Tone, cell
+from ..model import (
+    TONE_OF,
+    Bullets,
+    Cell,
+    Chart,
+    Column,
+    Document,
+    Paragraph,
+    Section,
+    Table,
+    Tone,
+    cell,
+)
 from .common import figure, microtesla, paper_for, stamp
 
 
@@ -68,12 +80,32 @@ def card_blocks(card):
             if st.unadjusted_deg is not None:
                 row.append(east_west(float(st.unadjusted_deg[i])))
             rows.append(tuple(row))
-        title = st.state + ("" if st.status.value != "not used" else
-                            " (the sensor is not relied on in this state)")
+        conditions = words.condition_words(st.condition)
+        title = (st.state + (f" — {conditions}" if conditions else "")
+                 + ("" if st.status.value != "not used" else
+                    " (the sensor is not relied on in this state)"))
         blocks.append(Table(tuple(columns), tuple(rows), title, TONE_OF[st.status]))
         blocks.append(_held_line(card, st))
+        if st.limit is not None:
+            blocks.append(Paragraph(f"{words.limit_text(st.limit)} ({words.LIMIT_SOURCE}).",
+                                    Tone.GOOD if st.limit.within else Tone.BAD))
+    if card.placard:
+        blocks += placard_blocks(card)
     blocks.append(Chart(f"{'total-field error' if scalar else 'deviation'} curves of "
                         f"{card.sensor.name}", lambda fmt: plots.card_curves(card, fmt=fmt)))
+    return blocks
+
+
+def placard_blocks(card):
+    """The placard's lines (aviation profile), with where each requirement comes from."""
+    lines = card.placard
+    stated = all(line.radios_stated for line in lines)
+    blocks = [Paragraph(f"Placard lines for {card.sensor.name} ({words.PLACARD_SOURCE}):",
+                        Tone.STRONG),
+              Bullets(tuple(words.placard_text(line) for line in lines))]
+    if any(line.limit is not None and not line.limit.within for line in lines):
+        blocks.append(Paragraph(f"Over the limit: {words.OVER_LIMIT_SOURCE}.", Tone.BAD))
+    blocks.append(Paragraph(words.PLACARD_CAUTION, Tone.PLAIN if stated else Tone.WARN))
     return blocks
 
 
@@ -133,7 +165,8 @@ def postable_section(card, plan) -> Section:
     E/W to ½° and the compass course to steer for each state it is relied on in, lines for the
     vessel, compass, date and adjuster, and each state's held figure under it."""
     states = [st for st in card.states if st.status.value != "not used"] or list(card.states)
-    columns = [Column("ship's head magnetic", numeric=True)]
+    columns = [Column("magnetic heading" if card.aviation else "ship's head magnetic",
+                      numeric=True)]
     for st in states:
         columns += [Column(f"{_state_words(st.state)}: deviation", numeric=True),
                     Column(f"{_state_words(st.state)}: steer", numeric=True)]
@@ -165,8 +198,11 @@ def postable_section(card, plan) -> Section:
                     f"held: the figure held against the {sensor.budget} budget; ± unknown: what "
                     f"parts of unknown direction may add.{adjusted} Replace with the adjuster's "
                     "card once swung.", Tone.MUTED)
-    return Section(f"{sensor.name}", (particulars, Table(tuple(columns), tuple(rows)), how),
-                   new_page=True)
+    placard = ((Bullets(tuple(words.placard_text(line) for line in card.placard
+                              if line.state in {st.state for st in states})),)
+               if card.placard else ())
+    return Section(f"{sensor.name}", (particulars, Table(tuple(columns), tuple(rows)),
+                                      *placard, how), new_page=True)
 
 
 def postable_document(analysis, cards, paper="A5") -> Document:

@@ -429,11 +429,12 @@ def _site_section(site):
     return Section("Site", (table,), screen=False, sheet="site")
 
 
-def check_document(analysis, *, all_runs=False, digest=None) -> Document:
+def check_document(analysis, *, all_runs=False, digest=None, voltage_v=None) -> Document:
     """The check of a plan as one document (see :mod:`deviation.render.model`).
 
     ``digest``: the plan file's SHA-256 for the first page (default: worked out from the plan's
-    source where it is a file or folder).
+    source where it is a file or folder). ``voltage_v``: the plan is the what-if of its loads in
+    watts at that DC voltage [V].
     """
     from ...card import cards
     from ...files import plan_digest
@@ -447,7 +448,7 @@ def check_document(analysis, *, all_runs=False, digest=None) -> Document:
     summary = _summary_section(analysis, rows)
     sections = [_owner_section(analysis, rows, digest),
                 Section(summary.title, summary.blocks, sheet=summary.sheet, new_page=True)]
-    for result, one_card in zip(analysis.sensors, cards(analysis, 15.0)):
+    for result, one_card in zip(analysis.sensors, cards(analysis)):
         sensor = result.sensor
         tone = TONE_OF[result.status]
         blocks = (*_short_blocks(result, analysis, lengths),
@@ -461,6 +462,12 @@ def check_document(analysis, *, all_runs=False, digest=None) -> Document:
                                     tuple(_state_blocks(sensor, st, analysis, lengths, all_runs)),
                                     tone=TONE_OF[st.status], level=3, detail=True))
         sections.append(_card_section(one_card))
+    loads = loads_section(plan)
+    if loads is not None:
+        sections.insert(2, loads)                 # after the owner's page and the summary
+    aviation = aviation_section(analysis)
+    if aviation is not None:
+        sections.insert(2, aviation)
     sections.append(_site_section(analysis.site))
     per_ampere = _per_ampere_section(analysis)
     if per_ampere is not None:
@@ -474,9 +481,102 @@ def check_document(analysis, *, all_runs=False, digest=None) -> Document:
         sections.append(checklist)
     sections.append(glossary_section())
     meta = _meta(analysis) + ((f"plan SHA-256 {digest}",) if digest else ())
+    if voltage_v is not None:
+        meta += (f"what-if: every load given in watts drawn at {voltage_v:g} V, not at the "
+                 "plan's own voltages",)
     return Document("check", "Deviation budget", meta, tuple(sections),
-                    words.CAUTIONS, _warnings(analysis), _recap(rows), analysis_json(analysis),
+                    words.CAUTIONS, _warnings(analysis), _recap(rows) + _aviation_recap(analysis),
+                    analysis_json(analysis),
                     stamp(), paper=paper_for(plan))
+
+
+def aviation_section(analysis):
+    """The aviation profile's verdict: every direction indicator in every state against 10° on
+    any heading in level flight, beside (not instead of) its own budget."""
+    from ...card import aviation_verdicts
+
+    verdicts = aviation_verdicts(analysis)
+    if not verdicts:
+        return None
+    columns = (Column("sensor", wrap=True), Column("state", wrap=True),
+               Column("conditions", wrap=True), Column("level, worst heading", numeric=True),
+               Column("limit", numeric=True), Column("verdict"))
+    rows = []
+    for v in verdicts:
+        tone = (Tone.MUTED if not v.used else Tone.GOOD if v.limit.within else Tone.BAD)
+        verdict = ("not relied on" if not v.used else "within" if v.limit.within else "OVER")
+        rows.append((cell(v.sensor), cell(v.state),
+                     cell(words.condition_words(v.condition) or "not stated"),
+                     figure(v.limit.level_deg, Unit.DEGREES, tone=tone),
+                     cell(v.limit.limit_deg, 0, suffix="°"), Cell(verdict, verdict, None, tone)))
+    notes = (f"{words.LIMIT_SOURCE}. The compensated installation: the residual after "
+             "adjustment where the sensor is adjusted in a reference state, else the absolute "
+             "deviation; with the worst switching of the independent loads and every part of "
+             "unknown direction.",)
+    return Section("Aviation: 10° on any heading, level",
+                   (Table(columns, tuple(rows), "Direction indicators against 10°", notes=notes),),
+                   sheet="aviation")
+
+
+def _aviation_recap(analysis):
+    from ...card import aviation_verdicts
+
+    over = [v for v in aviation_verdicts(analysis) if v.used and not v.limit.within]
+    if not aviation_verdicts(analysis):
+        return ()
+    if not over:
+        return (Paragraph("Aviation: every direction indicator within 10° on any heading in "
+                          "level flight.", Tone.GOOD),)
+    return (Paragraph("Aviation: over 10° in level flight — " + "; ".join(
+        f"{v.sensor} in {v.state} ({words.with_degree_sign(v.limit.level_deg)})" for v in over)
+        + ".", Tone.BAD),)
+
+
+def _watts(value_w) -> Cell:
+    """A power in W: whole watts from 100 W up, one decimal below."""
+    return cell(value_w, 0 if abs(value_w) >= 100 or value_w == 0 else 1)
+
+
+def loads_section(plan):
+    """The load list, W and A side by side per state, where the plan gives any circuit a voltage
+    or a load in watts: the watts as given (or V × I for a current with a voltage) and the DC
+    current the budget counts."""
+    shown = [c for c in plan.circuits if c.voltage_v is not None or c.in_watts]
+    if not shown:
+        return None
+    columns = [Column("circuit", wrap=True), Column("V", numeric=True), Column("supply")]
+    for state in plan.state_names:
+        columns += [Column(f"{state} W", numeric=True), Column(f"{state} A", numeric=True)]
+    rows = []
+    for c in shown:
+        row = [cell(c.name), cell(c.voltage_v, 0 if float(c.voltage_v).is_integer() else 1),
+               cell("via inverter" if c.inverter else "DC")]
+        for k, amps in enumerate(c.currents_a):
+            given = c.power_w is not None and np.isfinite(c.power_w[k])
+            if given:
+                power = _watts(float(c.power_w[k]))
+            elif c.inverter is None and amps:
+                power = _watts(c.voltage_v * float(amps))
+                power = Cell(power.text, power.value, power.digits, Tone.MUTED)
+            else:
+                power = cell(None)
+            row += [power, amperes(float(amps)) if amps or given else cell(None)]
+        rows.append(tuple(row))
+    notes = ["W as the plan gives it; in grey, V × A for a current given in amperes. A is the "
+             "DC current the budget counts."]
+    for c in shown:
+        if c.inverter is not None:
+            efficiency = (f"{c.efficiency:g}" + (" (default: rule of thumb, no published source; "
+                                                 "below NREL's PVWatts curve)"
+                                                 if c.inverter.efficiency is None else ""))
+            idle = (f"{c.idle_w:.1f} W" + (" (default: the PVWatts curve's draw at no output, "
+                                           "0.62 % of the largest load)"
+                                           if c.inverter.idle_w is None else ""))
+            notes.append(f"{c.name}: via inverter, A = W / (V × efficiency) + idle / V with "
+                         f"efficiency {efficiency} and idle draw {idle}, counted wherever a "
+                         "power is given (blank: the inverter off).")
+    return Section("Loads", (Table(tuple(columns), tuple(rows), "Loads in W and A",
+                                   notes=tuple(notes)),), sheet="loads")
 
 
 def _per_ampere_section(analysis):
