@@ -367,7 +367,11 @@ def turn_cover(samples, tau, strip, harmonics, circle=True):
     trial = size[..., 1:].sum(axis=-1) > CIRCLE_TRIAL_SHARE * size[..., 0]
     if not trial.any():
         return centre, generators, bound, remainder, size.sum(axis=-1)
-    shift, octagon, apart = _circle_cover(u[trial], w[trial], size[trial])
+    u_t, w_t, size_t = u[trial], w[trial], size[trial]
+    pieces = [_circle_cover(u_t[i:i + _CURVES_PER_BLOCK], w_t[i:i + _CURVES_PER_BLOCK],
+                            size_t[i:i + _CURVES_PER_BLOCK])
+              for i in range(0, len(u_t), _CURVES_PER_BLOCK)]
+    shift, octagon, apart = (np.concatenate(piece) for piece in zip(*pieces))
     # Keep whichever is smaller on average over directions (the mean half-width of a
     # segment [-g, g] is |g|/2, of a ball its radius).
     width = np.linalg.norm(generators[trial], axis=-1).sum(axis=-1) / 2 + bound[trial]
@@ -386,6 +390,8 @@ def turn_cover(samples, tau, strip, harmonics, circle=True):
 #: Higher harmonics, as a share of the first, above which :func:`turn_cover` also tries the
 #: circle cover.
 CIRCLE_TRIAL_SHARE = 0.005
+#: Curves whose circle cover is found at once (each is evaluated at its J points).
+_CURVES_PER_BLOCK = 4096
 #: Points per period at which the sampled series is evaluated for the circle cover, per sample.
 _CIRCLE_POINTS_PER_SAMPLE = 4
 
@@ -455,6 +461,11 @@ def _known_lie(samples):
             np.zeros(samples.shape[:-2]))
 
 
+#: Points whose turning parts are covered at once (the samples of every part at every turn are
+#: held for them together).
+_POINTS_PER_BLOCK = 2048
+
+
 def _turned_part_covers(turning, points, harmonics, *, refine=True, circle=True):
     """Cover of each part of unknown turn at each point: centre (P, n, 3), generators
     (P, n, 4M, 3), bound (P, n), the field at turn 0 (P, n, 3), and within reach (P, n) bool.
@@ -463,6 +474,11 @@ def _turned_part_covers(turning, points, harmonics, *, refine=True, circle=True)
     where the certified remainder exceeds TURN_REMAINDER_SHARE of the part's spread; ``circle``
     as for :func:`turn_cover`.
     """
+    if len(points) > _POINTS_PER_BLOCK:          # bounded memory: each point stands alone
+        blocks = [_turned_part_covers(turning, points[p0:p0 + _POINTS_PER_BLOCK], harmonics,
+                                      refine=refine, circle=circle)
+                  for p0 in range(0, len(points), _POINTS_PER_BLOCK)]
+        return tuple(np.concatenate(pieces) for pieces in zip(*blocks))
     n_p, n = len(points), turning.n_parts
     centre = np.zeros((n_p, n, 3))
     generators = np.zeros((n_p, n, 4 * harmonics, 3))
