@@ -23,7 +23,14 @@ from dataclasses import dataclass
 import numpy as np
 
 from .axes import NAMED_AXES, AxesError, parse_axes  # noqa: F401  (re-exported)
-from .budget import asin_deg, equipment_fields, sensor_field_parts
+from .budget import (
+    MAX_EXACT_GENERATORS_ATTITUDE,
+    MAX_EXACT_GENERATORS_LEVEL,
+    _held,
+    asin_deg,
+    equipment_fields,
+    sensor_field_parts,
+)
 from .constants import (
     MAX_SWITCHINGS_ENUMERATED,
     MODEL_FIELD_TOLERANCE_T,
@@ -60,7 +67,7 @@ class PerAmpere:
     and the sensor's axes: the part of known direction (a pair whose lie is not fixed counts at
     the centre of its lies). ``unknown_t_per_a`` [T/A] is the size of the part of unknown
     direction: a pair's spread over the lies the plan leaves open (for a pair its field per
-    ampere is the centre plus or minus up to this), a twisted run's floor.
+    ampere is the centre plus or minus up to this), a twisted run's ends and floor.
     ``peak_current_a`` is the largest |current| the plan gives it.
     For a total-field magnetometer ``total_field_per_a`` is (smallest, largest) change of the
     reading per ampere over headings and attitudes [T/A], else None.
@@ -175,6 +182,40 @@ def _used_states(plan, sensor):
     return used or list(range(len(plan.state_names)))
 
 
+def _fit(plan, sensor, measured, circuit_values, oriented):
+    """The host's least-squares fit of D columns at once: solution (J, D), offset (D,) and what
+    is left of each circuit per ampere (C, D). Linear in ``circuit_values`` (C, D) and
+    ``oriented`` (K, D): each column is fitted alone with the same design."""
+    channels = measured_matrix(plan, measured)                              # (J, C)
+    currents = plan.circuit_currents_a                                      # (C, K)
+    independent = plan.independent
+    reversing = np.array([c.reversing for c in plan.circuits if c.independent], dtype=bool)
+    switchings, exhaustive = _fit_switchings(reversing)
+    base = currents * ~independent[:, None]                                 # (C, K)
+    samples_i, samples_b = [], []
+    for k in _used_states(plan, sensor):
+        for choice in switchings:
+            current = base[:, k].copy()
+            current[independent] += choice * currents[independent, k]
+            samples_i.append(current)
+            samples_b.append(circuit_values.T @ current + oriented[k])
+    amps = np.array(samples_i)                                              # (S, C)
+    values = np.array(samples_b)                                            # (S, D)
+    m = amps @ channels.T                                                   # (S, J)
+    if sensor.reference_state is not None:
+        k_ref = plan.state_index(sensor.reference_state)
+        m_ref = channels @ base[:, k_ref]
+        b_ref = circuit_values.T @ base[:, k_ref] + oriented[k_ref]
+        solution = np.linalg.lstsq(m - m_ref, values - b_ref, rcond=None)[0]      # (J, D)
+        offset = np.zeros(values.shape[1])
+    else:
+        design = np.hstack([m, np.ones((len(m), 1))])
+        both = np.linalg.lstsq(design, values, rcond=None)[0]
+        solution, offset = both[:-1], both[-1]
+    residual = circuit_values - channels.T @ solution                       # (C, D)
+    return solution, offset, residual, len(amps), exhaustive
+
+
 def fit_compensation(plan, sensor, unit_fields_t, oriented_t=None) -> Compensation:
     """Fit the linear current compensation the sensor's host would learn.
 
@@ -209,36 +250,57 @@ def fit_compensation(plan, sensor, unit_fields_t, oriented_t=None) -> Compensati
     """
     fields = circuit_fields_t(plan, unit_fields_t)                          # (C, 3)
     measured = tuple(sensor.measured_currents)
-    channels = measured_matrix(plan, measured)                              # (J, C)
-    currents = plan.circuit_currents_a                                      # (C, K)
-    independent = plan.independent
-    reversing = np.array([c.reversing for c in plan.circuits if c.independent], dtype=bool)
     oriented = np.zeros((len(plan.state_names), 3)) if oriented_t is None else oriented_t
-    switchings, exhaustive = _fit_switchings(reversing)
-    base = currents * ~independent[:, None]                                 # (C, K)
-    samples_i, samples_b = [], []
-    for k in _used_states(plan, sensor):
-        for choice in switchings:
-            current = base[:, k].copy()
-            current[independent] += choice * currents[independent, k]
-            samples_i.append(current)
-            samples_b.append(fields.T @ current + oriented[k])
-    amps = np.array(samples_i)                                              # (S, C)
-    field_s = np.array(samples_b)                                           # (S, 3)
-    m = amps @ channels.T                                                   # (S, J)
+    solution, offset, residual, samples, exhaustive = _fit(plan, sensor, measured, fields,
+                                                           oriented)
+    return Compensation(measured, solution, solution @ sensor_axes(sensor).T, offset, residual,
+                        samples, exhaustive)
+
+
+def compensated_residual(plan, sensor, measured, run_values, oriented):
+    """What the host's compensation leaves in every state, linear in what it learns from.
+
+    Parameters
+    ----------
+    plan, sensor : Plan, Sensor
+    measured : tuple of str
+        The measured channels (``Compensation.measured``).
+    run_values : (R, D)
+        Each run's field per ampere at the sensor (D = 3), or any D columns fitted alike.
+    oriented : (K, D)
+        Equipment of known orientation in each state.
+
+    Returns
+    -------
+    base : (K, D)
+        The residual with the independent circuits off, after calibration in the reference
+        state (or less the fitted offset without one) and the fitted compensation.
+    switched : (K, Ci, D)
+        What each independent circuit adds to it when on, at its current in that state.
+
+    Notes
+    -----
+    The fit is refitted to the values given: with ``run_values`` the identity (D = R) and
+    ``oriented`` zero the result is, column r, how much of run r's real field per ampere is
+    left in each state, whatever that field is. A part of a run's field the plan does not fix
+    (a pair's lie, an untwisted end's turn) is learned by the host as it really is, and leaves
+    that weight times itself.
+    """
+    currents = plan.circuit_currents_a
+    independent = plan.independent
+    values = plan.circuit_matrix.T @ run_values                             # (C, D)
+    solution, offset, residual, _, _ = _fit(plan, sensor, measured, values, oriented)
+    channels = measured_matrix(plan, measured)
+    on_base = currents * ~independent[:, None]                              # (C, K)
     if sensor.reference_state is not None:
         k_ref = plan.state_index(sensor.reference_state)
-        m_ref = channels @ base[:, k_ref]
-        b_ref = fields.T @ base[:, k_ref] + oriented[k_ref]
-        solution = np.linalg.lstsq(m - m_ref, field_s - b_ref, rcond=None)[0]      # (J, 3)
-        offset = np.zeros(3)
+        anchor = (values.T @ on_base[:, k_ref] + oriented[k_ref]
+                  - solution.T @ (channels @ on_base[:, k_ref]))
     else:
-        design = np.hstack([m, np.ones((len(m), 1))])
-        both = np.linalg.lstsq(design, field_s, rcond=None)[0]
-        solution, offset = both[:-1], both[-1]
-    residual = fields - channels.T @ solution                               # (C, 3)
-    return Compensation(measured, solution, solution @ sensor_axes(sensor).T, offset, residual,
-                        len(amps), exhaustive)
+        anchor = offset
+    base = (residual.T @ on_base).T + oriented - anchor[None, :]           # (K, D)
+    switched = residual[independent][None, :, :] * currents[independent].T[:, :, None]
+    return base, switched
 
 
 # Per-state figures -------------------------------------------------------------------------------
@@ -251,14 +313,16 @@ class ElectronicState:
         independent switchings, after calibration in the reference state where it has one
         (b - b_ref), before any current compensation; with every bound of unknown direction
     compensated_horizontal_t, compensated_deg, compensated_fraction : what current compensation
-        leaves: the largest level horizontal part over switching and attitude and its deviation
-        asin(|b_h|/H), and the largest |b| as a share of F (None without measured currents)
+        leaves: the largest level horizontal part over switching, attitude and the turns of the
+        runs' parts the plan does not fix, and its deviation asin(|b_h|/H), and the largest |b|
+        as a share of F (None without measured currents); bounds where any part is unknown
     field_departure_t : the largest | |F + b| - |F| | over headings, attitudes and switchings of
         the field the host sees (calibrated, compensated where it measures currents)
     inclination_departure_deg : the same for the inclination
     model_ok : both within the pre-arming tolerances
     unknown_t : the runs' parts of unknown direction in this state (pairs of unknown lie,
-        twisted floors): in interference_t, left out of the compensated figures
+        twisted runs' ends and floors), before compensation, counted in interference_t; the
+        compensated figures count what the fit leaves of them
     """
 
     state: str
@@ -271,7 +335,9 @@ class ElectronicState:
     field_departure_t: float
     inclination_departure_deg: float
     model_ok: bool
-    unknown_t: float = 0.0            # runs' parts of unknown direction, not in compensated_*
+    unknown_t: float = 0.0            # runs' parts of unknown direction, uncompensated
+    compensated_bound_t: float | None = None   # what compensation leaves of every part of
+    #                                            unknown direction, counted in compensated_*
 
 
 class Standing(str, enum.Enum):
@@ -364,66 +430,92 @@ def electronic_states(plan, result, site, compensation) -> tuple[ElectronicState
     reference state it is b - b_ref; after compensation the host also subtracts K m (m the
     measured currents, K from :func:`fit_compensation`), which leaves each circuit's residual
     per ampere. The independent circuits' worst switching is exact
-    (:func:`deviation.physics.worst_case.worst_combination`); the 3-D size uses it at pitch 90 degrees,
-    where the worst attitude makes the whole vector horizontal. Bounds of unknown direction
-    (pairs of unknown lie, twisted floors, equipment of unknown orientation) add to the
-    uncompensated sizes; the compensated figures add only the equipment's, since the host learns
-    the real field of a run whatever its lie.
+    (:func:`deviation.physics.worst_case.worst_combination`); the 3-D size uses it at pitch 90
+    degrees, where the worst attitude makes the whole vector horizontal. Bounds of unknown
+    direction (pairs of unknown lie, twisted runs' ends and floors, equipment of unknown
+    orientation) add to the uncompensated sizes.
+
+    The host learns the real field of a run, whatever its lie, so what compensation leaves of
+    a part the plan does not fix is not zero but the fit's residual of it: the residual is
+    linear in the runs' fields (:func:`compensated_residual`), so in state k run r's field
+    per ampere f_r leaves w_kr f_r, and over the turns of its parts (the zonotope
+    unit + sum_j s_j g_j, plus a vector no longer than its bound) the residual stays within
+    the zonotope of the generators |w_kr| g_j, found exactly with the switching
+    (:func:`deviation.budget.held`), plus |w_kr| times its bound. With independent circuits
+    w is affine in the switching; its largest size over the switchings (each circuit at the
+    extreme of its own term) is taken, the same for every switching (a bound). Where the fit is
+    exact (each circuit measured), w is zero and only the equipment's bound remains.
     """
     sensor = result.sensor
     heel, pitch = sensor.max_heel_deg, sensor.max_pitch_deg
     h, total = site.horizontal_t, site.total_t
     items = equipment_fields(plan, sensor, sensor.position_m[None, :], h)
-    base, switched, reversing, bound = sensor_field_parts(plan, sensor, result.parts, items)
+    parts = result.parts
+    base, switched, reversing, bound = sensor_field_parts(plan, sensor, parts, items)
     base, switched, bound = base[0], switched[0], bound[0]
     item_bound = (items.bound if sensor.reference_state is None else items.changing)[0]
-    residual_base = residual_switched = None
+    n_states = len(plan.state_names)
+    compensated = None
     if compensation is not None:
-        currents = plan.circuit_currents_a
-        independent = plan.independent
-        residual = compensation.residual_per_ampere_t                      # (C, 3)
-        channels = measured_matrix(plan, compensation.measured)
-        fields = circuit_fields_t(plan, result.unit_fields_t)
-        on_base = currents * ~independent[:, None]                          # (C, K)
-        oriented = items.oriented[0]                                        # (K, 3)
-        if sensor.reference_state is not None:
-            k_ref = plan.state_index(sensor.reference_state)
-            anchor = (fields.T @ on_base[:, k_ref] + oriented[k_ref]
-                      - compensation.coefficients_t_per_a.T @ (channels @ on_base[:, k_ref]))
-        else:
-            anchor = compensation.offset_t
-        residual_base = (residual.T @ on_base).T + oriented - anchor[None, :]   # (K, 3)
-        residual_switched = (residual[independent][None, :, :]
-                             * currents[independent].T[:, :, None])          # (K, Ci, 3)
+        measured = compensation.measured
+        residual_base, residual_switched = compensated_residual(
+            plan, sensor, measured, result.unit_fields_t, items.oriented[0])
+        n_runs = len(plan.runs)
+        weight_base, weight_switched = compensated_residual(
+            plan, sensor, measured, np.eye(n_runs), np.zeros((n_states, n_runs)))
+        # Largest share of each run's own field left over the switchings (R, K): the weight is
+        # affine in the switching, so its extremes take each circuit at its own extreme.
+        lower = np.where(reversing[None, :, None], -np.abs(weight_switched),
+                         np.minimum(weight_switched, 0.0)).sum(axis=1)
+        upper = np.where(reversing[None, :, None], np.abs(weight_switched),
+                         np.maximum(weight_switched, 0.0)).sum(axis=1)
+        scale = np.maximum(np.abs(weight_base + lower), np.abs(weight_base + upper)).T
+        scalar = parts.bound_t @ scale + item_bound                         # (1, K)
+        unknown = (parts.bound_t + np.linalg.norm(parts.spread_t, axis=-1).sum(axis=-1)
+                   ) @ scale                                                # (1, K)
+
+        def held(heel_deg, pitch_deg):
+            cap = (MAX_EXACT_GENERATORS_ATTITUDE if heel_deg or pitch_deg
+                   else MAX_EXACT_GENERATORS_LEVEL)
+            size, _, apart = _held(residual_base[None], residual_switched[None], reversing,
+                                   parts.spread_t, scale, scalar, heel_deg, pitch_deg, cap)
+            return (size + apart)[0]
+
+        known, _, _ = _held(residual_base[None], residual_switched[None], reversing,
+                            np.zeros_like(parts.spread_t), scale, np.zeros_like(scalar), heel,
+                            pitch, MAX_EXACT_GENERATORS_LEVEL)
+        compensated = (held(heel, pitch), held(0.0, 90.0), unknown[0])
+        known = known[0]
     steel = _steel_sizes(plan, sensor, site)
     out = []
     for k, state in enumerate(plan.state_names):
         size = float(_largest(base[k], switched[k], reversing, 0.0, 90.0)) + bound[k] + steel[k]
         c_h = c_deg = c_fraction = None
         seen_base, seen_switched, seen_bound = base[k], switched[k], bound[k]
-        if compensation is not None:
-            c_h = float(_largest(residual_base[k], residual_switched[k], reversing, heel,
-                                 pitch)) + item_bound[k]
+        if compensated is not None:
+            c_h = float(compensated[0][k])
             c_deg = float(asin_deg(c_h / h))
-            c_3d = float(_largest(residual_base[k], residual_switched[k], reversing, 0.0,
-                                  90.0)) + item_bound[k]
+            c_3d = float(compensated[1][k])
+            seen_base, seen_switched = residual_base[k], residual_switched[k]
+            seen_bound = item_bound[k] + compensated[2][k]
+            unknown_left = max(0.0, c_h - float(known[k]))
             if plan.steel:
                 # Current compensation does nothing for steel: the figure it leaves is the
-                # wiring's residual with the steel's induced field turning with the heading.
+                # wiring's residual with the steel's induced field turning with the heading
+                # (what the fit leaves of the runs' parts of unknown direction as a disc).
                 c_deg = _compensated_with_steel(plan, sensor, site, k, residual_base[k],
                                                 residual_switched[k], reversing,
-                                                float(item_bound[k]))
+                                                float(seen_bound))
                 c_h, c_3d = c_h + steel[k], c_3d + steel[k]
             c_fraction = c_3d / total
-            seen_base, seen_switched, seen_bound = (residual_base[k], residual_switched[k],
-                                                    item_bound[k])
         field, inclination = _departures(seen_base, seen_switched, reversing,
                                          float(seen_bound + steel[k]), site, heel, pitch)
         ok = field <= MODEL_FIELD_TOLERANCE_T and inclination <= MODEL_INCLINATION_TOLERANCE_DEG
         size = float(size)
         out.append(ElectronicState(state, sensor.used_in_state(state), size, size / total, c_h,
                                    c_deg, c_fraction, field, inclination, ok,
-                                   float(bound[k] - item_bound[k] + steel[k])))
+                                   float(bound[k] - item_bound[k] + steel[k]),
+                                   None if compensated is None else unknown_left))
     return tuple(out)
 
 

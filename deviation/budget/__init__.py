@@ -38,15 +38,15 @@ from .held import (  # noqa: F401
     budget_figures,
 )
 from .runs import (  # noqa: F401
-    LIE_ANGLES_DEG,
+    KNOWN_LIE_TURNS_DEG,
     MAX_EXACT_GENERATORS_ATTITUDE,
     MAX_EXACT_GENERATORS_LEVEL,
     SPREAD_GENERATORS,
     RunParts,
-    _lie_fields,
-    _lie_spread,
     parts_of_runs,
     run_fields_at,
+    turn_cover,
+    twisted_floor,
 )
 from .total import (  # noqa: F401
     TotalFieldFigures,

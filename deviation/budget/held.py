@@ -80,24 +80,29 @@ def _held(base, switched, switched_reversing, spread, scale, scalar, heel, pitch
     """
     n_p, n_k = base.shape[:2]
     n_r, n_g = spread.shape[1:3]
-    weight = (np.linalg.norm(spread, axis=-1).max(axis=0)[:, :, None]
-              * np.abs(scale)[:, None, :]).max(axis=-1).reshape(-1)       # (R*G,)
-    room = max(0, exact_cap - switched.shape[2])
-    order = np.argsort(-weight, kind="stable")
-    keep = order[:room][weight[order[:room]] > 0]
-    rest = np.setdiff1d(np.flatnonzero(weight > 0), keep)
     flat = spread.reshape(n_p, n_r * n_g, 3)
-    run_of = np.repeat(np.arange(n_r), n_g)
-    kept = flat[:, keep][:, None] * np.abs(scale[run_of[keep]]).T[None, :, :, None]
+    amps = np.abs(scale)[np.repeat(np.arange(n_r), n_g)]                       # (R*G, K)
+    # Point by point, the largest generators (at their largest current) are searched exactly,
+    # so a point's figure never depends on which other points are evaluated with it.
+    present = np.flatnonzero((np.abs(flat).max(axis=(0, 2)) > 0) & (amps.max(axis=1) > 0))
+    flat, amps = flat[:, present], amps[present]
+    weight = np.linalg.norm(flat, axis=-1) * amps.max(axis=1)[None, :]         # (P, n)
+    room = min(max(0, exact_cap - switched.shape[2]), len(present))
+    order = np.argsort(-weight, axis=1, kind="stable")
+    keep = order[:, :room]                                                     # (P, room)
+    kept = (np.take_along_axis(flat, keep[..., None], axis=1)[:, None]
+            * np.transpose(amps[keep], (0, 2, 1))[..., None])                 # (P, K, room, 3)
     generators = np.concatenate([switched, kept], axis=2)
-    reversing = np.concatenate([switched_reversing, np.ones(len(keep), dtype=bool)])
+    reversing = np.concatenate([switched_reversing, np.ones(room, dtype=bool)])
     size, choice = _worst(base, generators, reversing, heel, pitch)
     # The smaller spread generators are counted apart, by the triangle inequality at the worst
     # attitude: never less than the exact figure.
     apart = scalar.copy()
-    if len(rest):
-        sizes = _attitude_size(flat[:, rest], heel, pitch)                    # (P, n_rest)
-        apart += sizes @ np.abs(scale[run_of[rest]])
+    if room < len(present):
+        rest = np.ones(weight.shape, dtype=bool)
+        np.put_along_axis(rest, keep, False, axis=1)
+        sizes = _attitude_size(flat, heel, pitch) * rest                       # (P, n)
+        apart += sizes @ amps
     return size, choice[..., :switched.shape[2]], apart
 
 

@@ -22,8 +22,8 @@ class TotalFieldFigures:
     error_t : max(high_t, -low_t), the figure held against budget_nt
     peak_to_peak_t : level, over a full turn of heading, the largest over the switchings,
         bounds counted at their worst (2 x bound)
-    bound_t : the bounds of unknown direction counted (pairs of unknown lie, twisted floors,
-        equipment of unknown orientation)
+    bound_t : the bounds of unknown direction counted (pairs of unknown lie, twisted runs' ends
+        and floors, equipment of unknown orientation)
     within_budget : error_t <= budget_nt
     exhaustive : every switching was tried; else high_t is still exact (from the zonotope's
         vertices) while low_t and peak_to_peak_t are bounds on the safe side
@@ -57,8 +57,8 @@ def sensor_field_parts(plan, sensor, parts: RunParts, items: EquipmentFields,
     reversing : (Ci,) bool
     bound : (P, K) [T]
         Every part of unknown direction, as a size: a pair's spread over its lies (each
-        generator's length, by the triangle inequality), twisted floors, equipment bounds (for
-        a reference state, only what changes from it).
+        generator's length, by the triangle inequality), twisted runs' ends and floors,
+        equipment bounds (for a reference state, only what changes from it).
     """
     split = currents or circuit_currents(plan)
     base = np.einsum("prj,rk->pkj", parts.unit_t, split.base_a) + items.oriented

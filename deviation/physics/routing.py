@@ -200,6 +200,60 @@ def _left_normals(points):
     return normal
 
 
+def _mitred(points, normals, spacing_m):
+    """Offsets (N, 3) of a polyline's points along per-stretch unit normals, mitred at corners."""
+    offsets = np.empty_like(points)
+    offsets[0] = normals[0] * spacing_m
+    offsets[-1] = normals[-1] * spacing_m
+    for i in range(1, len(points) - 1):
+        mean = normals[i - 1] + normals[i]
+        size = np.linalg.norm(mean)
+        if size < 1e-9:
+            offsets[i] = normals[i - 1] * spacing_m
+            continue
+        mean /= size
+        offsets[i] = mean * min(spacing_m / max(mean @ normals[i - 1], 1e-12), 3 * spacing_m)
+    return offsets
+
+
+def offset_frames(points, spacing_m):
+    """The offsets of a paired return turned to the left of travel and to above it.
+
+    Parameters
+    ----------
+    points : (N, 3) array [m]
+        The route, source to load.
+    spacing_m : float [m]
+
+    Returns
+    -------
+    left, up : (N, 3) arrays [m]
+        Offsets of the route's points for a return to the left of travel (the left normals of
+        :func:`_left_normals`) and for one above the supply (each stretch's direction crossed
+        with its left normal; a zero-length stretch keeps its left normal), each mitred at the
+        corners as :func:`offset_polyline` describes. A return turned by ``a`` from "left"
+        towards "above" lies at ``points + cos(a) left + sin(a) up``.
+
+    Notes
+    -----
+    Where the two stretches at a corner lie in one plane with their left normals in it or
+    along its normal (a horizontal corner, or a vertical stretch meeting a horizontal one in a
+    vertical plane), the offset lines of a return turned by any ``a`` meet at exactly this
+    point, so the turned return keeps the spacing from both stretches; elsewhere it is the
+    same linear blend of the two mitred frames, which keeps every turn of the return on an
+    ellipse about each corner.
+    """
+    points = np.asarray(points, dtype=float)
+    normals = _left_normals(points)
+    direction = np.diff(points, axis=0)
+    length = np.linalg.norm(direction, axis=1, keepdims=True)
+    up = np.cross(direction / np.maximum(length, 1e-300), normals)
+    size = np.linalg.norm(up, axis=1, keepdims=True)
+    # Stays a unit normal of each stretch: left and "up" are perpendicular to the stretch.
+    up = np.where(size > 1e-12, up / np.maximum(size, 1e-300), normals)
+    return _mitred(points, normals, spacing_m), _mitred(points, up, spacing_m)
+
+
 def offset_polyline(points, spacing_m, angle_deg=0.0):
     """The polyline offset by ``spacing_m`` to the left of travel, mitred at the corners.
 
@@ -219,37 +273,20 @@ def offset_polyline(points, spacing_m, angle_deg=0.0):
     Notes
     -----
     The normals are :func:`_left_normals` (vertical stretches take the next non-vertical
-    stretch's side, else the previous one's), turned by ``angle_deg``. The end points are offset
-    by ``spacing_m`` along the first and last stretch's normal. At a corner the offset point
-    lies on the bisector m of the two stretches' normals, at the distance
-    ``spacing_m / (m . n_before)`` that keeps both offset stretches ``spacing_m`` from their
-    originals (capped at three spacings on hairpin turns); where the route doubles back (the two
-    normals opposite) it is offset along the first stretch's normal. Docs: docs/routing.md.
+    stretch's side, else the previous one's). The end points are offset by ``spacing_m`` along
+    the first and last stretch's normal. At a corner the offset point lies on the bisector m of
+    the two stretches' normals, at the distance ``spacing_m / (m . n_before)`` that keeps both
+    offset stretches ``spacing_m`` from their originals (capped at three spacings on hairpin
+    turns); where the route doubles back (the two normals opposite) it is offset along the first
+    stretch's normal. A turned return is ``cos(angle) left + sin(angle) up`` of the two mitred
+    frames (:func:`offset_frames`), linear in the turn. Docs: docs/routing.md.
     """
     points = np.asarray(points, dtype=float)
-    normals = _left_normals(points)
-    if angle_deg:
-        direction = np.diff(points, axis=0)
-        length = np.linalg.norm(direction, axis=1, keepdims=True)
-        up = np.cross(direction / np.maximum(length, 1e-300), normals)
-        # Stays a unit normal of each stretch: left and "up" are perpendicular to the stretch.
-        angle = np.radians(angle_deg)
-        turned = np.cos(angle) * normals + np.sin(angle) * up
-        size = np.linalg.norm(turned, axis=1, keepdims=True)
-        # A zero-length stretch has no "up" of its own; it keeps the left normal.
-        normals = np.where(size > 1e-12, turned / np.maximum(size, 1e-300), normals)
-    offsets = np.empty_like(points)
-    offsets[0] = normals[0] * spacing_m
-    offsets[-1] = normals[-1] * spacing_m
-    for i in range(1, len(points) - 1):
-        mean = normals[i - 1] + normals[i]
-        size = np.linalg.norm(mean)
-        if size < 1e-9:
-            offsets[i] = normals[i - 1] * spacing_m
-            continue
-        mean /= size
-        offsets[i] = mean * min(spacing_m / max(mean @ normals[i - 1], 1e-12), 3 * spacing_m)
-    return points + offsets
+    left, up = offset_frames(points, spacing_m)
+    if not angle_deg:
+        return points + left
+    angle = np.radians(angle_deg)
+    return points + np.cos(angle) * left + np.sin(angle) * up
 
 
 def twisted_helices(points, spacing_m, lay_m, chords_per_lay=CHORDS_PER_LAY,
@@ -383,7 +420,7 @@ def twisted_conductors(points, spacing_m, lay_m, untwisted_end_m=None,
         Length at each end laid as a paired stretch; None takes ``constants.UNTWISTED_END_M``,
         0 gives helices all the way into the terminals.
     chords_per_lay : int
-        Straight chords per lay for each helix.
+        Straight chords per helix per lay.
 
     Returns
     -------
@@ -397,23 +434,141 @@ def twisted_conductors(points, spacing_m, lay_m, untwisted_end_m=None,
     paired). The helices start with the return to the left (phase pi), so at the lead both
     conductors step ``spacing_m/2`` sideways into them; at the tail each steps from wherever the
     twist ends to its paired position. A route no longer than two ends is laid paired all the way.
+    How each end may turn about the axis: :func:`turning_run`.
     """
+    supply, back, _, _ = _twisted_with_ends(points, spacing_m, lay_m, untwisted_end_m,
+                                            chords_per_lay)
+    return supply, back
+
+
+def _twisted_with_ends(points, spacing_m, lay_m, untwisted_end_m, chords_per_lay):
+    """:func:`twisted_conductors`, and for each return vertex its turn (K, 2, 3) [m] (the
+    offsets "left" and "up" of :func:`offset_frames`; zero on the helix) and which end turns it
+    (K,) int: 0 the lead, 1 the tail, -1 none. Laid paired all the way, every vertex is 0."""
     end_m = UNTWISTED_END_M if untwisted_end_m is None else untwisted_end_m
     route = np.asarray(points, dtype=float).reshape(-1, 3)
     lead, middle, tail, end = _split(route, end_m)
     if end == 0:
-        return twisted_helices(route, spacing_m, lay_m, chords_per_lay, start_phase_rad=np.pi)
+        supply, back = twisted_helices(route, spacing_m, lay_m, chords_per_lay,
+                                       start_phase_rad=np.pi)
+        return supply, back, np.zeros((len(back), 2, 3)), np.full(len(back), -1)
     if len(middle) == 1:
-        return route, offset_polyline(route, spacing_m)
+        left, up = offset_frames(route, spacing_m)
+        return (route, route + left, np.stack([left, up], axis=1),
+                np.zeros(len(route), dtype=int))
     supply_mid, back_mid = twisted_helices(middle, spacing_m, lay_m, chords_per_lay,
                                            start_phase_rad=np.pi)
     # Offset the whole route (split points inserted on their stretches) so corners keep their mitre.
-    offset = offset_polyline(np.vstack([lead, middle[1:], tail[1:]]), spacing_m)
+    axis = np.vstack([lead, middle[1:], tail[1:]])
+    left, up = offset_frames(axis, spacing_m)
     lead_end = len(lead) - 1
     tail_start = lead_end + len(middle) - 1
     supply = np.vstack([lead, supply_mid, tail])
-    back = np.vstack([offset[:lead_end + 1], back_mid, offset[tail_start:]])
-    return supply, back
+    back = np.vstack([axis[:lead_end + 1] + left[:lead_end + 1], back_mid,
+                      axis[tail_start:] + left[tail_start:]])
+    frames = np.stack([left, up], axis=1)
+    turn = np.concatenate([frames[:lead_end + 1], np.zeros((len(back_mid), 2, 3)),
+                           frames[tail_start:]])
+    end_of = np.concatenate([np.zeros(lead_end + 1, dtype=int), np.full(len(back_mid), -1),
+                             np.ones(len(axis) - tail_start, dtype=int)])
+    return supply, back, turn, end_of
+
+
+@dataclass(frozen=True)
+class TurningPart:
+    """Segments of one run that turn together about the run's axis, by an angle not given.
+
+    At turn ``a`` [rad] (from "left of travel" towards "above", as ``return_angle_deg``)
+    segment i runs from ``base_start_m[i] + cos(a) turn_start_m[i, 0] + sin(a)
+    turn_start_m[i, 1]`` to the same of its end, carrying ``sign[i]`` times the run's current.
+
+    Attributes
+    ----------
+    base_start_m, base_end_m : (S, 3) arrays [m]
+        The segments with the offsets left out (the return laid onto the supply).
+    turn_start_m, turn_end_m : (S, 2, 3) arrays [m]
+        The offsets "left" and "up" of each end (:func:`offset_frames`; zero where an end does
+        not turn, e.g. where a twisted run's end steps into its helix).
+    sign : (S,) array
+    """
+
+    base_start_m: np.ndarray
+    base_end_m: np.ndarray
+    turn_start_m: np.ndarray
+    turn_end_m: np.ndarray
+    sign: np.ndarray
+
+    def __len__(self):
+        return len(self.sign)
+
+    def at(self, angle_rad):
+        """``(start (S, 3), end (S, 3))`` [m] of the segments at one turn."""
+        c, s = np.cos(angle_rad), np.sin(angle_rad)
+        return (self.base_start_m + c * self.turn_start_m[:, 0] + s * self.turn_start_m[:, 1],
+                self.base_end_m + c * self.turn_end_m[:, 0] + s * self.turn_end_m[:, 1])
+
+
+def _return_part(supply, back, turn, sign_back=-1.0):
+    """The turning segments of a return polyline ``back`` (source to load, vertex turns
+    ``turn`` (K, 2, 3)) with the two segments closing it to ``supply`` through the load and the
+    source."""
+    base = back - turn[:, 0]
+    zero = np.zeros((1, 2, 3))
+    starts = np.vstack([base[:-1], supply[-1:], base[:1]])
+    ends = np.vstack([base[1:], base[-1:], supply[:1]])
+    turn_start = np.concatenate([turn[:-1], zero, turn[:1]])
+    turn_end = np.concatenate([turn[1:], turn[-1:], zero])
+    sign = np.r_[np.full(len(back) - 1, sign_back), 1.0, 1.0]
+    return starts, ends, turn_start, turn_end, sign
+
+
+def turning_run(run: RunGeometry):
+    """A run's segments split into those that stay put and the parts that turn about its axis.
+
+    Parameters
+    ----------
+    run : RunGeometry
+
+    Returns
+    -------
+    fixed : (start (F, 3), end (F, 3), sign (F,))
+        Segments that do not depend on any turn.
+    parts : tuple of TurningPart
+        ``paired``: one part, the return with the two closing segments, turned by any angle
+        (``return_angle_deg`` is the turn :func:`route_run` lays). ``twisted``: the lead and the
+        tail, each an untwisted end's return with its step into the helix and its closing
+        segment, each turning on its own (the helices stay put); a route no longer than two ends
+        is one part; without untwisted ends, none. Other kinds: none.
+
+    Notes
+    -----
+    At turn ``radians(return_angle_deg)`` of a paired run's part, and at turn 0 of both ends of a
+    twisted run, ``fixed`` and the parts are exactly the segments of :func:`route_run` (in
+    another order).
+    """
+    route = np.asarray(run.route_m, dtype=float).reshape(-1, 3)
+    if run.return_kind == "paired":
+        left, up = offset_frames(route, run.spacing_m)
+        part = TurningPart(*_return_part(route, route + left, np.stack([left, up], axis=1)))
+        return _polyline(route, 1.0), (part,)
+    if run.return_kind != "twisted":
+        return route_run(run), ()
+    supply, back, turn, end_of = _twisted_with_ends(route, run.spacing_m, run.lay_m,
+                                                    run.untwisted_end_m, CHORDS_PER_LAY)
+    if np.all(end_of < 0):
+        return _closed_circuit(supply, back, 1.0, -1.0), ()
+    start, end, turn_start, turn_end, sign = _return_part(supply, back, turn)
+    # Which end turns each segment: a step into the helix has one turning vertex.
+    owner = np.maximum(np.r_[end_of[:-1], end_of[-1], end_of[0]],
+                       np.r_[end_of[1:], end_of[-1], end_of[0]])
+    f_start, f_end, f_sign = _polyline(supply, 1.0)
+    still = owner < 0
+    fixed = (np.vstack([f_start, start[still]]), np.vstack([f_end, end[still]]),
+             np.r_[f_sign, sign[still]])
+    parts = tuple(TurningPart(start[owner == k], end[owner == k], turn_start[owner == k],
+                              turn_end[owner == k], sign[owner == k])
+                  for k in sorted(set(owner[owner >= 0].tolist())))
+    return fixed, parts
 
 
 def as_paired(geometry: RunGeometry) -> RunGeometry:

@@ -151,6 +151,8 @@ def electronic_json(analysis, reports, unit):
                 "compensated_percent_of_total_field": None if s.compensated_fraction is None
                 else _round(s.compensated_fraction * 100, 4),
                 "unknown_direction": _round(_in(s.unknown_t, unit), 6),
+                "compensated_bound": None if s.compensated_bound_t is None
+                else _round(_in(s.compensated_bound_t, unit), 6),
                 "field_departure": _round(_in(s.field_departure_t, unit), 6),
                 "inclination_departure_deg": _round(s.inclination_departure_deg, 4),
                 "model_check_ok": s.model_ok} for s in report.states]

@@ -85,23 +85,27 @@ def _pair_loop_deviation_deg(magpylib, current, spacing, depth, angle_deg, h=20e
     return math.degrees(math.asin(math.hypot(b[0], b[1]) / h)), b
 
 
-def test_pairing_hint_counts_the_worst_lie_of_the_new_pair(plan_dir):
-    # The hint re-routes the run as a pair 4.3 mm apart (10 AWG) whose lie the plan does not say:
-    # its after figure must cover every turn of the pair about its axis (magpylib closed loops,
-    # every degree), and it may exceed the worst of them by at most the octagon's 1/cos(pi/8).
+@pytest.mark.parametrize("depth, current", [(0.0129, 0.1), (0.0172, 0.1), (0.3, 10.0)])
+def test_pairing_hint_counts_the_worst_lie_of_the_new_pair(plan_dir, depth, current):
+    # The hint re-routes the run as a pair 4.3 mm apart (10 AWG) whose lie the plan does not say,
+    # here 3, 4 and 70 spacings from the sensor: its after figure must cover every turn of the
+    # pair about its axis (magpylib closed loops, every degree), and it may exceed the worst of
+    # them by at most the octagon's 1/cos(pi/8) (compared as fields, H sin(deviation)).
     magpylib = pytest.importorskip("magpylib")
-    sheets = straight_wire_plan(depth_m=0.3)
+    sheets = straight_wire_plan(depth_m=depth, current=current)
     sheets["runs"][1][4] = "10 AWG"
     st = deviation.check(read_plan(plan_dir(sheets))).sensors[0].states[0]
     pairing = next(h for h in st.remedies if h.kind == "pair")
-    worst = max(_pair_loop_deviation_deg(magpylib, 10.0, 0.0043, 0.3, a)[0] for a in range(360))
-    assert worst <= pairing.after <= worst / math.cos(math.pi / 8)
+    worst = max(math.sin(math.radians(_pair_loop_deviation_deg(magpylib, current, 0.0043, depth,
+                                                               a)[0])) for a in range(360))
+    after = math.sin(math.radians(pairing.after))
+    assert worst <= after <= worst / math.cos(math.pi / 8) * 1.001
     assert pairing.before == pytest.approx(st.held)
     # One above the other, the pair's field at the sensor is horizontal and is the two-wire line
     # mu0 I s / (2 pi r1 r2) (Griffiths ch. 5, superposition of two long wires).
-    _, b = _pair_loop_deviation_deg(magpylib, 10.0, 0.0043, 0.3, 90)
-    assert np.linalg.norm(b) == pytest.approx(MU0 * 10 * 0.0043 / (2 * math.pi * 0.3 * 0.2957),
-                                              rel=1e-3)
+    _, b = _pair_loop_deviation_deg(magpylib, current, 0.0043, depth, 90)
+    assert np.linalg.norm(b) == pytest.approx(
+        MU0 * current * 0.0043 / (2 * math.pi * depth * (depth - 0.0043)), rel=1e-3)
 
 
 def test_clearance_hint_keeps_a_fifth_of_the_budget_free(plan_dir):

@@ -116,10 +116,15 @@ def test_axes_on_a_magnetic_compass_are_a_finding(plan_dir):
 
 # Per-ampere vectors -----------------------------------------------------------------------------
 
-def test_per_ampere_vector_of_a_run_matches_magpylib(plan_dir):
+@pytest.mark.parametrize("axes, rows", [
+    ("x+ y-", [[1, 0, 0], [0, -1, 0], [0, 0, -1]]),      # forward, right, down
+    ("y+ z+", [[0, 1, 0], [0, 0, 1], [1, 0, 0]]),        # a cyclic turn: not its own transpose
+    ("z- x+", [[0, 0, -1], [1, 0, 0], [0, -1, 0]])])     # z = x cross y = (0,0,-1) x (1,0,0)
+def test_per_ampere_vector_of_a_run_matches_magpylib(plan_dir, axes, rows):
     magpylib = pytest.importorskip("magpylib")
     # One run, a bent single conductor (return modelled elsewhere), near a sensor mounted with
-    # its own axes forward-right-down.
+    # its own axes along the vessel axes named (rows: each sensor axis in vessel coordinates,
+    # the third the cross product of the first two, written here).
     vertices = [(-0.4, 0.3, -0.2), (0.1, 0.25, -0.15), (0.3, -0.2, -0.1), (0.6, -0.3, 0.2)]
     route = " > ".join(", ".join(f"{v:g}" for v in p) for p in vertices)
     sheets = {
@@ -127,15 +132,16 @@ def test_per_ampere_vector_of_a_run_matches_magpylib(plan_dir):
         "runs": [["run", "circuits", "route", "return"], ["bent", "bent", route, "none"]],
         "states": [["circuit", "on"], ["bent", 7.5]],
         "sensors": [["sensor", "at", "kind", "budget_deg", "axes"],
-                    ["s", "0.05, 0.02, 0.1", "electronic compass", 2, "x+ y-"]],
+                    ["s", "0.05, 0.02, 0.1", "electronic compass", 2, axes]],
     }
     _, report = only(plan_dir, sheets)
     [row] = report.per_ampere
     # Oracle: magpylib's polyline current at 1 A (SI units: T at metres).
     expected = magpylib.current.Polyline(current=1.0, vertices=vertices).getB((0.05, 0.02, 0.1))
     np.testing.assert_allclose(row.vessel_t_per_a, expected, rtol=1e-9, atol=1e-15)
-    # In the sensor's axes x+ y- z-: (Bx, -By, -Bz).
-    np.testing.assert_allclose(row.sensor_t_per_a, expected * [1, -1, -1], rtol=1e-9, atol=1e-15)
+    # In the sensor's axes: each component is the vessel vector along that axis.
+    np.testing.assert_allclose(row.sensor_t_per_a, np.array(rows, float) @ expected, rtol=1e-9,
+                               atol=1e-15)
     assert row.peak_current_a == 7.5
 
 
@@ -167,9 +173,10 @@ def test_one_circuit_measured_alone_leaves_no_residual(plan_dir):
 
 
 def test_a_total_over_one_loaded_circuit_leaves_no_residual(plan_dir):
-    # Only feed a carries current (0, 10, 4 A): the total is its current, so the fit learns its
-    # field exactly and nothing is left in any state (a wrong fit, e.g. without the reference
-    # subtracted or with the channels' transpose, would leave some).
+    # Only feed a carries current (1, 10, 4 A): the total is its current, so the fit learns its
+    # field exactly and nothing is left in any state. (With one loaded circuit any fit through
+    # the samples is exact, with or without the reference subtracted: that mistake is caught by
+    # tests/analysis/test_unknown_parts.py::test_the_fit_subtracts_the_reference_state.)
     states = [["circuit", "off", "full", "part"], ["feed a", 1, 10, 4], ["feed b", 0, 0, 0]]
     _, report = only(plan_dir, two_wire_plan(measured="total", states=states))
     for state in report.states:
@@ -201,14 +208,24 @@ def test_two_circuits_measured_as_one_total_leave_the_half_difference(plan_dir):
 
 
 def test_compensation_without_a_reference_fits_the_offset_too(plan_dir):
-    # By hand, with the offset free: samples m = 0, I, I and b = 0, I uA, I uB. Means
-    # m = 2I/3, b = I (uA + uB)/3; slope k = sum (m - m_mean)(b - b_mean) / sum (m - m_mean)^2
-    # = (I^2 (uA + uB)/3) / (2 I^2/3) = (uA + uB)/2, offset b_mean - k m_mean = 0. So the
-    # residual in "a on" is again I (uA - uB)/2.
-    _, report = only(plan_dir, two_wire_plan(measured="total", reference=""))
+    # By hand, with the offset free: samples m = 0, I, I and b = c, c + I uA, c + I uB, c the
+    # constant field of a magnet of known axis present in every state. Means m = 2I/3,
+    # b = c + I (uA + uB)/3; slope k = sum (m - m_mean)(b - b_mean) / sum (m - m_mean)^2
+    # = (I^2 (uA + uB)/3) / (2 I^2/3) = (uA + uB)/2, offset b_mean - k m_mean = c. So the
+    # residual in "a on" is again I (uA - uB)/2, and the offset is the magnet's field, here
+    # from the dipole formula mu0/(4 pi) (3 (m.r^) r^ - m)/r^3 (Griffiths eq. 5.89).
+    sheets = two_wire_plan(measured="total", reference="")
+    sheets["equipment"] = [["item", "at", "moment_am2", "axis"],
+                           ["speaker", "0.3, 0.2, 0.1", 0.5, "1, 0, 0"]]
+    _, report = only(plan_dir, sheets)
     state = next(s for s in report.states if s.state == "a on")
     assert state.compensated_horizontal_t == pytest.approx(10 * 2e-7, rel=1e-4)
-    np.testing.assert_allclose(report.compensation.offset_t, 0.0, atol=1e-15)
+    r = -np.array([0.3, 0.2, 0.1])
+    unit = r / np.linalg.norm(r)
+    moment = np.array([0.5, 0.0, 0.0])
+    magnet = 1e-7 * (3 * (moment @ unit) * unit - moment) / np.linalg.norm(r) ** 3
+    assert np.linalg.norm(magnet) > 1e-6
+    np.testing.assert_allclose(report.compensation.offset_t, magnet, rtol=1e-9)
 
 
 def test_an_unknown_measured_circuit_is_a_located_finding(plan_dir):

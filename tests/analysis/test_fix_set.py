@@ -123,15 +123,20 @@ def sample_plans():
             ("cruising_sailboat", "survey_boom", "survey_drone", "camper_van")]
 
 
-def _full_figures(plan, result, changes, site):
+def _full_figures(plan, result, changes, site, quick=False):
     """The budget's one entry on the plan with ``changes`` ({index: Run}) made, every run
-    routed and summed afresh: the full re-evaluation the evaluator must equal."""
+    routed and summed afresh: the full re-evaluation the evaluator must equal (``quick``: with
+    steel, the quicker proven bound the evaluator's bisection runs on)."""
     runs = list(plan.runs)
     for r, run in changes.items():
         runs[r] = run
     changed = dataclasses.replace(plan, runs=tuple(runs))
     sensor = result.sensor
-    figures = sensor_figures(changed, sensor, site, parts_at(changed, sensor.position_m[None, :]))
+    # With steel the evaluator asks the budget for the held figure alone (the exact worst in
+    # the states the sensor is used in, the quick bound elsewhere): the same question here, on
+    # the plan re-routed from scratch (test_steel_budget holds that figure to a swing).
+    figures = sensor_figures(changed, sensor, site, parts_at(changed, sensor.position_m[None, :]),
+                             steel_exact=not quick, held_only=bool(plan.steel))
     return figures.held[0], figures.within[0]
 
 
@@ -166,8 +171,9 @@ class FullEvaluator(advice._Evaluator):
     """The evaluator's interface answered by full re-evaluation of every candidate (the way the
     set of fixes was computed before it was incremental)."""
 
-    def figures(self, candidates, others=None):
-        rows = [_full_figures(self.plan, self.result, {**(others or {}), r: run}, self.site)
+    def figures(self, candidates, others=None, *, quick=False):
+        rows = [_full_figures(self.plan, self.result, {**(others or {}), r: run}, self.site,
+                              quick)
                 for r, run in candidates]
         k = len(self.plan.state_names)
         return (np.array([row[0] for row in rows]).reshape(-1, k),
@@ -185,8 +191,10 @@ def test_remedies_and_fix_set_equal_those_of_full_re_evaluation(plan, monkeypatc
 
     monkeypatch.setattr(advice, "_Evaluator", FullEvaluator)
     slow = advice.with_remedies(analysis)
+    # The drone's leads (4 to 16 cm) are shorter than two untwisted ends, so twisting them
+    # changes nothing (each end counts at its worst turn) and no step helps there.
     assert any(s.fixes is not None and s.fixes.steps for s in slow.sensors) \
-        or plan.sensors[0].name == "dash compass"
+        or plan.sensors[0].name in ("dash compass", "mast magnetometer")
     for a, b in zip(fast.sensors, slow.sensors):
         assert (a.fixes is None) == (b.fixes is None)
         if a.fixes is not None:

@@ -679,11 +679,20 @@ def test_pair_side_by_side_leaves_the_field_nearly_vertical():
     assert st.held < 0.1 * pair_deviation(90)
 
 
-def test_pair_of_unknown_lie_counts_its_worst_turn_as_a_bound():
-    st = deviation.check(pair_plan(None), remedies=False).sensors[0].states[0]
-    worst = max(pair_deviation(a) for a in range(0, 360, 2))
-    # Never less than the worst turn; at most the circumscribed octagon's 1/cos(pi/8) more.
-    assert worst <= st.held <= worst / math.cos(math.pi / 8) + 1e-9
+@pytest.mark.parametrize("spacings", [1.5, 3.0, 60.0])
+def test_pair_of_unknown_lie_counts_its_worst_turn_as_a_bound(spacings):
+    # The pair 1.5, 3 and 60 spacings below the compass (5 mm spacing), 10 mA: never less than
+    # the worst turn (magpylib loops every 2 degrees), at most the circumscribed octagon's
+    # 1/cos(pi/8) more, compared as fields H sin(deviation).
+    depth = spacings * 0.005
+    runs = [{"run": "thruster", "circuits": "t", "route": f"-50, 0, {-depth} > 50, 0, {-depth}",
+             "return": "paired", "spacing": "5 mm"}]
+    plan = deviation.plan_from_tables(tables(runs, [{"circuit": "t", "on": 0.01}]))
+    st = deviation.check(plan, remedies=False).sensors[0].states[0]
+    worst = max(math.sin(math.radians(pair_deviation(a, current=0.01, d=depth)))
+                for a in range(0, 360, 2))
+    held = math.sin(math.radians(st.held))
+    assert worst <= held <= worst / math.cos(math.pi / 8) * 1.001
     assert st.runs[0].bound_t > 0
 
 

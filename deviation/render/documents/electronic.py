@@ -96,7 +96,7 @@ def _vector_blocks(report, unit):
         columns += [Column(f"compensated horizontal {label}", numeric=True),
                     Column("compensated °", numeric=True),
                     Column("compensated % of F", numeric=True),
-                    Column(f"± unknown {label}", numeric=True)]
+                    Column(f"of which bounds {label}", numeric=True)]
     columns += [Column(f"field vs model {label}", numeric=True),
                 Column("inclination vs model °", numeric=True), Column("model check")]
     rows = []
@@ -106,7 +106,7 @@ def _vector_blocks(report, unit):
         if comp is not None:
             row += [field_cell(s.compensated_horizontal_t, unit),
                     cell(s.compensated_deg, 2), cell(s.compensated_fraction * 100, 1),
-                    field_cell(s.unknown_t, unit)]
+                    field_cell(s.compensated_bound_t, unit)]
         ok = Cell("ok", "ok", None, Tone.GOOD) if s.model_ok else Cell("FAILS", "FAILS", None,
                                                                       Tone.BAD)
         row += [field_cell(s.field_departure_t, unit), cell(s.inclination_departure_deg, 2),
@@ -115,6 +115,10 @@ def _vector_blocks(report, unit):
     blocks.append(Table(tuple(columns), tuple(rows), "Interference, compensation and the model "
                                                       "check, by state"))
     if comp is not None:
+        blocks.append(Paragraph(
+            "Compensated figures count what the fit leaves of every part the plan does not fix "
+            "(a pair's lie, a twisted run's ends, equipment of unknown orientation) at its worst: "
+            "where that is not zero they are bounds, and 'of which bounds' is its share."))
         blocks.append(Paragraph(f"Compensation from the measured current(s) "
                                 f"{', '.join(comp.measured)}: `deviation per-amp` gives the "
                                 "figures to key in."))
@@ -278,9 +282,9 @@ def per_ampere_document(analysis, reports, unit="uT") -> Document:
                                 sheet=sensor.name))
     sections.append(Section("What the columns mean", (Paragraph(
         "Vectors are the part of known direction. ± unknown is the size of what the plan leaves "
-        "open (which side of its supply a pair's return lies, a twisted run's floor): give a "
-        "run whose vector matters a separate return route, or measure the compensation after "
-        "installation."),)))
+        "open (which side of its supply a pair's return lies, how a twisted run's untwisted ends "
+        "lie, its floor): give a run whose vector matters a separate return route, or measure "
+        "the compensation after installation."),)))
     return Document("per-amp", "Field per ampere at the electronic sensors",
                     (f"plan {analysis.plan.source}", f"unit {label}/A"), tuple(sections),
                     words.CAUTIONS, data=per_ampere_json(analysis, reports, unit), stamp=stamp(),
