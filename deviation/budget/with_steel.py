@@ -50,25 +50,29 @@ class SteelFigures:
 
 def _spread_generators(spread, scale, scalar, heel, pitch, cap, n_switched):
     """The pairs' lies as generators (P, K, G, 3), the largest ``cap - n_switched`` of them kept,
-    and the others counted apart as sizes (P, K), as :func:`.held._held` counts them."""
+    and the others counted apart as sizes (P, K), as :func:`.held._held` counts them: point by
+    point, so a point's figure does not depend on which other points are evaluated with it."""
     from .held import _attitude_size
 
     n_p = spread.shape[0]
     n_r, n_g = spread.shape[1:3]
     n_k = scale.shape[1]
-    weight = (np.linalg.norm(spread, axis=-1).max(axis=0)[:, :, None]
-              * np.abs(scale)[:, None, :]).max(axis=-1).reshape(-1)
-    room = max(0, cap - n_switched)
-    order = np.argsort(-weight, kind="stable")
-    keep = order[:room][weight[order[:room]] > 0]
-    rest = np.setdiff1d(np.flatnonzero(weight > 0), keep)
     flat = spread.reshape(n_p, n_r * n_g, 3)
-    run_of = np.repeat(np.arange(n_r), n_g)
-    kept = flat[:, keep][:, None] * np.abs(scale[run_of[keep]]).T[None, :, :, None]
+    amps = np.abs(scale)[np.repeat(np.arange(n_r), n_g)]                     # (R*G, K)
+    present = np.flatnonzero((np.abs(flat).max(axis=(0, 2), initial=0.0) > 0)
+                             & (amps.max(axis=1, initial=0.0) > 0))
+    flat, amps = flat[:, present], amps[present]
+    weight = np.linalg.norm(flat, axis=-1) * amps.max(axis=1, initial=0.0)[None, :]  # (P, n)
+    room = min(max(0, cap - n_switched), len(present))
+    order = np.argsort(-weight, axis=1, kind="stable")
+    keep = order[:, :room]                                                   # (P, room)
+    kept = (np.take_along_axis(flat, keep[..., None], axis=1)[:, None]
+            * np.transpose(amps[keep], (0, 2, 1))[..., None])               # (P, K, room, 3)
     apart = np.broadcast_to(scalar, (n_p, n_k)).copy()
-    if len(rest):
-        sizes = _attitude_size(flat[:, rest], heel, pitch)
-        apart += sizes @ np.abs(scale[run_of[rest]])
+    if room < len(present):
+        rest = np.ones(weight.shape, dtype=bool)
+        np.put_along_axis(rest, keep, False, axis=1)
+        apart += (_attitude_size(flat, heel, pitch) * rest) @ amps
     return kept, apart
 
 
@@ -258,8 +262,10 @@ def _held_in_used_states(case, used, parts, switched, reversing, h, z, heel, pit
                     pitch, cap)
     kk = np.flatnonzero(used)
     if len(kk):
-        kept, apart = _spread_generators(parts.spread_t, scale[:, kk], scalar[:, kk], heel, pitch,
-                                         cap, n_c)
+        # The generators kept are chosen over every state, as the whole evaluation chooses
+        # them, so the used states' figures are the same as there.
+        kept, apart = _spread_generators(parts.spread_t, scale, scalar, heel, pitch, cap, n_c)
+        kept, apart = kept[:, kk], apart[:, kk]
         sub = _Seen(*(getattr(seen, name)[:, kk] for name in
                       ("matrix", "matrix_generators", "fixed", "fixed_generators")))
         worst = _exact(_problems(fixed[:, kk], switched[:, kk], reversing, kept, apart, sub), h,
