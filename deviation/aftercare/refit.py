@@ -90,7 +90,7 @@ class TriggerFound:
     """An occasion for a swing that a refit meets, with what meets it.
 
     runs, circuits : the runs and circuits that changed (electrical system)
-    items : the magnetised items added, removed, moved or changed (ferrous)
+    items : the magnetised and steel items added, removed, moved or changed (ferrous)
     horizontal_before_t, horizontal_after_t : [T] the sites' H (location)
     field_change : the larger relative change of H and of Z/H (location)
     card_change_deg : [deg] the largest change the new site alone makes to a direction
@@ -188,6 +188,22 @@ def _item_differences(old, new):
     return how
 
 
+def _steel_differences(old, new):
+    """How a steel item of the plan's ``steel`` sheet changed (any change is a change of ferrous
+    metal for AC 43.13-1B par. 12-37a(2))."""
+    how = []
+    if not _same_array(old.position_m, new.position_m):
+        how.append("moved")
+    if (old.shape != new.shape or not _same_array(old.sizes_m, new.sizes_m)
+            or not _same_array(old.rotation, new.rotation) or old.wall_m != new.wall_m):
+        how.append("shape, size or axis changed")
+    if old.mu_low != new.mu_low or old.mu_high != new.mu_high:
+        how.append("permeability changed")
+    if old.states != new.states:
+        how.append("states changed")
+    return how
+
+
 def _circuit_changed(a, b) -> bool:
     def watts(c):
         return None if c.power_w is None else tuple(np.nan_to_num(c.power_w, nan=-1e300))
@@ -205,8 +221,8 @@ def swing_triggers(old: Plan, new: Plan, before, after,
       re-sized, re-returned or carrying other circuits; any circuit added, removed, or with
       other currents, loads, voltage or switching, whatever its effect at a sensor;
     * (2) "after any cockpit modification or major replacement involving ferrous metal": any
-      magnetised item added, removed, moved or changed (the plan does not say where the cockpit
-      ends, so every item counts);
+      magnetised item (``equipment``) or steel item (``steel``) added, removed, moved or
+      changed (the plan does not say where the cockpit ends, so every item counts);
     * (8) a "different geographic location with a major change": the site's H or Z/H changes by
       more than LOCATION_FIELD_CHANGE of its earlier value (rule of thumb, no published source),
       or the new site's field alone moves the card of the earlier installation by more than
@@ -237,6 +253,12 @@ def swing_triggers(old: Plan, new: Plan, before, after,
                     for k in old_items.keys() | new_items.keys()
                     if k not in old_items or k not in new_items
                     or _item_differences(old_items[k], new_items[k])})
+    old_steel = {name_key(s.name): s for s in old.steel}
+    new_steel = {name_key(s.name): s for s in new.steel}
+    items += sorted({(new_steel.get(k) or old_steel[k]).name
+                     for k in old_steel.keys() | new_steel.keys()
+                     if k not in old_steel or k not in new_steel
+                     or _steel_differences(old_steel[k], new_steel[k])})
     if items:
         found.append(TriggerFound(SwingTrigger.FERROUS, items=tuple(items)))
     h0, h1 = before.site.horizontal_t, after.site.horizontal_t

@@ -240,6 +240,39 @@ def test_an_added_run_and_a_moved_item_name_their_occasions(tmp_path):
     assert SwingTrigger.LOCATION not in found
 
 
+def test_a_steel_item_added_moved_or_changed_is_a_ferrous_occasion(tmp_path):
+    # 12-37a(2): "after any cockpit modification or major replacement involving ferrous metal".
+    # A steel item of the steel sheet is ferrous metal: adding one, moving one or changing its
+    # permeability band each meets the occasion, named by the item; an unchanged one does not.
+    def with_steel(*rows):
+        sheets = aircraft([["circuit", "cruise"], ["feed", 3]])
+        sheets["steel"] = [["item", "at", "shape", "size", "mu_low", "mu_high", "axis"],
+                           *(list(r) + [""] * (7 - len(r)) for r in rows)]
+        return sheets
+
+    seat = ["seat frame", "1.5, 0, -0.4", "box", "0.4 x 0.4 x 0.05", 100, 2000]
+    rail_row = ["seat rail", "1.5, 0.3, -0.5", "rod", "1 m x 20 mm", "", "", "x"]
+    unchanged = _refit(tmp_path, with_steel(seat), with_steel(seat))
+    assert unchanged.triggers == ()
+    added = {t.trigger: t for t in _refit(
+        tmp_path, with_steel(seat),
+        with_steel(seat, ["toolbox", "0.8, -0.3, -0.2", "box", "0.3 x 0.2 x 0.15", "", ""])
+    ).triggers}
+    assert added[SwingTrigger.FERROUS].items == ("toolbox",)
+    assert added[SwingTrigger.FERROUS].paragraph == "12-37a(2)"
+    assert SwingTrigger.ELECTRICAL not in added
+    moved = _refit(tmp_path, with_steel(seat), with_steel(
+        ["seat frame", "1.6, 0, -0.4", "box", "0.4 x 0.4 x 0.05", 100, 2000]))
+    assert [(t.trigger, t.items) for t in moved.triggers] == [
+        (SwingTrigger.FERROUS, ("seat frame",))]
+    assert moved.swing_advised
+    band = _refit(tmp_path, with_steel(seat), with_steel(
+        ["seat frame", "1.5, 0, -0.4", "box", "0.4 x 0.4 x 0.05", 100, 5000]))
+    assert [t.items for t in band.triggers] == [("seat frame",)]
+    removed = _refit(tmp_path, with_steel(seat, rail_row), with_steel(seat))
+    assert [t.items for t in removed.triggers] == [("seat rail",)]
+
+
 def test_a_large_change_of_location_is_an_occasion(tmp_path):
     # 12-37a(8). H from 20 to 12 µT: a 40 % change (beyond the 20 % rule of thumb). The earlier
     # installation's own field b (5 A under the compass, athwartships) reads atan2(b_E, H + b_N)
