@@ -23,7 +23,7 @@ from .budget import (
     parts_of_runs,
     sensor_figures,
 )
-from .constants import ISO25862_BIPOLAR_RADIUS_M
+from .constants import ISO25862_BIPOLAR_RADIUS_M, LOW_LAMBDA
 from .electronic import Standing, electronic_sensor
 from .physics.routing import hint_lay_m
 from .progress import counter
@@ -120,6 +120,8 @@ RULE_SOURCES = {
     "unknown-safe-distance": "ISO 25862 Annex E: items of unknown safe distance kept at least "
                              "5 m away",
     "inside-safe-distance": "IEC 60945 compass safe distance",
+    "low-lambda": f"λ below {LOW_LAMBDA}: rule of thumb, no published source; λ = 1 + (a + e)/2 "
+                  "of Poisson's equations (NGA Handbook of Magnetic Compass Adjustment, ch. III)",
     "compensation": "computed: the least-squares current compensation the host can learn from "
                     "the currents the plan says it measures",
 }
@@ -148,6 +150,17 @@ def rule_findings(analysis) -> tuple[RuleFinding, ...]:
                 found.append(RuleFinding(sensor.name, None, "inside-safe-distance", item.name,
                                          distance, item.safe_distance_m,
                                          label=item.safe_distance_for))
+        if compass:
+            # The steel's induced field cuts the needle's directive force to lambda H: the least
+            # lambda over the bands in a state the compass is used in.
+            lows = [s for s in result.states if s.used and s.lam_low is not None]
+            if lows:
+                least = min(lows, key=lambda s: s.lam_low)
+                if least.lam_low < LOW_LAMBDA:
+                    found.append(RuleFinding(sensor.name, least.state, "low-lambda",
+                                             fraction=float(least.lam_low),
+                                             figure=float(least.lam_low
+                                                          * analysis.site.horizontal_t)))
         if sensor.kind in VECTOR_ELECTRONIC_KINDS and sensor.measured_currents and \
                 not result.within_budget:
             # Over as installed: would the host's current compensation bring it within?

@@ -28,6 +28,12 @@ SAFE_DISTANCE_DEG_UT = {"standard": 5.4, "steering": 18.0}
 #: items of unknown safe distance kept at least this far away [m].
 ISO25862_BIPOLAR_RADIUS_M = 5.0
 
+#: Common practice, no source: a magnetic compass whose steel leaves the needle less than this
+#: share lambda of the Earth's horizontal force (lambda = 1 + (a + e)/2, Poisson's rods; NGA
+#: Handbook of Magnetic Compass Adjustment, ch. III) is sluggish. The handbook and the Admiralty
+#: manual discuss lambda but give no figure; this one is a rule of thumb and said so to the user.
+LOW_LAMBDA = 0.7
+
 #: Common practice, no source: keep high-current DC cables about this far from a heading sensor [m].
 PRACTICE_CLEARANCE_M = 1.0
 

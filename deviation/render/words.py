@@ -238,6 +238,11 @@ def finding_message(finding) -> str:
     if rule == "inside-safe-distance":
         return (f'"{finding.subject}" is {finding.distance_m:.2f} m from the sensor, inside its '
                 f"labelled {finding.label} compass safe distance of {finding.limit_m:.2f} m")
+    if rule == "low-lambda":
+        return (f"its steel items leave the needle only λ = {finding.fraction:.2f} of the Earth's "
+                f"horizontal force ({finding.figure * 1e6:.1f} µT of directive force): the "
+                "compass will be sluggish, slow to settle and easily swung by motion; mount it "
+                "further from the steel (deviation spot)")
     if rule == "compensation":
         outcome = ("within its budget: give the host the current measurement and learn the "
                    "compensation after installation, then check the residual"

@@ -306,3 +306,68 @@ def test_the_swing_sets_the_steels_coefficients_beside_the_fitted_ones(tmp_path)
     assert np.all(np.abs(unexplained[[0, 2, 3, 4]]) < 0.01)
     # Without the steel in the prediction the induced B (3.14 degrees) would be left over.
     assert state.predicted_deg[1] == pytest.approx(3.1, abs=0.1)
+
+
+def _ball_under_compass(tmp_path, depth_m, radius_m, mu):
+    sheets = straight_wire_plan(current=0.0)
+    sheets["sensors"][1][3] = 5.0
+    sheets["steel"] = [["item", "at", "shape", "size", "mu_low", "mu_high"],
+                       ["ball", f"0, 0, {-depth_m}", "sphere", 2 * radius_m, mu, mu]]
+    return api.check(read_plan(write_plan(tmp_path / f"p{depth_m}_{mu}", sheets)),
+                     remedies=False)
+
+
+def test_lambda_of_a_sphere_below_and_the_low_lambda_finding(tmp_path):
+    # A permeable sphere of radius a directly below the compass at r: its field at the compass is
+    # the dipole's, b = K (a/r)^3 (3 (F.u)u - F) with K = (µ-1)/(µ+2) (Jackson §5.11, §5.6), so
+    # the horizontal rods are a = e = -K (a/r)^3 and lambda = 1 + (a + e)/2 = 1 - K (a/r)^3.
+    # Below 0.7 (the rule of thumb the finding states) a finding names the compass and lambda.
+    from deviation.constants import LOW_LAMBDA
+
+    for depth, radius, mu in ((0.13, 0.1, 1000.0), (0.2, 0.1, "inf"), (0.13, 0.1, 5.0)):
+        analysis = _ball_under_compass(tmp_path, depth, radius, mu)
+        k = 1.0 if mu == "inf" else (mu - 1) / (mu + 2)
+        lam = 1 - k * (radius / depth) ** 3
+        (st,) = analysis.sensors[0].states
+        assert st.lam_low == pytest.approx(lam, rel=1e-9)
+        found = [f for f in analysis.findings if f.rule == "low-lambda"]
+        if lam < LOW_LAMBDA:
+            (finding,) = found
+            assert finding.sensor == "compass" and finding.fraction == pytest.approx(lam)
+            assert finding.figure == pytest.approx(lam * H_UT * 1e-6)
+            text = words_finding(finding)
+            assert f"λ = {lam:.2f}" in text and "rule of thumb, no published source" in text
+        else:
+            assert found == []
+
+
+def words_finding(finding):
+    from deviation.render import words
+
+    return words.finding_text(finding)
+
+
+def test_the_electronic_report_counts_the_steel_and_compensation_leaves_it(tmp_path):
+    # An electronic compass 1 m behind the check values' sphere (µr -> infinity), a wire under
+    # it whose current the host measures. The sphere's field is the dipole's (Jackson §5.6,
+    # §5.11): b = (a/r)^3 (3 (F.u) u - F), so its largest size over every orientation of F is
+    # 2 (a/r)^3 |F| (along u): the report's interference in the off state. Compensation learns
+    # the wire exactly (one circuit, measured), so what it leaves in the on state is the
+    # sphere's own worst deviation over headings, found by the test's own swing (dense).
+    from deviation.electronic import electronic_report
+
+    sheets = straight_wire_plan(current=0.0, states=[["circuit", "off", "on"],
+                                                     ["feed", 0.0, 10.0]])
+    sheets["sensors"] = [["sensor", "at", "kind", "budget_deg", "measured_currents"],
+                         ["compass", "0, 0, 0", "electronic compass", 5.0, "feed"]]
+    sheets["steel"] = [["item", "at", "shape", "size", "mu_low", "mu_high"],
+                       ["ball", "1, 0, 0", "sphere", 2 * RADIUS_M, "inf", "inf"]]
+    analysis = api.check(read_plan(write_plan(tmp_path / "e", sheets)), remedies=False)
+    (report,) = electronic_report(analysis)
+    off, on = report.states
+    total_ut = math.hypot(H_UT, Z_UT)
+    assert off.interference_t * 1e6 == pytest.approx(2 * RADIUS_M ** 3 * total_ut, rel=1e-9)
+    psi = np.arange(0.0, 360.0, 0.01)
+    own = np.abs(own_deviation_deg([1.0, 0.0, 0.0], psi)).max()
+    assert on.compensated_deg == pytest.approx(own, abs=0.011)
+    assert on.compensated_deg >= own - 1e-6                     # a bound, never below
