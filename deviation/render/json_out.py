@@ -217,7 +217,7 @@ def spots_json(search):
             "step_m": search.step_m}
 
 
-def cards_json(cards):
+def cards_json(cards, plan=None):
     """The result of ``card --json``: per sensor and state, the figure at each heading with the
     band parts of unknown direction allow, and the state's held figure (in the budget's unit)."""
     out = []
@@ -243,7 +243,8 @@ def cards_json(cards):
                 for st in c.states],
             "profile": c.profile, "step_deg": c.step_deg,
             "placard": [words.placard_text(line) for line in c.placard]})
-    return {"sensors": out, "cautions": list(CAUTIONS)}
+    return {"sensors": out,
+            "cautions": list(CAUTIONS if plan is None else words.cautions(plan))}
 
 
 def condition_json(condition):

@@ -117,7 +117,8 @@ def cards_document(analysis, cards) -> Document:
                      for c in cards)
     return Document("card", "Predicted deviation card",
                     (f"plan {analysis.plan.source}", f"site {words.site_line(analysis.site)}"),
-                    sections, words.cautions(analysis.plan), data=cards_json(cards), stamp=stamp(),
+                    sections, words.cautions(analysis.plan), data=cards_json(cards, analysis.plan),
+                    stamp=stamp(),
                     paper=paper_for(analysis.plan))
 
 
@@ -212,5 +213,5 @@ def postable_document(analysis, cards, paper="A5") -> Document:
     steered = [c for c in cards if c.steers]
     sections = tuple(postable_section(c, analysis.plan) for c in steered)
     return Document("postable card", "Deviation card", (), sections, (),
-                    data=cards_json(cards), stamp=stamp(), paper=paper,
+                    data=cards_json(cards, analysis.plan), stamp=stamp(), paper=paper,
                     landscape=paper == "A6")

@@ -284,10 +284,15 @@ def per_ampere_document(analysis, reports, unit="uT") -> Document:
         "Vectors are the part of known direction. ± unknown is the size of what the plan leaves "
         "open (which side of its supply a pair's return lies, how a twisted run's untwisted ends "
         "lie, its floor): give a run whose vector matters a separate return route, or measure "
-        "the compensation after installation."),)))
+        "the compensation after installation."),) + ((Paragraph(
+        "Steel items are not in these tables: the field the Earth's field induces in them does "
+        "not depend on the currents, so current compensation leaves it whole; it turns with the "
+        "heading and is in the held figures of deviation check and deviation electronic."),)
+        if analysis.plan.steel else ())))
     return Document("per-amp", "Field per ampere at the electronic sensors",
                     (f"plan {analysis.plan.source}", f"unit {label}/A"), tuple(sections),
-                    words.CAUTIONS, data=per_ampere_json(analysis, reports, unit), stamp=stamp(),
+                    words.cautions(analysis.plan), data=per_ampere_json(analysis, reports, unit),
+                    stamp=stamp(),
                     paper=paper_for(analysis.plan), landscape=True)
 
 

@@ -106,7 +106,7 @@ def spots_document(search, plan, seconds=None) -> Document:
     return Document("spot", title, (f"plan {plan.source}",
                                     f"sensor {sensor.name}: {sensor.kind}, budget "
                                     f"{sensor.budget}; {words.held_figure(sensor)}"),
-                    (section,), words.CAUTIONS, recap=_recap(search, lengths),
+                    (section,), words.cautions(plan), recap=_recap(search, lengths),
                     data=spots_data(search), stamp=stamp(), paper=paper_for(plan))
 
 
