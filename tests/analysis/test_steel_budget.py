@@ -371,3 +371,36 @@ def test_the_electronic_report_counts_the_steel_and_compensation_leaves_it(tmp_p
     own = np.abs(own_deviation_deg([1.0, 0.0, 0.0], psi)).max()
     assert on.compensated_deg == pytest.approx(own, abs=0.011)
     assert on.compensated_deg >= own - 1e-6                     # a bound, never below
+
+
+def test_the_lies_kept_for_the_exact_search_are_chosen_point_by_point():
+    # A point's held figure must not depend on the points evaluated with it (the spot search
+    # evaluates thousands at once, check one). Each point keeps its own largest generators
+    # (|g| times the run's largest current) and counts the rest apart by their level size
+    # |g_h| times each state's current (the triangle inequality), recomputed here by hand.
+    from deviation.budget.with_steel import _spread_generators
+
+    rng = np.random.default_rng(7)
+    n_p, n_r, n_g, n_k, cap, n_c = 5, 6, 2, 3, 6, 2
+    spread = rng.normal(size=(n_p, n_r, n_g, 3)) * rng.uniform(0.1, 3.0, (n_p, n_r, 1, 1))
+    scale = rng.uniform(-4.0, 4.0, (n_r, n_k))
+    scalar = rng.uniform(0.0, 1.0, (n_p, n_k))
+    kept, apart = _spread_generators(spread, scale, scalar, 0.0, 0.0, cap, n_c)
+    room = cap - n_c
+    assert kept.shape == (n_p, n_k, room, 3)
+    for p in range(n_p):
+        alone_kept, alone_apart = _spread_generators(spread[p:p + 1], scale, scalar[p:p + 1],
+                                                     0.0, 0.0, cap, n_c)
+        np.testing.assert_array_equal(alone_kept[0], kept[p])
+        np.testing.assert_allclose(alone_apart[0], apart[p], rtol=1e-14)
+        weight = np.linalg.norm(spread[p], axis=-1) * np.abs(scale).max(axis=1)[:, None]
+        order = np.argsort(-weight.reshape(-1), kind="stable")
+        flat = spread[p].reshape(-1, 3)
+        runs = np.repeat(np.arange(n_r), n_g)
+        for k in range(n_k):
+            expected = flat[order[:room]] * np.abs(scale[runs[order[:room]], k])[:, None]
+            np.testing.assert_allclose(kept[p, k], expected, rtol=1e-14)
+            rest = order[room:]
+            by_hand = scalar[p, k] + sum(np.hypot(*flat[j, :2]) * abs(scale[runs[j], k])
+                                         for j in rest)
+            assert apart[p, k] == pytest.approx(by_hand, rel=1e-12)
