@@ -24,7 +24,6 @@ from .equipment import (  # noqa: F401
 )
 from .figures import TESLA_PER_NT, RunFigures, SensorFigures, sensor_figures  # noqa: F401
 from .held import (  # noqa: F401
-    SEARCH_EXACT_GENERATORS,
     Figures,
     _attitude_size,
     _held,
