@@ -89,8 +89,13 @@ def _as_segments(start_m, end_m, current_a, radius_m):
         raise ValueError(f"current_a has {current.shape[0]} rows for {len(start)} segments")
     radius = np.broadcast_to(np.asarray(radius_m, dtype=float), (len(start),))
     # A zero-length segment carries no field; dropping it also keeps the on-axis test well posed.
-    length2 = np.einsum("ij,ij->i", end - start, end - start)
+    axis = end - start
+    length2 = np.einsum("ij,ij->i", axis, axis)
+    del axis
     keep = length2 > 0
+    if keep.all():                 # the usual case: the arrays as given, no copies
+        return (start, end, np.ascontiguousarray(current), radius ** 2, length2,
+                np.arange(len(start)), single_state)
     index = np.flatnonzero(keep)
     return (start[keep], end[keep], np.ascontiguousarray(current[keep]), radius[keep] ** 2,
             length2[keep], index, single_state)
