@@ -17,10 +17,10 @@ from .budget import (
     asin_deg,
     circuit_currents,
     equipment_fields,
+    fields_routed_in_turn,
     item_effect,
     nearest_by_run,
     parts_of_runs,
-    run_fields_at,
     sensor_figures,
 )
 from .constants import (
@@ -31,7 +31,7 @@ from .constants import (
 )
 from .errors import Problem
 from .physics import heading
-from .physics.routing import Conductors, route_runs
+from .physics.routing import Conductors
 from .physics.total_field import total_field_error_range
 from .plan import Finding, Plan, PlanError, Sensor, conductors_of, frozen_array
 from .progress import counter
@@ -447,8 +447,8 @@ def _ends_shares(plan, points, unit_t):
     twisted = [i for i, r in enumerate(plan.runs) if r.geometry.return_kind == "twisted"]
     if not twisted:
         return shares
-    helix, _ = run_fields_at(route_runs([replace(plan.runs[i].geometry, untwisted_end_m=0.0)
-                                         for i in twisted]), len(twisted), points, nearest=False)
+    helix = fields_routed_in_turn([replace(plan.runs[i].geometry, untwisted_end_m=0.0)
+                                   for i in twisted], points)
     for j, r in enumerate(twisted):
         size = np.linalg.norm(unit_t[:, r], axis=-1)
         ends = np.linalg.norm(unit_t[:, r] - helix[:, j], axis=-1)

@@ -36,6 +36,7 @@ from .runs import (  # noqa: F401
     MAX_EXACT_GENERATORS_LEVEL,
     SPREAD_GENERATORS,
     RunParts,
+    fields_routed_in_turn,
     nearest_by_run,
     parts_of_runs,
     run_fields_at,

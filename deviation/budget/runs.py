@@ -56,6 +56,55 @@ def run_fields_at(conductors, n_runs, points_m, *, nearest=True, inside=None, ne
     return unit, np.full((len(points), n_runs), np.inf)
 
 
+def fields_routed_in_turn(geometries, points_m):
+    """Each run's field at unit current [T/A], (P, R, 3), for runs not routed yet: the same
+    numbers as ``run_fields_at(route_runs(geometries), len(geometries), points_m)[0]``, without
+    holding every run's segments at once where the job is large.
+
+    The runs are routed one by one. Once those routed hold enough segment-point pairs for the
+    compiled kernel (so the whole job would take it), their field is taken and their segments
+    let go; the compiled kernel sums each run's segments on their own, so a run's field does
+    not depend on the runs taken with it. A job too small for the kernel is taken whole, as
+    before.
+    """
+    from ..physics.field import COMPILED_MIN_PAIRS, auto_compiled
+
+    points = np.asarray(points_m, dtype=float).reshape(-1, 3)
+    field = np.zeros((len(points), len(geometries), 3))
+    held, first, segments = [], 0, 0
+
+    def take(upto, backend):
+        routed = _joined(held)
+        field[:, first:upto] = segment_field_by_group(
+            routed.start_m, routed.end_m, routed.sign, routed.run_index, upto - first, points,
+            radius_m=routed.radius_m, backend=backend)[0]
+
+    for i, geometry in enumerate(geometries):
+        held.append(route_runs([geometry]))
+        segments += len(held[-1])
+        if len(points) and auto_compiled(segments * len(points), COMPILED_MIN_PAIRS):
+            take(i + 1, "compiled")
+            held, first, segments = [], i + 1, 0
+    if held:
+        if first == 0:                       # never large enough: the whole job, as before
+            routed = _joined(held)
+            return run_fields_at(routed, len(geometries), points, nearest=False)[0]
+        take(len(geometries), "compiled")
+    return field
+
+
+def _joined(pieces):
+    """One Conductors of several routed single runs, numbered in order."""
+    from ..physics.routing import Conductors
+
+    return Conductors(np.concatenate([c.start_m for c in pieces]).reshape(-1, 3),
+                      np.concatenate([c.end_m for c in pieces]).reshape(-1, 3),
+                      np.concatenate([c.sign for c in pieces]),
+                      np.concatenate([np.full(len(c), k) for k, c in enumerate(pieces)]),
+                      np.concatenate([c.radius_m for c in pieces]),
+                      [name for c in pieces for name in c.run_names])
+
+
 #: Harmonics of a turning part's field whose ellipses the exact worst-case search sees (each as
 #: the four generators of its circumscribed octagon): two for a pair of unknown lie, one for each
 #: untwisted end of a twisted run. Higher harmonics are counted by size (see :func:`turn_cover`).

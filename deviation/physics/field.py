@@ -77,7 +77,14 @@ class InsideConductorError(ValueError):
         )
 
 
+#: Segments whose lengths are found at a time (bounds the temporary).
+_LENGTH_BLOCK = 65_536
+
+
 def _as_segments(start_m, end_m, current_a, radius_m):
+    """The segments as contiguous float arrays, those of zero length left out: start, end,
+    current (S, K), radius squared, length squared, the index of each kept segment among those
+    given (None when every one is kept), and whether the current had one state."""
     start = np.ascontiguousarray(start_m, dtype=float).reshape(-1, 3)
     end = np.ascontiguousarray(end_m, dtype=float).reshape(-1, 3)
     if start.shape != end.shape:
@@ -89,13 +96,14 @@ def _as_segments(start_m, end_m, current_a, radius_m):
         raise ValueError(f"current_a has {current.shape[0]} rows for {len(start)} segments")
     radius = np.broadcast_to(np.asarray(radius_m, dtype=float), (len(start),))
     # A zero-length segment carries no field; dropping it also keeps the on-axis test well posed.
-    axis = end - start
-    length2 = np.einsum("ij,ij->i", axis, axis)
-    del axis
+    length2 = np.empty(len(start))
+    for s0 in range(0, len(start), _LENGTH_BLOCK):       # no (S, 3) temporary for a big plan
+        axis = end[s0:s0 + _LENGTH_BLOCK] - start[s0:s0 + _LENGTH_BLOCK]
+        length2[s0:s0 + _LENGTH_BLOCK] = np.einsum("ij,ij->i", axis, axis)
     keep = length2 > 0
     if keep.all():                 # the usual case: the arrays as given, no copies
-        return (start, end, np.ascontiguousarray(current), radius ** 2, length2,
-                np.arange(len(start)), single_state)
+        return (start, end, np.ascontiguousarray(current), radius ** 2, length2, None,
+                single_state)
     index = np.flatnonzero(keep)
     return (start[keep], end[keep], np.ascontiguousarray(current[keep]), radius[keep] ** 2,
             length2[keep], index, single_state)
@@ -170,7 +178,7 @@ def segment_field(start_m, end_m, current_a, points_m, *, radius_m=0.0, return_i
     if inside.any() and not return_inside:
         p = int(np.flatnonzero(inside)[0])
         s, distance = _nearest_segment(start, end, points[p])
-        raise InsideConductorError(p, index[s], distance)
+        raise InsideConductorError(p, s if index is None else index[s], distance)
     if single:
         field = field[:, 0, :]
     return (field, inside) if return_inside else field
@@ -255,11 +263,11 @@ def segment_field_by_group(start_m, end_m, weight, group, n_groups, points_m, *,
     The same closed form as :func:`segment_field`; the sum over segments is taken per group.
     """
     group = np.asarray(group)
-    if np.any(np.diff(group) < 0):
+    if np.any(group[1:] < group[:-1]):
         raise ValueError("segments must be sorted by group")
     start, end, weight2, radius2, length2, index, _ = _as_segments(start_m, end_m, weight, radius_m)
     weight = weight2[:, 0]
-    group = group[index]
+    group = group if index is None else group[index]
     points = np.ascontiguousarray(points_m, dtype=float).reshape(-1, 3)
     field = np.zeros((len(points), n_groups, 3))
     inside = np.zeros((len(points), n_groups), dtype=bool)

@@ -109,19 +109,26 @@ class Conductors:
 
 def route_runs(runs) -> Conductors:
     """Segments of every run (a sequence of :class:`RunGeometry`)."""
-    starts, ends, signs, owners, radii = [], [], [], [], []
-    for index, run in enumerate(runs):
+    runs = list(runs)
+    starts, ends, signs = [], [], []
+    for run in runs:
         start, end, sign = route_run(run)
         starts.append(start)
         ends.append(end)
         signs.append(sign)
-        owners.append(np.full(len(sign), index))
-        radii.append(np.full(len(sign), run.radius_m))
     if not starts:
         empty = np.zeros((0, 3))
         return Conductors(empty, empty, np.zeros(0), np.zeros(0, dtype=int), np.zeros(0), [])
-    return Conductors(np.concatenate(starts), np.concatenate(ends), np.concatenate(signs),
-                      np.concatenate(owners), np.concatenate(radii), [r.name for r in runs])
+    counts = [len(sign) for sign in signs]
+    # Each list let go as soon as it is joined: the runs' pieces and the joined arrays are not
+    # all held at once (a big plan's helices are hundreds of MB).
+    joined = []
+    for pieces in (starts, ends, signs):
+        joined.append(np.concatenate(pieces))
+        pieces.clear()
+    owners = np.repeat(np.arange(len(runs)), counts)
+    radii = np.repeat(np.array([float(run.radius_m) for run in runs]), counts)
+    return Conductors(*joined, owners, radii, [r.name for r in runs])
 
 
 def route_run(run: RunGeometry):
