@@ -23,6 +23,7 @@ import numpy as np
 from .analysis import evaluate_sensor, parts_at
 from .budget import SEARCH_EXACT_GENERATORS, circuit_currents, equipment_fields, sensor_figures
 from .errors import DeviationError
+from .plan import Sensor
 from .progress import counter
 
 #: Largest number of points in the coarse stage.
@@ -77,7 +78,7 @@ class SpotSearch:
         Candidates of a ranking left out by the volumes: (spot name, why).
     """
 
-    sensor: object
+    sensor: Sensor
     spots: tuple
     current: Spot | None              # the sensor's own position, for comparison
     evaluated: int                    # positions whose figure was computed
