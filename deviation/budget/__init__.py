@@ -24,7 +24,6 @@ from .equipment import (  # noqa: F401
 )
 from .figures import TESLA_PER_NT, RunFigures, SensorFigures, sensor_figures  # noqa: F401
 from .held import (  # noqa: F401
-    SEARCH_EXACT_GENERATORS,
     Figures,
     _attitude_size,
     _held,
@@ -37,6 +36,7 @@ from .runs import (  # noqa: F401
     MAX_EXACT_GENERATORS_LEVEL,
     SPREAD_GENERATORS,
     RunParts,
+    nearest_by_run,
     parts_of_runs,
     run_fields_at,
     turn_cover,

@@ -81,7 +81,7 @@ class SensorFigures:
 
 def sensor_figures(plan, sensor, site, parts: RunParts, points_m=None, *,
                    items: EquipmentFields | None = None, currents: CircuitCurrents | None = None,
-                   per_run: bool = False,
+                   per_run: bool = False, held_only: bool = False,
                    exact_generators=(MAX_EXACT_GENERATORS_LEVEL, MAX_EXACT_GENERATORS_ATTITUDE)
                    ) -> SensorFigures:
     """Every figure a sensor needs at P points: the one entry to the budget's rules.
@@ -103,6 +103,9 @@ def sensor_figures(plan, sensor, site, parts: RunParts, points_m=None, *,
         The plan's currents, if already split.
     per_run : bool
         Also each run alone (P must be 1).
+    held_only : bool
+        Only what the held figure needs (a search over many positions), as
+        :func:`deviation.budget.held.budget_figures`; the held figure is the same number.
     exact_generators : (int, int)
         As :func:`deviation.budget.held.budget_figures`.
     """
@@ -121,7 +124,7 @@ def sensor_figures(plan, sensor, site, parts: RunParts, points_m=None, *,
                                 scalar.combination, total, scalar.bound_t, None, scalar)
     else:
         degrees = budget_figures(plan, sensor, h, parts, items, exact_generators=exact_generators,
-                                 currents=split)
+                                 currents=split, held_only=held_only)
         figures = SensorFigures(Unit.DEGREES, degrees.budget_used_deg, degrees.within_budget,
                                 degrees.overwhelmed, degrees.combination, degrees.total_t,
                                 degrees.bound_t, degrees, None)

@@ -22,11 +22,25 @@ from ..physics.worst_case import worst_combination
 KNOWN_LIE_TURNS_DEG = {"side by side": (0.0, 180.0), "one above the other": (90.0, 270.0)}
 
 
-def run_fields_at(conductors, n_runs, points_m, *, nearest=True, inside=None):
+def nearest_by_run(conductors, n_runs, distance):
+    """(P, R) [m] each run's nearest conductor, from the distances (P, S) [m] of each point to
+    each routed segment (:func:`deviation.physics.field.point_segment_distance`); infinite for
+    a run without segments."""
+    distance_to = np.full((len(distance), n_runs), np.inf)
+    if len(conductors):
+        firsts = np.flatnonzero(np.r_[True, np.diff(conductors.run_index) != 0])
+        distance_to[:, conductors.run_index[firsts]] = np.minimum.reduceat(distance, firsts,
+                                                                           axis=1)
+    return distance_to
+
+
+def run_fields_at(conductors, n_runs, points_m, *, nearest=True, inside=None, nearest_m=None):
     """Field of each run at unit current [T/A], shape (P, R, 3), and nearest distances (P, R) [m]
     (infinite when ``nearest`` is False: the distances cost as much as the fields).
 
     ``inside``, a (P,) bool array if given, is set where a point lies inside a conductor.
+    ``nearest_m`` (P, R) [m], if given, are the nearest distances already found
+    (:func:`nearest_by_run`), returned as they are.
     """
     points = np.asarray(points_m, dtype=float).reshape(-1, 3)
     unit, hit = segment_field_by_group(conductors.start_m, conductors.end_m, conductors.sign,
@@ -34,13 +48,12 @@ def run_fields_at(conductors, n_runs, points_m, *, nearest=True, inside=None):
                                        radius_m=conductors.radius_m)
     if inside is not None:
         inside |= hit.any(axis=1)
-    distance_to = np.full((len(points), n_runs), np.inf)
+    if nearest_m is not None:
+        return unit, nearest_m
     if len(conductors) and nearest:
         distance = point_segment_distance(conductors.start_m, conductors.end_m, points)
-        firsts = np.flatnonzero(np.r_[True, np.diff(conductors.run_index) != 0])
-        distance_to[:, conductors.run_index[firsts]] = np.minimum.reduceat(distance, firsts,
-                                                                           axis=1)
-    return unit, distance_to
+        return unit, nearest_by_run(conductors, n_runs, distance)
+    return unit, np.full((len(points), n_runs), np.inf)
 
 
 #: Harmonics of a turning part's field whose ellipses the exact worst-case search sees (each as
@@ -510,11 +523,12 @@ def _turned_part_covers(turning, points, harmonics, *, refine=True, circle=True)
     return centre, generators, bound, at_zero, reach
 
 
-def parts_of_runs(runs, points_m, conductors=None, *, nearest=True) -> RunParts:
+def parts_of_runs(runs, points_m, conductors=None, *, nearest=True, nearest_m=None) -> RunParts:
     """:class:`RunParts` of some runs (the plan's :class:`~deviation.plan.Run` values).
 
     ``conductors``, if given, are the runs already routed (``plan.conductors_of``); ``nearest``
-    False leaves the nearest distances out (a search over many points does not need them).
+    False leaves the nearest distances out (a search over many points does not need them);
+    ``nearest_m`` gives them, already found (:func:`nearest_by_run`).
 
     Notes
     -----
@@ -529,7 +543,8 @@ def parts_of_runs(runs, points_m, conductors=None, *, nearest=True) -> RunParts:
     geometries = [r.geometry for r in runs]
     routed = conductors if conductors is not None else route_runs(geometries)
     inside = np.zeros(len(points), dtype=bool)
-    unit, nearest_m = run_fields_at(routed, len(runs), points, nearest=nearest, inside=inside)
+    unit, nearest_m = run_fields_at(routed, len(runs), points, nearest=nearest, inside=inside,
+                                    nearest_m=nearest_m)
     n_p, n_r = unit.shape[:2]
     spread = np.zeros((n_p, n_r, SPREAD_GENERATORS, 3))
     bound = np.zeros((n_p, n_r))

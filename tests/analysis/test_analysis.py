@@ -171,3 +171,18 @@ def test_heeled_figure_is_exact_worst_over_heel(plan_dir):
     exact = heading.max_heeled_deviation_deg(st.field_t, 20e-6, 30)
     assert st.heeled_max_deviation_deg == pytest.approx(float(exact))
     assert st.held == st.heeled_max_deviation_deg
+
+
+def test_the_distances_found_once_give_each_runs_nearest_as_found_afresh():
+    # analyse finds the sensors' distances to every segment once, for the inside-a-conductor
+    # check and each run's nearest distance; the same numbers as parts_at finding them itself
+    # (min over the run's segments of the point-segment distance), to the bit.
+    from deviation.analysis import parts_at
+
+    plan = read_plan(SAMPLES / "cruising_sailboat")
+    analysis = analyse(plan)
+    positions = np.array([s.position_m for s in plan.sensors])
+    afresh = parts_at(plan, positions).nearest_m
+    for i, result in enumerate(analysis.sensors):
+        found = {run.name: run.nearest_m for run in result.states[0].runs}
+        assert [found[run.name] for run in plan.runs] == afresh[i].tolist()
