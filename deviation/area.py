@@ -13,8 +13,11 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 
+from .analysis import Analysis
 from .errors import DeviationError
+from .plan import Plan
 from .quantities import Unit
+from .sitefield import SiteField
 
 
 @dataclass(frozen=True)
@@ -24,8 +27,8 @@ class PlaceResult:
     name: str
     latitude_deg: float
     longitude_deg: float
-    site: object                     # SiteField
-    analysis: object                 # Analysis
+    site: SiteField
+    analysis: Analysis
     reports: tuple                   # electronic.ElectronicSensor
     within_budget: bool
 
@@ -44,7 +47,7 @@ class Worst:
 
 @dataclass(frozen=True)
 class AreaResult:
-    plan: object
+    plan: Plan
     places: tuple[PlaceResult, ...]
     worst: tuple[Worst, ...]
     verdict_changes: bool            # within at some places, over at others
@@ -64,7 +67,7 @@ def plan_at(plan, latitude_deg: float, longitude_deg: float):
     return replace(plan, site=site)
 
 
-def places_of(plan) -> list[tuple[str, float, float, object]]:
+def places_of(plan) -> list[tuple[str, float, float, Plan]]:
     """(name, latitude, longitude, plan) of the site and every place of the area."""
     site = plan.site
     out = []
@@ -119,7 +122,7 @@ def area_check(plan) -> AreaResult:
         analysis = check(moved, remedies=False)
         places.append(PlaceResult(name, latitude, longitude, analysis.site, analysis,
                                   electronic_report(analysis), analysis.within_budget))
-    worst = {}
+    worst: dict[tuple[str, str], tuple[float, str, str]] = {}
     for place in places:
         for sensor, figure, value, unit in _figures(place):
             key = (sensor, figure)

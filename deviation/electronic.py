@@ -44,7 +44,7 @@ from .physics.total_field import (
     inclination_over_switchings,
 )
 from .physics.worst_case import worst_combination
-from .plan import name_key
+from .plan import Sensor, name_key
 from .schema import TOTAL_FIELD_KIND, VECTOR_ELECTRONIC_KINDS
 
 #: Kinds this module reports on.
@@ -370,7 +370,7 @@ class Grade:
 class ElectronicSensor:
     """The electronic-sensor figures of one sensor (see the module docstring)."""
 
-    sensor: object
+    sensor: Sensor
     per_ampere: tuple[PerAmpere, ...]
     compensation: Compensation | None
     grade: Grade | None                  # vector sensors only
@@ -504,8 +504,7 @@ def electronic_states(plan, result, site, compensation) -> tuple[ElectronicState
         out.append(ElectronicState(state, sensor.used_in_state(state), size, size / total, c_h,
                                    c_deg, c_fraction, field, inclination, ok,
                                    float(bound[k] - item_bound[k]),
-                                   None if compensated is None
-                                   else max(0.0, c_h - float(known[k]))))
+                                   None if c_h is None else max(0.0, c_h - float(known[k]))))
     return tuple(out)
 
 

@@ -27,6 +27,7 @@ from .analysis import evaluate_sensor, parts_at
 from .budget import circuit_currents, equipment_fields, sensor_figures
 from .errors import DeviationError
 from .physics.field import one_path_at_any_size
+from .plan import Sensor
 from .progress import counter
 
 #: Largest number of points in the coarse stage.
@@ -81,7 +82,7 @@ class SpotSearch:
         Candidates of a ranking left out by the volumes: (spot name, why).
     """
 
-    sensor: object
+    sensor: Sensor
     spots: tuple
     current: Spot | None              # the sensor's own position, for comparison
     evaluated: int                    # positions whose figure was computed

@@ -4,6 +4,7 @@ and every part of unknown direction."""
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -172,7 +173,10 @@ def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: Equipment
     vector = absolute = attitude = change = attitude_change = None
     if not (held_only and adjusted):
         # Level, the search is the same as without attitude: done once, its switching kept.
-        level = level_apart = None
+        # None where held_only skips a search whose figure is not asked for (typed Any: the
+        # skipped one is never read).
+        level: Any = None
+        level_apart: Any = None
         if not (held_only and tilt):
             level, choice, level_apart = held(base, scale, scalar, 0.0, 0.0, cap_level)
         tilted, tilted_apart = level, level_apart
@@ -190,7 +194,8 @@ def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: Equipment
         residual = base - base[:, k:k + 1, :]
         moved = split.scale_a(k)
         changing = parts.bound_t @ moved + items.changing
-        level_r = level_r_apart = None
+        level_r: Any = None
+        level_r_apart: Any = None
         if not (held_only and tilt):
             level_r, choice, level_r_apart = held(residual, moved, changing, 0.0, 0.0,
                                                   cap_level)

@@ -641,6 +641,13 @@ def parts_of_runs(runs, points_m, conductors=None, *, nearest=True, nearest_m=No
     return RunParts(unit, spread, bound, nearest_m, inside)
 
 
+def _one_group_field(fixed, points):
+    """(P, 3) [T per A]: the field of one fixed part's segments ``(start, end, weight, ...)``."""
+    start, end, weight = fixed[0], fixed[1], fixed[2]
+    group = np.zeros(len(weight), dtype=int)
+    return segment_field_by_group(start, end, weight, group, 1, points)[0][:, 0]
+
+
 def twisted_floor(runs, points, unit_t, spread_t, bound_t):
     r"""(P, n) [T/A] what the floor adds to each twisted run's bound of unknown direction.
 
@@ -670,10 +677,8 @@ def twisted_floor(runs, points, unit_t, spread_t, bound_t):
     # An upper bound on the pair is all the floor needs: sampled once, no circle.
     centre, generators, extra, _, _ = _turned_part_covers(turning, points, PAIR_HARMONICS,
                                                           refine=False, circle=False)
-    supply = np.stack([segment_field_by_group(*fixed[:2], fixed[2], np.zeros(len(fixed[2]),
-                                                                              dtype=int),
-                                              1, points)[0][:, 0]
-                       for fixed, _ in fixed_parts], axis=1)                  # (P, n, 3)
+    supply = np.stack([_one_group_field(fixed, points) for fixed, _ in fixed_parts],
+                      axis=1)                                                 # (P, n, 3)
     # Each octagon of generators tan(pi/8) (cos(j pi/4) U + sin(j pi/4) W) lies within
     # 1/cos(pi/8) of its ellipse, whose farthest point is the largest singular value of [U W].
     blocks = generators.reshape(generators.shape[:-2] + (-1, 4, 3))
