@@ -71,7 +71,8 @@ def fields_routed_in_turn(geometries, points_m):
 
     points = np.asarray(points_m, dtype=float).reshape(-1, 3)
     field = np.zeros((len(points), len(geometries), 3))
-    held, first, segments = [], 0, 0
+    held: list = []
+    first, segments = 0, 0
 
     def take(upto, backend):
         routed = _joined(held)

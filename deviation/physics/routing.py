@@ -122,13 +122,15 @@ def route_runs(runs) -> Conductors:
     counts = [len(sign) for sign in signs]
     # Each list let go as soon as it is joined: the runs' pieces and the joined arrays are not
     # all held at once (a big plan's helices are hundreds of MB).
-    joined = []
-    for pieces in (starts, ends, signs):
-        joined.append(np.concatenate(pieces))
-        pieces.clear()
+    start = np.concatenate(starts)
+    starts.clear()
+    end = np.concatenate(ends)
+    ends.clear()
+    sign = np.concatenate(signs)
+    signs.clear()
     owners = np.repeat(np.arange(len(runs)), counts)
     radii = np.repeat(np.array([float(run.radius_m) for run in runs]), counts)
-    return Conductors(*joined, owners, radii, [r.name for r in runs])
+    return Conductors(start, end, sign, owners, radii, [r.name for r in runs])
 
 
 def route_run(run: RunGeometry):
