@@ -14,7 +14,7 @@ from ..physics.field import (
     point_segment_distance,
     segment_field_by_group,
 )
-from ..physics.routing import as_paired, route_runs, turning_run
+from ..physics.routing import as_paired, route_runs, turning_parts, turning_run
 from ..physics.worst_case import worst_combination
 
 #: The turns [deg] at which each lie of a pair puts its return (from "left of travel" towards
@@ -606,7 +606,7 @@ def parts_of_runs(runs, points_m, conductors=None, *, nearest=True, nearest_m=No
         g = run.geometry
         if g.return_kind not in ("paired", "twisted"):
             continue
-        _, parts = turning_run(g)
+        parts = turning_parts(g)
         if g.return_kind == "paired" and getattr(run, "lie", "not known") in KNOWN_LIE_TURNS_DEG:
             known.append((i, parts[0], KNOWN_LIE_TURNS_DEG[run.lie],
                           math.radians(g.return_angle_deg)))

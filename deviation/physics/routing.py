@@ -27,6 +27,7 @@ segment (through the load and the source), as the real current is.
 
 from __future__ import annotations
 
+import weakref
 from dataclasses import dataclass, field, replace
 
 import numpy as np
@@ -145,9 +146,36 @@ def route_run(run: RunGeometry):
         return _closed_circuit(route, offset_polyline(route, run.spacing_m,
                                                       run.return_angle_deg), 1.0, -1.0)
     if run.return_kind == "twisted":
-        supply, back = twisted_conductors(route, run.spacing_m, run.lay_m, run.untwisted_end_m)
+        supply, back, turn, end_of = _twisted_with_ends(route, run.spacing_m, run.lay_m,
+                                                        run.untwisted_end_m, CHORDS_PER_LAY)
+        if not np.all(end_of < 0):
+            _remember_parts(run, _twisted_split(supply, back, turn, end_of)[1])
         return _closed_circuit(supply, back, 1.0, -1.0)
     raise ValueError(f"unknown return kind {run.return_kind!r}; expected one of {RETURN_KINDS}")
+
+
+#: The turning parts of each twisted run routed (its untwisted ends: a few segments), kept while
+#: its geometry lives: routing a run and finding its turning parts then make its helices once.
+_TWISTED_PARTS: dict = {}
+
+
+def _remember_parts(run, parts):
+    key = id(run)
+
+    def forget(_reference, key=key):
+        _TWISTED_PARTS.pop(key, None)
+
+    _TWISTED_PARTS[key] = (weakref.ref(run, forget), parts)
+
+
+def turning_parts(run: RunGeometry):
+    """The parts of a run that turn about its axis: ``turning_run(run)[1]``, the same values,
+    without routing a twisted run again when it has been routed (:func:`route_run`)."""
+    if run.return_kind == "twisted":
+        kept = _TWISTED_PARTS.get(id(run))
+        if kept is not None and kept[0]() is run:
+            return kept[1]
+    return turning_run(run)[1]
 
 
 def _polyline(points, sign):
@@ -566,18 +594,25 @@ def turning_run(run: RunGeometry):
                                                     run.untwisted_end_m, CHORDS_PER_LAY)
     if np.all(end_of < 0):
         return _closed_circuit(supply, back, 1.0, -1.0), ()
+    still, parts = _twisted_split(supply, back, turn, end_of)
+    f_start, f_end, f_sign = _polyline(supply, 1.0)
+    fixed = (np.vstack([f_start, still[0]]), np.vstack([f_end, still[1]]),
+             np.r_[f_sign, still[2]])
+    return fixed, parts
+
+
+def _twisted_split(supply, back, turn, end_of):
+    """A twisted run's return and closing segments that stay put (start, end, sign), and its
+    turning parts (see :func:`turning_run`)."""
     start, end, turn_start, turn_end, sign = _return_part(supply, back, turn)
     # Which end turns each segment: a step into the helix has one turning vertex.
     owner = np.maximum(np.r_[end_of[:-1], end_of[-1], end_of[0]],
                        np.r_[end_of[1:], end_of[-1], end_of[0]])
-    f_start, f_end, f_sign = _polyline(supply, 1.0)
     still = owner < 0
-    fixed = (np.vstack([f_start, start[still]]), np.vstack([f_end, end[still]]),
-             np.r_[f_sign, sign[still]])
     parts = tuple(TurningPart(start[owner == k], end[owner == k], turn_start[owner == k],
                               turn_end[owner == k], sign[owner == k])
                   for k in sorted(set(owner[owner >= 0].tolist())))
-    return fixed, parts
+    return (start[still], end[still], sign[still]), parts
 
 
 def as_paired(geometry: RunGeometry) -> RunGeometry:
