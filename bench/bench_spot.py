@@ -2,10 +2,13 @@
 
     python bench/bench_spot.py               # coarse to fine, then a brute-force check
     python bench/bench_spot.py --no-brute    # coarse to fine only
+    python bench/bench_spot.py --step 0.03   # a coarser grid (35 937 positions): brute force in
+                                             # minutes rather than the better part of an hour
 
 Prints the plan's size, the time of the coarse-to-fine search, and (unless --no-brute) the time of
-evaluating the held figure at every one of the 10^6 grid positions, with the ratio and whether both
-find the same best figure.
+evaluating the held figure at every one of the grid positions, with the ratio and whether both
+find the same best figure, to the bit (each position has one figure: issue 17, point 5). Exits 1,
+saying so, when they do not.
 """
 
 from __future__ import annotations
@@ -27,6 +30,7 @@ def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--runs", type=int, default=50)
     parser.add_argument("--no-brute", action="store_true")
+    parser.add_argument("--step", type=float, default=0.01, help="grid step [m]")
     args = parser.parse_args()
 
     from deviation import spot
@@ -44,7 +48,7 @@ def main():
         kinds[run.geometry.return_kind] = kinds.get(run.geometry.return_kind, 0) + 1
     print(f"plan: {len(plan.runs)} runs {kinds}, {len(conductors)} segments, "
           f"{len(plan.state_names)} states; sensor with reference state and ±20° heel")
-    low, high, step = np.array([1.5, -0.495, 1.8]), np.array([2.49, 0.495, 2.79]), 0.01
+    low, high, step = np.array([1.5, -0.495, 1.8]), np.array([2.49, 0.495, 2.79]), args.step
     segment_field(conductors.start_m, conductors.end_m, np.ones(len(conductors)),
                   np.zeros((64, 3)) + 5, backend="compiled")            # load the kernel
     t0, c0 = time.perf_counter(), time.process_time()
@@ -62,9 +66,13 @@ def main():
     t_brute = time.perf_counter() - t0
     print(f"brute force: all {len(points):,} positions in {t_brute:.2f} s "
           f"({len(points) * len(conductors) / t_brute:.3g} pairs/s); best {brute.min():.4f}°")
-    print(f"coarse to fine is {t_brute / t_search:.1f}x faster; same best figure: "
-          f"{abs(brute.min() - result.spots[0].held) < 1e-6}; peak resident memory "
-          f"{peak_rss_mb():.0f} MB")
+    same = bool(brute.min() == result.spots[0].held)
+    print(f"coarse to fine is {t_brute / t_search:.1f}x faster; same best figure: {same}; "
+          f"peak resident memory {peak_rss_mb():.0f} MB")
+    if not same:
+        sys.exit(f"FAILED: coarse to fine found {result.spots[0].held!r}, brute force over the "
+                 f"same grid {brute.min()!r}: a position has two figures (issue 17, point 5)")
+
 
 if __name__ == "__main__":
     main()

@@ -18,9 +18,10 @@ from .budget import (
     asin_deg,
     circuit_currents,
     equipment_fields,
+    fields_routed_in_turn,
     item_effect,
+    nearest_by_run,
     parts_of_runs,
-    run_fields_at,
     sensor_figures,
 )
 from .constants import (
@@ -31,7 +32,7 @@ from .constants import (
 )
 from .errors import Problem
 from .physics import heading
-from .physics.routing import Conductors, route_runs
+from .physics.routing import Conductors
 from .physics.total_field import total_field_error_range
 from .plan import Finding, Plan, PlanError, Sensor, conductors_of, frozen_array
 from .progress import counter
@@ -460,9 +461,11 @@ def evaluate_sensor(plan: Plan, sensor: Sensor, site: SiteField, parts: RunParts
     return SensorResult(sensor, tuple(results), within, parts)
 
 
-def parts_at(plan: Plan, points_m, *, nearest: bool = True) -> RunParts:
-    """Each run's field per ampere (known and unknown direction) at many points."""
-    return parts_of_runs(plan.runs, points_m, conductors_of(plan), nearest=nearest)
+def parts_at(plan: Plan, points_m, *, nearest: bool = True, nearest_m=None) -> RunParts:
+    """Each run's field per ampere (known and unknown direction) at many points (``nearest_m``:
+    each run's nearest distance there, if already found)."""
+    return parts_of_runs(plan.runs, points_m, conductors_of(plan), nearest=nearest,
+                         nearest_m=nearest_m)
 
 
 def _one(parts: RunParts, i: int) -> RunParts:
@@ -470,22 +473,23 @@ def _one(parts: RunParts, i: int) -> RunParts:
                     parts.nearest_m[i:i + 1], parts.inside[i:i + 1])
 
 
-def check_sensors_outside_conductors(plan: Plan) -> None:
+def check_sensors_outside_conductors(plan: Plan, distance=None) -> None:
     """A sensor inside a conductor of the plan as routed is a modelling error, reported as a
     located finding (the field there is not the field of a line current).
+
+    ``distance`` (sensors, segments) [m], if given, is each sensor's distance to each routed
+    segment (:func:`sensor_distances`), already found.
 
     Raises
     ------
     PlanError
         With one finding per such sensor, at its row and ``at`` column.
     """
-    from .physics.field import point_segment_distance
-
     conductors = conductors_of(plan)
     if not len(conductors) or not plan.sensors:
         return
-    positions = np.array([s.position_m for s in plan.sensors])
-    distance = point_segment_distance(conductors.start_m, conductors.end_m, positions)
+    if distance is None:
+        distance = sensor_distances(plan)
     inside = distance <= conductors.radius_m[None, :]
     findings = []
     for i, sensor in enumerate(plan.sensors):
@@ -530,6 +534,15 @@ def check_sensors_outside_steel(plan: Plan) -> None:
         raise PlanError(findings)
 
 
+def sensor_distances(plan: Plan):
+    """(sensors, segments) [m] each sensor's distance to each routed segment of the plan."""
+    from .physics.field import point_segment_distance
+
+    conductors = conductors_of(plan)
+    positions = np.array([s.position_m for s in plan.sensors]).reshape(-1, 3)
+    return point_segment_distance(conductors.start_m, conductors.end_m, positions)
+
+
 def check_ceilings(plan: Plan, *, fixes: bool = False) -> None:
     """Refuse a plan beyond what a check is made for (constants.MAX_*): a :class:`PlanError`
     whose finding is at the first state or independent circuit past the ceiling. With
@@ -565,11 +578,16 @@ def analyse(plan: Plan) -> Analysis:
         (:func:`check_ceilings`).
     """
     check_ceilings(plan)
-    check_sensors_outside_conductors(plan)
+    # The sensors' distances to every segment, found once: for the check that none lies inside
+    # a conductor, and for each run's nearest distance; then let go (sensors x segments).
+    distance = sensor_distances(plan)
+    check_sensors_outside_conductors(plan, distance)
     check_sensors_outside_steel(plan)
+    nearest_m = nearest_by_run(conductors_of(plan), len(plan.runs), distance)
+    del distance
     site = site_field(plan.site)
     positions = np.array([s.position_m for s in plan.sensors]).reshape(-1, 3)
-    parts = parts_at(plan, positions)
+    parts = parts_at(plan, positions, nearest_m=nearest_m)
     shares = _ends_shares(plan, positions, parts.unit_t)
     tick = counter("the budget of each sensor", len(plan.sensors))
     sensors = []
@@ -587,8 +605,8 @@ def _ends_shares(plan, points, unit_t):
     twisted = [i for i, r in enumerate(plan.runs) if r.geometry.return_kind == "twisted"]
     if not twisted:
         return shares
-    helix, _ = run_fields_at(route_runs([replace(plan.runs[i].geometry, untwisted_end_m=0.0)
-                                         for i in twisted]), len(twisted), points)
+    helix = fields_routed_in_turn([replace(plan.runs[i].geometry, untwisted_end_m=0.0)
+                                   for i in twisted], points)
     for j, r in enumerate(twisted):
         size = np.linalg.norm(unit_t[:, r], axis=-1)
         ends = np.linalg.norm(unit_t[:, r] - helix[:, j], axis=-1)

@@ -20,8 +20,11 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from .analysis import Analysis
 from .errors import DeviationError
+from .plan import Plan
 from .quantities import Unit
+from .sitefield import SiteField
 
 
 @dataclass(frozen=True)
@@ -31,8 +34,8 @@ class PlaceResult:
     name: str
     latitude_deg: float
     longitude_deg: float
-    site: object                     # SiteField
-    analysis: object                 # Analysis
+    site: SiteField
+    analysis: Analysis
     reports: tuple                   # electronic.ElectronicSensor
     within_budget: bool
 
@@ -71,7 +74,7 @@ class SteelCoefficients:
 
 @dataclass(frozen=True)
 class AreaResult:
-    plan: object
+    plan: Plan
     places: tuple[PlaceResult, ...]
     worst: tuple[Worst, ...]
     verdict_changes: bool            # within at some places, over at others
@@ -112,17 +115,19 @@ def steel_coefficients(place) -> list[SteelCoefficients]:
         found = soft_iron.coefficients(matrix, np.asarray(worst.steel_fixed_t), h, z)
         deg = found.degrees()
         # The steel's own fixed part (the correctors' share), at the middle of its bands.
-        own = seen_steel(plan, sensor, steel_parts_at(plan, sensor.position_m[None, :]),
-                         plan.state_index(worst.state), z_adj).fixed[0]
+        parts = steel_parts_at(plan, sensor.position_m[None, :])
+        assert parts is not None    # the worst has a steel matrix: the plan has steel
+        own = seen_steel(plan, sensor, parts, plan.state_index(worst.state), z_adj).fixed[0]
         steel_only = soft_iron.coefficients(matrix, own, h, z)
         out.append(SteelCoefficients(
             sensor.name, place.name, worst.state, z / h, float(found.lam),
-            tuple(float(deg[k]) for k in "abcde"), float(np.degrees(steel_only.b)),
+            (float(deg["a"]), float(deg["b"]), float(deg["c"]), float(deg["d"]), float(deg["e"])),
+            float(np.degrees(steel_only.b)),
             float(np.degrees(steel_only.c)), worst.held))
     return out
 
 
-def places_of(plan) -> list[tuple[str, float, float, object]]:
+def places_of(plan) -> list[tuple[str, float, float, Plan]]:
     """(name, latitude, longitude, plan) of the site and every place of the area."""
     site = plan.site
     out = []
@@ -177,7 +182,7 @@ def area_check(plan) -> AreaResult:
         analysis = check(moved, remedies=False)
         places.append(PlaceResult(name, latitude, longitude, analysis.site, analysis,
                                   electronic_report(analysis), analysis.within_budget))
-    worst = {}
+    worst: dict[tuple[str, str], tuple[float, str, str]] = {}
     for place in places:
         for sensor, figure, value, unit in _figures(place):
             key = (sensor, figure)

@@ -60,6 +60,7 @@ def parse_axes(text: str) -> np.ndarray:
                         "sensor's x first (e.g. x+ y-), or one of "
                         f'{", ".join(NAMED_AXES)}{hint}')
     rows = []
+    letters = []
     for token in tokens:
         match = _TOKEN.match(token)
         if not match or (match.group(1) and match.group(3)):
@@ -69,7 +70,7 @@ def parse_axes(text: str) -> np.ndarray:
         row = np.zeros(3)
         row[_UNIT[match.group(2)]] = sign
         rows.append(row)
-    letters = [_TOKEN.match(t).group(2) for t in tokens]
+        letters.append(match.group(2))
     for letter in "xyz":
         if letters.count(letter) > 1:
             raise AxesError(f'"{text}" names the vessel axis {letter} twice: each of the '

@@ -25,7 +25,7 @@ from .constants import (
 )
 from .errors import InputError, Problem
 from .physics import heading
-from .plan import StateCondition, frozen_array
+from .plan import Sensor, StateCondition, frozen_array
 from .quantities import Status, Unit
 
 #: Sensor kinds with no heading to steer by (survey and flight-controller magnetometers).
@@ -174,7 +174,7 @@ class PlacardLine:
 
 @dataclass(frozen=True)
 class Card:
-    sensor: object
+    sensor: Sensor
     states: tuple[CardState, ...]
     profile: str = "general"
     step_deg: float = CARD_STEP_DEG

@@ -44,7 +44,7 @@ from .physics.total_field import (
     inclination_over_switchings,
 )
 from .physics.worst_case import worst_combination
-from .plan import name_key
+from .plan import Sensor, name_key
 from .schema import TOTAL_FIELD_KIND, VECTOR_ELECTRONIC_KINDS
 
 #: Kinds this module reports on.
@@ -370,7 +370,7 @@ class Grade:
 class ElectronicSensor:
     """The electronic-sensor figures of one sensor (see the module docstring)."""
 
-    sensor: object
+    sensor: Sensor
     per_ampere: tuple[PerAmpere, ...]
     compensation: Compensation | None
     grade: Grade | None                  # vector sensors only
@@ -549,8 +549,9 @@ def _compensated_with_steel(plan, sensor, site, k, base, switched, reversing, bo
     from .budget.steel import seen_steel, steel_parts_at
     from .physics import turning
 
-    seen = seen_steel(plan, sensor, steel_parts_at(plan, sensor.position_m[None, :]), k,
-                      adjusting_vertical_t(plan, site))
+    parts = steel_parts_at(plan, sensor.position_m[None, :])
+    assert parts is not None        # called only for a plan with steel
+    seen = seen_steel(plan, sensor, parts, k, adjusting_vertical_t(plan, site))
     half = np.where(reversing[:, None], 0.0, 0.5) * switched
     gens = np.where(reversing[:, None], switched, half)
     problem = turning.Turning.of((base + half.sum(axis=0) + seen.fixed[0])[None], gens[None],

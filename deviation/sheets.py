@@ -434,7 +434,7 @@ def read_folder(path, wanted, collector, canonical, known_columns=None, *, what=
     """The sheets ``wanted`` (canonical names) from a folder of .csv files."""
     path = Path(path)
     found = Found()
-    labels = {}
+    labels: dict[str, str] = {}
     for file in sorted(path.iterdir()):
         if file.suffix.lower() != ".csv":
             continue
@@ -548,7 +548,7 @@ def read_workbook(path, wanted, collector, canonical, *, any_single=None, what="
     formulas = None
     try:
         worksheets = list(values.worksheets)
-        titles = {}
+        titles: dict[str, str] = {}
         for worksheet in worksheets:
             name = canonical(worksheet.title)
             if name not in wanted and not (any_single and len(worksheets) == 1):

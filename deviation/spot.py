@@ -5,7 +5,12 @@ change, with equipment bounds), evaluated at candidate positions instead of the 
 
 A box is searched coarse to fine: a coarse grid finds the promising cells, and a grid at the
 requested step refines each of them. Every stage evaluates the held figure itself (it is closed
-form: see :mod:`deviation.budget`), so the ranking needs no separate exact pass.
+form: see :mod:`deviation.budget`), so the ranking needs no separate exact pass. Each position
+has one figure: the one the per-position call gives there (same rules, same caps, one kernel
+path at any size), the coarse grid's positions are positions of the fine grid, and so the
+search and brute force over the same grid find the same best figure, to the bit. With steel
+items, the search ranks positions by a quicker proven bound (never below the held figure), and
+the best of them are evaluated exactly and ranked again (:func:`_steel_spots`).
 
 The plan's volumes sheet limits where a spot may be: never inside a keep-out box, and, where the
 sensor has mount-in boxes, only inside one of them. Each mount-in box within the searched box is
@@ -21,8 +26,10 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from .analysis import evaluate_sensor, parts_at
-from .budget import SEARCH_EXACT_GENERATORS, circuit_currents, equipment_fields, sensor_figures
+from .budget import circuit_currents, equipment_fields, sensor_figures
 from .errors import DeviationError
+from .physics.field import one_path_at_any_size
+from .plan import Sensor
 from .progress import counter
 
 #: Largest number of points in the coarse stage.
@@ -77,7 +84,7 @@ class SpotSearch:
         Candidates of a ranking left out by the volumes: (spot name, why).
     """
 
-    sensor: object
+    sensor: Sensor
     spots: tuple
     current: Spot | None              # the sensor's own position, for comparison
     evaluated: int                    # positions whose figure was computed
@@ -201,28 +208,35 @@ def search_box_around(plan, sensor, half_m):
 
 
 def _figures_at(plan, sensor, site, points, progress=None):
-    """Worst figure over used states at each point (P,), its state index (P,), inside mask (P,)."""
+    """Worst figure over used states at each point (P,), its state index (P,), inside mask (P,).
+
+    Each point's figure is the held figure :func:`deviation.analysis.evaluate_sensor` gives
+    there (:func:`_spot`), to the bit, whatever the other points evaluated with it: the same
+    rules with the same caps, on one path at any size (:func:`one_path_at_any_size`). With steel
+    it is the quicker proven bound (never below that figure) that :func:`_steel_spots` re-ranks.
+    """
     worst = np.empty(len(points))
     which = np.empty(len(points), dtype=int)
     inside = np.zeros(len(points), dtype=bool)
     used_states = np.array([sensor.used_in_state(s) for s in plan.state_names])
     currents = circuit_currents(plan)
-    for p0 in range(0, len(points), CHUNK_POINTS):
-        chunk = points[p0:p0 + CHUNK_POINTS]
-        parts = parts_at(plan, chunk, nearest=False)
-        items = equipment_fields(plan, sensor, chunk, site.horizontal_t)
-        figures = sensor_figures(plan, sensor, site, parts, chunk, items=items, currents=currents,
-                                 exact_generators=SEARCH_EXACT_GENERATORS, steel_exact=False)
-        used = np.where(used_states[None, :], figures.held, -np.inf)
-        worst[p0:p0 + len(chunk)] = used.max(axis=1)
-        which[p0:p0 + len(chunk)] = used.argmax(axis=1)
-        inside[p0:p0 + len(chunk)] = parts.inside
-        if plan.steel:
-            from .budget.steel import steel_parts_at
+    with one_path_at_any_size():
+        for p0 in range(0, len(points), CHUNK_POINTS):
+            chunk = points[p0:p0 + CHUNK_POINTS]
+            parts = parts_at(plan, chunk, nearest=False)
+            items = equipment_fields(plan, sensor, chunk, site.horizontal_t)
+            figures = sensor_figures(plan, sensor, site, parts, chunk, items=items,
+                                     currents=currents, held_only=True, steel_exact=False)
+            used = np.where(used_states[None, :], figures.held, -np.inf)
+            worst[p0:p0 + len(chunk)] = used.max(axis=1)
+            which[p0:p0 + len(chunk)] = used.argmax(axis=1)
+            inside[p0:p0 + len(chunk)] = parts.inside
+            if plan.steel:
+                from .budget.steel import steel_parts_at
 
-            inside[p0:p0 + len(chunk)] |= steel_parts_at(plan, chunk).inside
-        if progress is not None:
-            progress(len(chunk))
+                inside[p0:p0 + len(chunk)] |= steel_parts_at(plan, chunk).inside
+            if progress is not None:
+                progress(len(chunk))
     worst[inside] = np.inf
     return worst, which, inside
 
@@ -232,6 +246,21 @@ def _grid(low, high, step):
             for lo, hi in zip(low, high)]
     axes = [a[a <= hi + 1e-12] for a, hi in zip(axes, high)]
     return axes
+
+
+def _on_axes(axes, fine_axes):
+    """Each axis of a coarser grid moved onto the nearest values of the fine grid's axis (no
+    value twice): every position a search evaluates is then a position of the fine grid, to the
+    bit, and has the figure brute force over that grid gives it."""
+    moved = []
+    for coarse, fine in zip(axes, fine_axes):
+        if len(fine) == 1:
+            moved.append(fine.copy())
+            continue
+        j = np.clip(np.searchsorted(fine, coarse), 1, len(fine) - 1)
+        j = np.where(np.abs(fine[j - 1] - coarse) <= np.abs(fine[j] - coarse), j - 1, j)
+        moved.append(np.unique(fine[j]))
+    return moved
 
 
 def _points(axes):
@@ -256,7 +285,8 @@ def _distinct_best(points, figure, count, min_separation):
 def _spot(plan, site, sensor, position, name=None):
     """The sensor evaluated at a position: its held figure, worst state and the runs behind it."""
     moved = replace(sensor, position_m=position)
-    result = evaluate_sensor(plan, moved, site, parts_at(plan, position[None, :]))
+    with one_path_at_any_size():          # the path the search scored it on (_figures_at)
+        result = evaluate_sensor(plan, moved, site, parts_at(plan, position[None, :]))
     worst = result.worst
     counted = [(r.name, r.share_of_budget) for r in worst.runs if r.share_of_budget > 0]
     total = sum(share for _, share in counted)
@@ -336,7 +366,7 @@ class _Part:
         self.dimensions = int((span > 0).sum())
         cells = max(1.0, self.grid_points / coarse_budget)
         self.coarse_step = step * max(1.0, cells ** (1 / max(1, self.dimensions)))
-        self.coarse = _points(_grid(low, high, self.coarse_step))
+        self.coarse = _points(_on_axes(_grid(low, high, self.coarse_step), self.fine_axes))
         if self.grid_points <= len(self.coarse) * 1.5:   # small job: search the fine grid directly
             self.coarse, self.coarse_step = _points(self.fine_axes), step
         self.refine = self.coarse_step > step

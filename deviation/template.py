@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import re
+from collections.abc import Mapping, Sequence
 from decimal import Decimal
 
 import numpy as np
@@ -52,7 +53,7 @@ SITE_ROWS = [{"setting": "units", "value": "m",
 
 #: Worked examples, by column; the template writes them under each sheet's header. Each one's
 #: first cell begins with EXAMPLE, so the reader skips it and ``check`` says it is still there.
-EXAMPLE_ROWS = {
+EXAMPLE_ROWS: dict[str, Sequence[Mapping[str, object]]] = {
     "site": SITE_ROWS,
     "points": [{"point": EXAMPLE + "battery", "x": 3.0, "y": -0.5, "z": 0.3,
                 "note": "example: house battery"},
@@ -202,7 +203,7 @@ class _Places:
 
     def __init__(self, plan):
         self.unit = plan.site.units
-        self.names = {}
+        self.names: dict[tuple[float, ...], str] = {}
         for name, position in plan.points:
             self.names.setdefault(tuple(float(v) for v in position), name)
         self.keys = {name_key(name) for name, _ in plan.points}

@@ -8,6 +8,7 @@ import math
 import re
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Literal, overload
 
 from ..errors import Problem
 from ..plan import Finding, name_key
@@ -40,7 +41,15 @@ class Table:
         return Finding(self.file, self.sheet, row, self.columns.get(column, column), message, kind)
 
 
-def read_table(path, names, *, required=True, any_single=False) -> Table | None:
+@overload
+def read_table(path, names, *, required: Literal[True] = ..., any_single: bool = ...) -> Table: ...
+
+
+@overload
+def read_table(path, names, *, required: bool, any_single: bool = ...) -> Table | None: ...
+
+
+def read_table(path, names, *, required=True, any_single=False):
     """A sheet named one of ``names`` from a .csv file, a folder of .csv sheets or a workbook.
 
     Read by the plan's own reader (:mod:`deviation.sheets`): the same separator and

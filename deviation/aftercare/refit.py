@@ -299,8 +299,10 @@ def _check_comparable(old: Plan, new: Plan) -> None:
                        if not shared[what])
     sites = ""
     a, b = old.site, new.site
-    if None not in (a.latitude_deg, a.longitude_deg, b.latitude_deg, b.longitude_deg) and (
-            abs(a.latitude_deg - b.latitude_deg) > 1 or abs(a.longitude_deg - b.longitude_deg) > 1):
+    if (a.latitude_deg is not None and a.longitude_deg is not None and b.latitude_deg is not None
+            and b.longitude_deg is not None
+            and (abs(a.latitude_deg - b.latitude_deg) > 1
+                 or abs(a.longitude_deg - b.longitude_deg) > 1)):
         sites = (f", and their sites lie apart ({a.latitude_deg:g}, {a.longitude_deg:g} and "
                  f"{b.latitude_deg:g}, {b.longitude_deg:g})")
     raise InputError(f"the two plans share no {lacking} ({listed}){sites}: they look like two "
@@ -360,6 +362,7 @@ def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> R
         notes.append(RefitNote(Change.STATE_ADDED, new_states[key]))
     old_runs = {name_key(r.name): i for i, r in enumerate(old.runs)}
     new_runs = {name_key(r.name): i for i, r in enumerate(new.runs)}
+    run_names = {name_key(r.name): r.name for r in (*old.runs, *new.runs)}   # the new name wins
     old_items = {name_key(e.name): e for e in old.equipment}
     new_items = {name_key(e.name): e for e in new.equipment}
     old_currents, new_currents = old.run_currents_a, new.run_currents_a
@@ -401,9 +404,9 @@ def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> R
                 if not how:
                     continue
                 change = f1 - f0
-                name = (new.runs[r1] if r1 is not None else old.runs[r0]).name
-                differences.append(Difference("run", name, tuple(how), frozen_array(change), float(
-                    asin_deg(heading.horizontal_disturbance(change) / h))))
+                differences.append(Difference(
+                    "run", run_names[run_key], tuple(how), frozen_array(change),
+                    float(asin_deg(heading.horizontal_disturbance(change) / h))))
             for item_key in sorted(old_items.keys() | new_items.keys()):
                 e0, e1 = old_items.get(item_key), new_items.get(item_key)
                 how = (["added"] if e0 is None else ["removed"] if e1 is None
@@ -423,7 +426,8 @@ def refit(old: Plan, new: Plan, threshold_deg: float = SWING_THRESHOLD_DEG) -> R
                 size = heading.horizontal_disturbance(change) + abs(bounds[1] - bounds[0])
                 bound_only = not np.any(change) and bounds[1] != bounds[0]
                 differences.append(Difference(
-                    "item", (e1 or e0).name, tuple(how),
+                    "item", (e1.name if e1 is not None else e0.name if e0 is not None else ""),
+                    tuple(how),
                     None if bound_only else frozen_array(change), float(asin_deg(size / h))))
             differences.sort(key=lambda d: (-d.size_deg, d.name))
             level = [_level_deg(st, seen, h) for st, seen in ((st_old, seen_old),

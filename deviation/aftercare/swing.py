@@ -9,8 +9,9 @@ import numpy as np
 from .. import checking
 from ..errors import DeviationError, Problem
 from ..physics import heading, swing
-from ..plan import Finding, Plan, frozen_array
+from ..plan import Finding, Plan, Sensor, frozen_array
 from ..quantities import Budget
+from ..sitefield import SiteField
 from .common import MAX_READ_DEVIATION_DEG, SWING_SHEET, ReadingsError, _checked, _items_field
 from .readings import _heading, _signed_deviation, _state_named, _suggest, read_table
 from .switch_on import _state_field
@@ -43,7 +44,7 @@ def read_swing(path, plan: Plan, state: str | None = None) -> SwingReadings:
         With every bad cell located; also a state with fewer than five distinct headings.
     """
     table = read_table(path, (SWING_SHEET,), any_single=True)
-    findings = []
+    findings: list[Finding] = []
     columns = set(table.columns)
     aliases = {"compass": ("compass", "compass_heading", "compass_deg"),
                "magnetic": ("magnetic", "magnetic_heading", "magnetic_deg"),
@@ -61,7 +62,7 @@ def read_swing(path, plan: Plan, state: str | None = None) -> SwingReadings:
                                          f"{_suggest(state, plan.state_names)}")])
     elif len(plan.state_names) == 1:
         default = plan.state_names[0]
-    per_state = {}
+    per_state: dict[str, list[tuple]] = {}    # (row, compass, magnetic, deviation)
     for number, row in table.rows:
         bad = len(findings)
         named = row.get("state")
@@ -162,8 +163,8 @@ class StateChange:
 
 @dataclass(frozen=True)
 class SwingComparison:
-    sensor: object
-    site: object
+    sensor: Sensor
+    site: SiteField
     on: str                            # "compass" or "magnetic"
     adjusted_in: str | None            # predictions are of the residual after adjustment here
     source: str
@@ -324,7 +325,7 @@ def reference_choices(plan: Plan, sensor: str | None = None) -> dict:
     """
     sensors = plan.sensors if sensor is None else (plan.sensor(sensor),)
     names = {s.name for s in sensors}
-    choices = {s.name: [] for s in sensors}
+    choices: dict[str, list[ReferenceChoice]] = {s.name: [] for s in sensors}
     for state in plan.state_names:
         trial = replace(plan, sensors=tuple(
             replace(s, reference_state=state) if s.name in names else s for s in plan.sensors))

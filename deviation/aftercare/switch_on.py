@@ -10,7 +10,8 @@ import numpy as np
 from ..constants import MAX_CURRENT_A
 from ..errors import DeviationError, InputError, Problem
 from ..physics import heading, swing
-from ..plan import Finding, Plan, frozen_array, name_key
+from ..plan import Finding, Plan, Sensor, frozen_array, name_key
+from ..sitefield import SiteField
 from .common import (
     ALL_OFF,
     CHANGE_FRACTION,
@@ -52,11 +53,11 @@ class SwitchOnTest:
     """A switch-on test of one sensor on one heading, from a starting state."""
 
     plan: Plan
-    sensor: object
+    sensor: Sensor
     heading_deg: float                 # magnetic heading the vessel lies on
     start_state: str                   # ALL_OFF or a state of the plan
     adjusted: bool                     # correctors cancel the reference state's field
-    site: object
+    site: SiteField
     base_field_t: np.ndarray           # (3,) what the sensor sees before each step
     circuit_fields_t: np.ndarray       # (C, 3) per ampere
     start_currents_a: np.ndarray       # (C,) circuits' currents in the starting state
@@ -146,7 +147,7 @@ def switch_on_test(plan: Plan, sensor, heading_deg: float, start_state: str | No
     correction = _state_field(plan, result, chosen.reference_state) if adjusted else np.zeros(3)
     seen = base - correction
     matrix = plan.circuit_matrix
-    rows = []
+    rows: list[SwitchOnRow] = []
     for c, circuit in enumerate(plan.circuits):
         runs = tuple(plan.runs[r].name for r in np.flatnonzero(matrix[:, c]))
         before = float(start_currents[c])
@@ -421,7 +422,9 @@ def read_switch_on_results(plan: Plan, path, *, sensor=None, heading_deg=None, s
             observed = observed_cell
         if kind == "circuit":
             index = circuits[name_key(name)]
-            predicted = test.predicted_change_deg(index, current_before, current_test)
+            # a circuit's step always has both currents (None only on a whole state's step)
+            predicted = test.predicted_change_deg(index, float(current_before or 0.0),
+                                                  float(current_test or 0.0))
         else:
             predicted = step.predicted_change_deg
         if observed is None:

@@ -30,7 +30,6 @@ from .figures import (  # noqa: F401
     sensor_figures,
 )
 from .held import (  # noqa: F401
-    SEARCH_EXACT_GENERATORS,
     Figures,
     _attitude_size,
     _held,
@@ -43,6 +42,8 @@ from .runs import (  # noqa: F401
     MAX_EXACT_GENERATORS_LEVEL,
     SPREAD_GENERATORS,
     RunParts,
+    fields_routed_in_turn,
+    nearest_by_run,
     parts_of_runs,
     run_fields_at,
     turn_cover,

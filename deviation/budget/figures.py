@@ -82,9 +82,9 @@ class SensorFigures:
 
 def sensor_figures(plan, sensor, site, parts: RunParts, points_m=None, *,
                    items: EquipmentFields | None = None, currents: CircuitCurrents | None = None,
-                   per_run: bool = False,
+                   per_run: bool = False, held_only: bool = False,
                    exact_generators=(MAX_EXACT_GENERATORS_LEVEL, MAX_EXACT_GENERATORS_ATTITUDE),
-                   steel=None, steel_exact: bool = True, held_only: bool = False
+                   steel=None, steel_exact: bool = True
                    ) -> SensorFigures:
     """Every figure a sensor needs at P points: the one entry to the budget's rules.
 
@@ -105,6 +105,10 @@ def sensor_figures(plan, sensor, site, parts: RunParts, points_m=None, *,
         The plan's currents, if already split.
     per_run : bool
         Also each run alone (P must be 1).
+    held_only : bool
+        Only what the held figure needs (a search over many positions), as
+        :func:`deviation.budget.held.budget_figures`; the held figure is the same number (with
+        steel, exact only in the states the sensor is used in).
     exact_generators : (int, int)
         As :func:`deviation.budget.held.budget_figures`.
     steel : SteelParts, optional
@@ -113,9 +117,6 @@ def sensor_figures(plan, sensor, site, parts: RunParts, points_m=None, *,
     steel_exact : bool
         With steel, the exact worst over headings (False: a quicker proven bound, for searches
         over many positions; every position they return is evaluated again exactly).
-    held_only : bool
-        With steel, work out only the held figure and its verdict (the other degree figures
-        repeat it): for what-if evaluations that read nothing else.
     """
     points = sensor.position_m[None, :] if points_m is None else np.asarray(points_m, float)
     h = site.horizontal_t

@@ -4,6 +4,7 @@ and every part of unknown direction."""
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -32,11 +33,14 @@ class Figures:
     total_t : (P, K, 3) [T] the vector field in that worst combination
     bound_t : (P, K) [T] the bounds of unknown direction counted in the held figure
     steel : what steel items add (:class:`.with_steel.SteelFigures`); None without steel
+
+    Where only the held figure was asked for (``held_only``), the figures that do not feed it
+    are None.
     """
 
-    vector_deviation_deg: np.ndarray
-    max_deviation_deg: np.ndarray
-    attitude_deviation_deg: np.ndarray
+    vector_deviation_deg: np.ndarray | None
+    max_deviation_deg: np.ndarray | None
+    attitude_deviation_deg: np.ndarray | None
     change_from_reference_deg: np.ndarray | None
     attitude_change_deg: np.ndarray | None
     budget_used_deg: np.ndarray
@@ -106,12 +110,6 @@ def _held(base, switched, switched_reversing, spread, scale, scalar, heel, pitch
     return size, choice[..., :switched.shape[2]], apart
 
 
-#: The spot search's caps on generators searched exactly (level, attitude): over many points the
-#: smaller spreads are counted as bounds, and every spot it returns is evaluated again with the
-#: full caps.
-SEARCH_EXACT_GENERATORS = (16, 0)
-
-
 def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: EquipmentFields, *,
                    exact_generators=(MAX_EXACT_GENERATORS_LEVEL, MAX_EXACT_GENERATORS_ATTITUDE),
                    currents: CircuitCurrents | None = None, steel=None, vertical_t=None,
@@ -140,6 +138,14 @@ def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: Equipment
         ``vertical_t``, Z where judged, and ``adjusting_vertical_t``, Z where adjusted).
     steel_exact : bool
         With steel: the exact worst over headings (False: a quicker proven bound, for searches).
+    held_only : bool
+        Only what the held figure needs (a search over many positions): the figures that do not
+        feed it are None (``vector_deviation_deg``, ``max_deviation_deg``,
+        ``change_from_reference_deg``, and ``attitude_deviation_deg`` of a sensor adjusted in
+        a reference state). The held figure, verdict, switching and bound are the same numbers,
+        from the same calls, as without it. With steel, the held figure is worked out exactly only
+        in the states the sensor is used in (the quick proven bound, never below it, in the
+        others, which no verdict reads).
 
     Notes
     -----
@@ -177,28 +183,43 @@ def budget_figures(plan, sensor, horizontal_t, parts: RunParts, items: Equipment
         return _held(field, switched, reversing, parts.spread_t, scale, scalar, heel, pitch, cap)
 
     cap_level, cap_attitude = exact_generators
-    level, _, level_apart = held(base, scale, scalar, 0.0, 0.0, cap_level)
-    tilted, choice, tilted_apart = (
-        held(base, scale, scalar, heel, pitch, cap_attitude) if heel or pitch
-        else held(base, scale, scalar, 0.0, 0.0, cap_level))
-    vector = asin_deg(heading.horizontal_disturbance(
-        base + np.einsum("pkc,pkcj->pkj", choice, switched)) / h)
-    absolute = asin_deg((level + level_apart) / h)
-    attitude = asin_deg((tilted + tilted_apart) / h)
-    change = attitude_change = None
-    overwhelmed = tilted + tilted_apart >= h
-    used, held_bound = attitude, tilted_apart
-    if sensor.reference_state is not None:
+    tilt = bool(heel or pitch)
+    adjusted = sensor.reference_state is not None
+    vector = absolute = attitude = change = attitude_change = None
+    if not (held_only and adjusted):
+        # Level, the search is the same as without attitude: done once, its switching kept.
+        # None where held_only skips a search whose figure is not asked for (typed Any: the
+        # skipped one is never read).
+        level: Any = None
+        level_apart: Any = None
+        if not (held_only and tilt):
+            level, choice, level_apart = held(base, scale, scalar, 0.0, 0.0, cap_level)
+        tilted, tilted_apart = level, level_apart
+        if tilt:
+            tilted, choice, tilted_apart = held(base, scale, scalar, heel, pitch, cap_attitude)
+        if not held_only:
+            vector = asin_deg(heading.horizontal_disturbance(
+                base + np.einsum("pkc,pkcj->pkj", choice, switched)) / h)
+            absolute = asin_deg((level + level_apart) / h)
+        attitude = asin_deg((tilted + tilted_apart) / h)
+        overwhelmed = tilted + tilted_apart >= h
+        used, held_bound = attitude, tilted_apart
+    if adjusted:
         k = plan.state_index(sensor.reference_state)
         residual = base - base[:, k:k + 1, :]
         moved = split.scale_a(k)
         changing = parts.bound_t @ moved + items.changing
-        level_r, choice, level_r_apart = held(residual, moved, changing, 0.0, 0.0, cap_level)
+        level_r: Any = None
+        level_r_apart: Any = None
+        if not (held_only and tilt):
+            level_r, choice, level_r_apart = held(residual, moved, changing, 0.0, 0.0,
+                                                  cap_level)
         tilted_r, tilted_r_apart = level_r, level_r_apart
-        if heel or pitch:
+        if tilt:
             tilted_r, choice, tilted_r_apart = held(residual, moved, changing, heel, pitch,
                                                     cap_attitude)
-        change = asin_deg((level_r + level_r_apart) / h)
+        if not held_only:
+            change = asin_deg((level_r + level_r_apart) / h)
         attitude_change = asin_deg((tilted_r + tilted_r_apart) / h)
         # Adjusted, the sensor sees only the residual: that is what can overwhelm it.
         overwhelmed = tilted_r + tilted_r_apart >= h

@@ -14,7 +14,7 @@ from ..physics.field import (
     point_segment_distance,
     segment_field_by_group,
 )
-from ..physics.routing import as_paired, route_runs, turning_run
+from ..physics.routing import as_paired, route_runs, turning_parts, turning_run
 from ..physics.worst_case import worst_combination
 
 #: The turns [deg] at which each lie of a pair puts its return (from "left of travel" towards
@@ -22,11 +22,25 @@ from ..physics.worst_case import worst_combination
 KNOWN_LIE_TURNS_DEG = {"side by side": (0.0, 180.0), "one above the other": (90.0, 270.0)}
 
 
-def run_fields_at(conductors, n_runs, points_m, *, nearest=True, inside=None):
+def nearest_by_run(conductors, n_runs, distance):
+    """(P, R) [m] each run's nearest conductor, from the distances (P, S) [m] of each point to
+    each routed segment (:func:`deviation.physics.field.point_segment_distance`); infinite for
+    a run without segments."""
+    distance_to = np.full((len(distance), n_runs), np.inf)
+    if len(conductors):
+        firsts = np.flatnonzero(np.r_[True, np.diff(conductors.run_index) != 0])
+        distance_to[:, conductors.run_index[firsts]] = np.minimum.reduceat(distance, firsts,
+                                                                           axis=1)
+    return distance_to
+
+
+def run_fields_at(conductors, n_runs, points_m, *, nearest=True, inside=None, nearest_m=None):
     """Field of each run at unit current [T/A], shape (P, R, 3), and nearest distances (P, R) [m]
     (infinite when ``nearest`` is False: the distances cost as much as the fields).
 
     ``inside``, a (P,) bool array if given, is set where a point lies inside a conductor.
+    ``nearest_m`` (P, R) [m], if given, are the nearest distances already found
+    (:func:`nearest_by_run`), returned as they are.
     """
     points = np.asarray(points_m, dtype=float).reshape(-1, 3)
     unit, hit = segment_field_by_group(conductors.start_m, conductors.end_m, conductors.sign,
@@ -34,13 +48,62 @@ def run_fields_at(conductors, n_runs, points_m, *, nearest=True, inside=None):
                                        radius_m=conductors.radius_m)
     if inside is not None:
         inside |= hit.any(axis=1)
-    distance_to = np.full((len(points), n_runs), np.inf)
+    if nearest_m is not None:
+        return unit, nearest_m
     if len(conductors) and nearest:
         distance = point_segment_distance(conductors.start_m, conductors.end_m, points)
-        firsts = np.flatnonzero(np.r_[True, np.diff(conductors.run_index) != 0])
-        distance_to[:, conductors.run_index[firsts]] = np.minimum.reduceat(distance, firsts,
-                                                                           axis=1)
-    return unit, distance_to
+        return unit, nearest_by_run(conductors, n_runs, distance)
+    return unit, np.full((len(points), n_runs), np.inf)
+
+
+def fields_routed_in_turn(geometries, points_m):
+    """Each run's field at unit current [T/A], (P, R, 3), for runs not routed yet: the same
+    numbers as ``run_fields_at(route_runs(geometries), len(geometries), points_m)[0]``, without
+    holding every run's segments at once where the job is large.
+
+    The runs are routed one by one. Once those routed hold enough segment-point pairs for the
+    compiled kernel (so the whole job would take it), their field is taken and their segments
+    let go; the compiled kernel sums each run's segments on their own, so a run's field does
+    not depend on the runs taken with it. A job too small for the kernel is taken whole, as
+    before.
+    """
+    from ..physics.field import COMPILED_MIN_PAIRS, auto_compiled
+
+    points = np.asarray(points_m, dtype=float).reshape(-1, 3)
+    field = np.zeros((len(points), len(geometries), 3))
+    held: list = []
+    first, segments = 0, 0
+
+    def take(upto, backend):
+        routed = _joined(held)
+        field[:, first:upto] = segment_field_by_group(
+            routed.start_m, routed.end_m, routed.sign, routed.run_index, upto - first, points,
+            radius_m=routed.radius_m, backend=backend)[0]
+
+    for i, geometry in enumerate(geometries):
+        held.append(route_runs([geometry]))
+        segments += len(held[-1])
+        if len(points) and auto_compiled(segments * len(points), COMPILED_MIN_PAIRS):
+            take(i + 1, "compiled")
+            held, first, segments = [], i + 1, 0
+    if held:
+        if first == 0:                       # never large enough: the whole job, as before
+            routed = _joined(held)
+            return run_fields_at(routed, len(geometries), points, nearest=False)[0]
+        take(len(geometries), "compiled")
+    return field
+
+
+def _joined(pieces):
+    """One Conductors of several routed single runs, numbered in order."""
+    from ..physics.routing import Conductors
+
+    return Conductors(np.concatenate([c.start_m for c in pieces]).reshape(-1, 3),
+                      np.concatenate([c.end_m for c in pieces]).reshape(-1, 3),
+                      np.concatenate([c.sign for c in pieces]),
+                      np.concatenate([np.full(len(c), k) for k, c in enumerate(pieces)]),
+                      np.concatenate([c.radius_m for c in pieces]),
+                      [name for c in pieces for name in c.run_names])
 
 
 #: Harmonics of a turning part's field whose ellipses the exact worst-case search sees (each as
@@ -510,11 +573,12 @@ def _turned_part_covers(turning, points, harmonics, *, refine=True, circle=True)
     return centre, generators, bound, at_zero, reach
 
 
-def parts_of_runs(runs, points_m, conductors=None, *, nearest=True) -> RunParts:
+def parts_of_runs(runs, points_m, conductors=None, *, nearest=True, nearest_m=None) -> RunParts:
     """:class:`RunParts` of some runs (the plan's :class:`~deviation.plan.Run` values).
 
     ``conductors``, if given, are the runs already routed (``plan.conductors_of``); ``nearest``
-    False leaves the nearest distances out (a search over many points does not need them).
+    False leaves the nearest distances out (a search over many points does not need them);
+    ``nearest_m`` gives them, already found (:func:`nearest_by_run`).
 
     Notes
     -----
@@ -529,7 +593,8 @@ def parts_of_runs(runs, points_m, conductors=None, *, nearest=True) -> RunParts:
     geometries = [r.geometry for r in runs]
     routed = conductors if conductors is not None else route_runs(geometries)
     inside = np.zeros(len(points), dtype=bool)
-    unit, nearest_m = run_fields_at(routed, len(runs), points, nearest=nearest, inside=inside)
+    unit, nearest_m = run_fields_at(routed, len(runs), points, nearest=nearest, inside=inside,
+                                    nearest_m=nearest_m)
     n_p, n_r = unit.shape[:2]
     spread = np.zeros((n_p, n_r, SPREAD_GENERATORS, 3))
     bound = np.zeros((n_p, n_r))
@@ -541,7 +606,7 @@ def parts_of_runs(runs, points_m, conductors=None, *, nearest=True) -> RunParts:
         g = run.geometry
         if g.return_kind not in ("paired", "twisted"):
             continue
-        _, parts = turning_run(g)
+        parts = turning_parts(g)
         if g.return_kind == "paired" and getattr(run, "lie", "not known") in KNOWN_LIE_TURNS_DEG:
             known.append((i, parts[0], KNOWN_LIE_TURNS_DEG[run.lie],
                           math.radians(g.return_angle_deg)))
@@ -577,6 +642,13 @@ def parts_of_runs(runs, points_m, conductors=None, *, nearest=True) -> RunParts:
     return RunParts(unit, spread, bound, nearest_m, inside)
 
 
+def _one_group_field(fixed, points):
+    """(P, 3) [T per A]: the field of one fixed part's segments ``(start, end, weight, ...)``."""
+    start, end, weight = fixed[0], fixed[1], fixed[2]
+    group = np.zeros(len(weight), dtype=int)
+    return segment_field_by_group(start, end, weight, group, 1, points)[0][:, 0]
+
+
 def twisted_floor(runs, points, unit_t, spread_t, bound_t):
     r"""(P, n) [T/A] what the floor adds to each twisted run's bound of unknown direction.
 
@@ -606,10 +678,8 @@ def twisted_floor(runs, points, unit_t, spread_t, bound_t):
     # An upper bound on the pair is all the floor needs: sampled once, no circle.
     centre, generators, extra, _, _ = _turned_part_covers(turning, points, PAIR_HARMONICS,
                                                           refine=False, circle=False)
-    supply = np.stack([segment_field_by_group(*fixed[:2], fixed[2], np.zeros(len(fixed[2]),
-                                                                              dtype=int),
-                                              1, points)[0][:, 0]
-                       for fixed, _ in fixed_parts], axis=1)                  # (P, n, 3)
+    supply = np.stack([_one_group_field(fixed, points) for fixed, _ in fixed_parts],
+                      axis=1)                                                 # (P, n, 3)
     # Each octagon of generators tan(pi/8) (cos(j pi/4) U + sin(j pi/4) W) lies within
     # 1/cos(pi/8) of its ellipse, whose farthest point is the largest singular value of [U W].
     blocks = generators.reshape(generators.shape[:-2] + (-1, 4, 3))

@@ -14,6 +14,7 @@ disturbance) and evaluates every position it returns exactly.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -186,7 +187,7 @@ def steel_figures(plan, sensor, horizontal_t, vertical_t, parts, items, steel: S
                       _seen(plan, sensor, steel, True, z_adj)))
     tilted = bool(heel or pitch)
     out = []
-    held_case = None
+    held_case: Any = None
     if held_only:
         cases = cases[-1:]
         used = np.array([sensor.used_in_state(state) for state in plan.state_names])
@@ -202,7 +203,7 @@ def steel_figures(plan, sensor, horizontal_t, vertical_t, parts, items, steel: S
             out.append((figure, figure))
             held_case = (fixed, seen, None)
             continue
-        level = None
+        level: Any = None
         if not (held_only and tilted):
             kept, apart = _spread_generators(parts.spread_t, scale, scalar, 0.0, 0.0, cap_level,
                                              n_c)
@@ -246,8 +247,8 @@ def steel_figures(plan, sensor, horizontal_t, vertical_t, parts, items, steel: S
         matrix_seen = seen.matrix
         matrix_absolute = absolute.matrix
         where = [np.full((n_p, n_k), np.nan)] * 3
-    info = SteelFigures(lam_low, lam_high, fixed_seen, matrix_seen, matrix_absolute, *where,
-                        exact)
+    info = SteelFigures(lam_low, lam_high, fixed_seen, matrix_seen, matrix_absolute, where[0],
+                        where[1], where[2], exact)
     return out, vector, choice, info
 
 

@@ -21,6 +21,7 @@ import json
 import os
 import signal
 import sys
+from typing import IO, cast
 
 import click
 
@@ -112,6 +113,10 @@ class _Checked:
         return getattr(self.stream, name)
 
 
+def _clean_stderr() -> IO[str]:
+    return cast(IO[str], _Clean(sys.stderr))      # it writes like the stream it wraps
+
+
 class _Clean:
     """A text stream that shows control characters as U+FFFD (for messages on stderr)."""
 
@@ -130,7 +135,7 @@ class _Clean:
 def _tell(text):
     """One message on stderr, control characters made harmless; a broken stderr is ignored."""
     with contextlib.suppress(OSError, ValueError):
-        click.echo(text, file=_Clean(sys.stderr))
+        click.echo(text, file=_clean_stderr())
 
 
 @contextlib.contextmanager
@@ -174,7 +179,7 @@ def _status(call):
         return EXIT_FILE
     except click.ClickException as problem:
         with contextlib.suppress(OSError, ValueError):
-            problem.show(file=_Clean(sys.stderr))
+            problem.show(file=_clean_stderr())
         return problem.exit_code
     except click.Abort as abort:
         if isinstance(abort.__cause__, EOFError):

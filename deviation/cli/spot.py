@@ -141,7 +141,7 @@ def spot(plan, sensor_name, region, step, top, plot_path, report, as_json, width
         from ..spot import slice_map
 
         z = result.spots[0].position_m[2]
-        x, y, figure = slice_map(the_plan, analysis, sensor, result.region[0], result.region[1], z)
+        x, y, figure = slice_map(the_plan, analysis, sensor, low, high, z)   # --plot needs --region
         spot_map(the_plan, result, x, y, figure, plot_path, z_m=z)
     from ..render.documents.spot import spots_document
 

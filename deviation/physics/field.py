@@ -7,7 +7,9 @@ reference the tests hold the other to, and a compiled loop (numba), used for lar
 
 from __future__ import annotations
 
+import contextvars
 import os
+from contextlib import contextmanager
 
 import numpy as np
 
@@ -16,6 +18,37 @@ from ..constants import MU0_OVER_4PI
 #: Jobs with fewer segment-observer pairs than this stay on the NumPy path, so that a small check
 #: never pays for importing or loading the compiled kernel.
 COMPILED_MIN_PAIRS = 4_000_000
+
+#: Inside :func:`one_path_at_any_size`: "auto" does not look at a job's size.
+_ANY_SIZE = contextvars.ContextVar("deviation_one_path_at_any_size", default=False)
+
+
+@contextmanager
+def one_path_at_any_size():
+    """Within it, every "auto" choice between the compiled and the NumPy path (the segment
+    field here, the worst case with attitude in :mod:`deviation.physics.worst_case`) takes the
+    compiled path wherever numba is available, whatever the job's size.
+
+    The two paths agree only to rounding, so a choice by size makes a position's figure depend,
+    in its last bits, on how many positions are evaluated with it. A search over many
+    positions, and the per-position call that lists its results, run inside this so that each
+    position has one figure to the bit. Each path alone gives a point the same figure whatever
+    the other points of the job.
+    """
+    token = _ANY_SIZE.set(True)
+    try:
+        yield
+    finally:
+        _ANY_SIZE.reset(token)
+
+
+def auto_compiled(work, threshold) -> bool:
+    """Whether "auto" takes the compiled path for a job of ``work`` against its ``threshold``
+    (always, where numba is available, inside :func:`one_path_at_any_size`)."""
+    if _ANY_SIZE.get():
+        return _compiled_available()
+    return work >= threshold and _compiled_available()
+
 
 # Elements (pairs) per NumPy block: large enough to amortise Python overhead, small enough for cache.
 _NUMPY_BLOCK_PAIRS = 65_536
@@ -44,7 +77,14 @@ class InsideConductorError(ValueError):
         )
 
 
+#: Segments whose lengths are found at a time (bounds the temporary).
+_LENGTH_BLOCK = 65_536
+
+
 def _as_segments(start_m, end_m, current_a, radius_m):
+    """The segments as contiguous float arrays, those of zero length left out: start, end,
+    current (S, K), radius squared, length squared, the index of each kept segment among those
+    given (None when every one is kept), and whether the current had one state."""
     start = np.ascontiguousarray(start_m, dtype=float).reshape(-1, 3)
     end = np.ascontiguousarray(end_m, dtype=float).reshape(-1, 3)
     if start.shape != end.shape:
@@ -56,8 +96,14 @@ def _as_segments(start_m, end_m, current_a, radius_m):
         raise ValueError(f"current_a has {current.shape[0]} rows for {len(start)} segments")
     radius = np.broadcast_to(np.asarray(radius_m, dtype=float), (len(start),))
     # A zero-length segment carries no field; dropping it also keeps the on-axis test well posed.
-    length2 = np.einsum("ij,ij->i", end - start, end - start)
+    length2 = np.empty(len(start))
+    for s0 in range(0, len(start), _LENGTH_BLOCK):       # no (S, 3) temporary for a big plan
+        axis = end[s0:s0 + _LENGTH_BLOCK] - start[s0:s0 + _LENGTH_BLOCK]
+        length2[s0:s0 + _LENGTH_BLOCK] = np.einsum("ij,ij->i", axis, axis)
     keep = length2 > 0
+    if keep.all():                 # the usual case: the arrays as given, no copies
+        return (start, end, np.ascontiguousarray(current), radius ** 2, length2, None,
+                single_state)
     index = np.flatnonzero(keep)
     return (start[keep], end[keep], np.ascontiguousarray(current[keep]), radius[keep] ** 2,
             length2[keep], index, single_state)
@@ -122,7 +168,7 @@ def segment_field(start_m, end_m, current_a, points_m, *, radius_m=0.0, return_i
     if len(start) and len(points):
         pairs = len(start) * len(points)
         use_compiled = backend == "compiled" or (
-            backend == "auto" and pairs >= COMPILED_MIN_PAIRS and _compiled_available())
+            backend == "auto" and auto_compiled(pairs, COMPILED_MIN_PAIRS))
         if use_compiled:
             from . import _kernels
             _kernels.segment_field(start, end, current, radius2, length2, points, field, inside)
@@ -132,7 +178,7 @@ def segment_field(start_m, end_m, current_a, points_m, *, radius_m=0.0, return_i
     if inside.any() and not return_inside:
         p = int(np.flatnonzero(inside)[0])
         s, distance = _nearest_segment(start, end, points[p])
-        raise InsideConductorError(p, index[s], distance)
+        raise InsideConductorError(p, s if index is None else index[s], distance)
     if single:
         field = field[:, 0, :]
     return (field, inside) if return_inside else field
@@ -217,11 +263,11 @@ def segment_field_by_group(start_m, end_m, weight, group, n_groups, points_m, *,
     The same closed form as :func:`segment_field`; the sum over segments is taken per group.
     """
     group = np.asarray(group)
-    if np.any(np.diff(group) < 0):
+    if np.any(group[1:] < group[:-1]):
         raise ValueError("segments must be sorted by group")
     start, end, weight2, radius2, length2, index, _ = _as_segments(start_m, end_m, weight, radius_m)
     weight = weight2[:, 0]
-    group = group[index]
+    group = group if index is None else group[index]
     points = np.ascontiguousarray(points_m, dtype=float).reshape(-1, 3)
     field = np.zeros((len(points), n_groups, 3))
     inside = np.zeros((len(points), n_groups), dtype=bool)
@@ -229,8 +275,8 @@ def segment_field_by_group(start_m, end_m, weight, group, n_groups, points_m, *,
         return field, inside
     if backend not in ("auto", "numpy", "compiled"):
         raise ValueError(f"backend must be auto, numpy or compiled, not {backend!r}")
-    if backend == "compiled" or (backend == "auto" and len(start) * len(points)
-                                 >= COMPILED_MIN_PAIRS and _compiled_available()):
+    if backend == "compiled" or (backend == "auto" and auto_compiled(len(start) * len(points),
+                                                                     COMPILED_MIN_PAIRS)):
         from . import _kernels
 
         _kernels.segment_field_by_group(start, end, weight, np.ascontiguousarray(group),

@@ -150,10 +150,10 @@ def worst_heel_deg(b_vessel, max_heel_deg):
     b = np.asarray(b_vessel, dtype=float)
     limit = abs(float(max_heel_deg))
     phase = np.degrees(np.arctan2(b[..., 2], -b[..., 1]))
-    candidates = [np.full(phase.shape, -limit), np.full(phase.shape, limit)]
+    tried = [np.full(phase.shape, -limit), np.full(phase.shape, limit)]
     for shift in (0.0, 180.0, -180.0):
-        candidates.append(np.clip(phase + shift, -limit, limit))
-    candidates = np.stack(candidates, axis=-1)
+        tried.append(np.clip(phase + shift, -limit, limit))
+    candidates = np.stack(tried, axis=-1)
     size = horizontal_disturbance(b[..., None, :], candidates)
     best = np.argmax(size, axis=-1)
     return np.take_along_axis(candidates, best[..., None], axis=-1)[..., 0]

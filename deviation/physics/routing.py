@@ -27,6 +27,7 @@ segment (through the load and the source), as the real current is.
 
 from __future__ import annotations
 
+import weakref
 from dataclasses import dataclass, field, replace
 
 import numpy as np
@@ -109,19 +110,28 @@ class Conductors:
 
 def route_runs(runs) -> Conductors:
     """Segments of every run (a sequence of :class:`RunGeometry`)."""
-    starts, ends, signs, owners, radii = [], [], [], [], []
-    for index, run in enumerate(runs):
+    runs = list(runs)
+    starts, ends, signs = [], [], []
+    for run in runs:
         start, end, sign = route_run(run)
         starts.append(start)
         ends.append(end)
         signs.append(sign)
-        owners.append(np.full(len(sign), index))
-        radii.append(np.full(len(sign), run.radius_m))
     if not starts:
         empty = np.zeros((0, 3))
         return Conductors(empty, empty, np.zeros(0), np.zeros(0, dtype=int), np.zeros(0), [])
-    return Conductors(np.concatenate(starts), np.concatenate(ends), np.concatenate(signs),
-                      np.concatenate(owners), np.concatenate(radii), [r.name for r in runs])
+    counts = [len(sign) for sign in signs]
+    # Each list let go as soon as it is joined: the runs' pieces and the joined arrays are not
+    # all held at once (a big plan's helices are hundreds of MB).
+    start = np.concatenate(starts)
+    starts.clear()
+    end = np.concatenate(ends)
+    ends.clear()
+    sign = np.concatenate(signs)
+    signs.clear()
+    owners = np.repeat(np.arange(len(runs)), counts)
+    radii = np.repeat(np.array([float(run.radius_m) for run in runs]), counts)
+    return Conductors(start, end, sign, owners, radii, [r.name for r in runs])
 
 
 def route_run(run: RunGeometry):
@@ -136,9 +146,36 @@ def route_run(run: RunGeometry):
         return _closed_circuit(route, offset_polyline(route, run.spacing_m,
                                                       run.return_angle_deg), 1.0, -1.0)
     if run.return_kind == "twisted":
-        supply, back = twisted_conductors(route, run.spacing_m, run.lay_m, run.untwisted_end_m)
+        supply, back, turn, end_of = _twisted_with_ends(route, run.spacing_m, run.lay_m,
+                                                        run.untwisted_end_m, CHORDS_PER_LAY)
+        if not np.all(end_of < 0):
+            _remember_parts(run, _twisted_split(supply, back, turn, end_of)[1])
         return _closed_circuit(supply, back, 1.0, -1.0)
     raise ValueError(f"unknown return kind {run.return_kind!r}; expected one of {RETURN_KINDS}")
+
+
+#: The turning parts of each twisted run routed (its untwisted ends: a few segments), kept while
+#: its geometry lives: routing a run and finding its turning parts then make its helices once.
+_TWISTED_PARTS: dict = {}
+
+
+def _remember_parts(run, parts):
+    key = id(run)
+
+    def forget(_reference, key=key):
+        _TWISTED_PARTS.pop(key, None)
+
+    _TWISTED_PARTS[key] = (weakref.ref(run, forget), parts)
+
+
+def turning_parts(run: RunGeometry):
+    """The parts of a run that turn about its axis: ``turning_run(run)[1]``, the same values,
+    without routing a twisted run again when it has been routed (:func:`route_run`)."""
+    if run.return_kind == "twisted":
+        kept = _TWISTED_PARTS.get(id(run))
+        if kept is not None and kept[0]() is run:
+            return kept[1]
+    return turning_run(run)[1]
 
 
 def _polyline(points, sign):
@@ -158,6 +195,21 @@ def _closed_circuit(supply, back, forward_sign, back_sign):
     end = np.concatenate([p[1] for p in parts])
     sign = np.concatenate([p[2] for p in parts])
     return start, end, sign
+
+
+def _cross(a, b):
+    """a x b of 3-vectors (..., 3), broadcast: numpy.cross's own products and differences in
+    its order (so the same numbers to the bit), without its per-call overhead, which a route
+    of many short stretches pays thousands of times."""
+    a = np.asarray(a, dtype=float)
+    b = np.asarray(b, dtype=float)
+    a0, a1, a2 = a[..., 0], a[..., 1], a[..., 2]
+    b0, b1, b2 = b[..., 0], b[..., 1], b[..., 2]
+    out = np.empty(np.broadcast_shapes(a.shape, b.shape))
+    out[..., 0] = a1 * b2 - a2 * b1
+    out[..., 1] = a2 * b0 - a0 * b2
+    out[..., 2] = a0 * b1 - a1 * b0
+    return out
 
 
 def _left_normals(points):
@@ -187,7 +239,7 @@ def _left_normals(points):
     drawings: docs/routing.md; checked against magpylib in tests/test_routing_docs.py.
     """
     direction = np.diff(points, axis=0)
-    normal = np.cross([0.0, 0.0, 1.0], direction)
+    normal = _cross([0.0, 0.0, 1.0], direction)
     size = np.linalg.norm(normal, axis=1)
     length = np.linalg.norm(direction, axis=1)
     horizontal = size > 1e-9 * np.maximum(length, 1e-300)
@@ -247,7 +299,7 @@ def offset_frames(points, spacing_m):
     normals = _left_normals(points)
     direction = np.diff(points, axis=0)
     length = np.linalg.norm(direction, axis=1, keepdims=True)
-    up = np.cross(direction / np.maximum(length, 1e-300), normals)
+    up = _cross(direction / np.maximum(length, 1e-300), normals)
     size = np.linalg.norm(up, axis=1, keepdims=True)
     # Stays a unit normal of each stretch: left and "up" are perpendicular to the stretch.
     up = np.where(size > 1e-12, up / np.maximum(size, 1e-300), normals)
@@ -336,7 +388,7 @@ def twisted_helices(points, spacing_m, lay_m, chords_per_lay=CHORDS_PER_LAY,
             continue
         axis = stretch / length
         u = normals[i]
-        v = np.cross(axis, u)
+        v = _cross(axis, u)
         n = max(1, int(np.ceil(length / lay_m * max(chords_per_lay, 4))))
         s = np.linspace(0.0, length, n + 1)
         phase = start_phase_rad + 2 * np.pi * (travelled + s) / lay_m
@@ -557,18 +609,25 @@ def turning_run(run: RunGeometry):
                                                     run.untwisted_end_m, CHORDS_PER_LAY)
     if np.all(end_of < 0):
         return _closed_circuit(supply, back, 1.0, -1.0), ()
+    still, parts = _twisted_split(supply, back, turn, end_of)
+    f_start, f_end, f_sign = _polyline(supply, 1.0)
+    fixed = (np.vstack([f_start, still[0]]), np.vstack([f_end, still[1]]),
+             np.r_[f_sign, still[2]])
+    return fixed, parts
+
+
+def _twisted_split(supply, back, turn, end_of):
+    """A twisted run's return and closing segments that stay put (start, end, sign), and its
+    turning parts (see :func:`turning_run`)."""
     start, end, turn_start, turn_end, sign = _return_part(supply, back, turn)
     # Which end turns each segment: a step into the helix has one turning vertex.
     owner = np.maximum(np.r_[end_of[:-1], end_of[-1], end_of[0]],
                        np.r_[end_of[1:], end_of[-1], end_of[0]])
-    f_start, f_end, f_sign = _polyline(supply, 1.0)
     still = owner < 0
-    fixed = (np.vstack([f_start, start[still]]), np.vstack([f_end, end[still]]),
-             np.r_[f_sign, sign[still]])
     parts = tuple(TurningPart(start[owner == k], end[owner == k], turn_start[owner == k],
                               turn_end[owner == k], sign[owner == k])
                   for k in sorted(set(owner[owner >= 0].tolist())))
-    return fixed, parts
+    return (start[still], end[still], sign[still]), parts
 
 
 def as_paired(geometry: RunGeometry) -> RunGeometry:

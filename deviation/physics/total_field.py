@@ -237,7 +237,7 @@ def _merge_parallel(units):
     direction, and ``directions`` (m, 3) one unit vector per line (the first of its group).
     """
     group = np.full(len(units), -1)
-    directions = []
+    directions: list[np.ndarray] = []
     for i in range(len(units)):
         if group[i] >= 0:
             continue

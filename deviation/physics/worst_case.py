@@ -321,11 +321,10 @@ def _walk_compiled(rows, n, backend):
         return backend == "compiled"
     import sys
 
-    from .field import _compiled_available
+    from .field import auto_compiled
 
     loaded = "deviation.physics._kernels" in sys.modules
-    return rows * n * n >= (COMPILED_MIN_WALK_LOADED if loaded else COMPILED_MIN_WALK) \
-        and _compiled_available()
+    return auto_compiled(rows * n * n, COMPILED_MIN_WALK_LOADED if loaded else COMPILED_MIN_WALK)
 
 
 def worst_combination(base, vectors, reversing=None, max_heel_deg=0.0, max_pitch_deg=0.0, *,

@@ -7,8 +7,8 @@ up the page), the end view seen from astern beside the profile (port on the left
 share one scale, so one scale bar serves them, and lengths are in the plan's own unit.
 
 Runs are coloured by their share of the sensor's budget in its worst state; the culprits are
-drawn heavier and named. Sensors, equipment and the points sheet's named points (as
-landmarks) are marked.
+drawn heavier and named. Sensors, equipment, steel items (the outline of the box that holds
+each, a sphere as its circle) and the points sheet's named points (as landmarks) are marked.
 """
 
 from __future__ import annotations
@@ -32,6 +32,7 @@ MOST_NAMED = 4
 FONT = "DejaVu Sans"
 SENSOR_COLOUR = "#c0392b"
 ITEM_COLOUR = "#6a3d9a"
+STEEL_COLOUR = "#4d5a66"
 LANDMARK_COLOUR = "#8c8c8c"
 
 #: The views: name, title, (page-right axis, sign), (page-up axis, sign). Axes: 0 x, 1 y, 2 z.
@@ -107,6 +108,44 @@ class _Labels:
         return None
 
 
+def steel_corners(item) -> np.ndarray:
+    """(8, 3) [m] the corners of the box that holds a steel item, in the vessel frame (its own
+    axes turned by its rotation; a cylinder's axis is its own z)."""
+    from ..physics.induced import solid_dimensions
+
+    body, dims = solid_dimensions(item.shape, item.sizes_m)
+    if body == "ellipsoid":
+        half = np.asarray(dims, dtype=float)
+    elif body == "box":
+        half = np.asarray(dims, dtype=float) / 2.0
+    else:                                             # cylinder: (length, diameter)
+        half = np.array([dims[1] / 2.0, dims[1] / 2.0, dims[0] / 2.0])
+    signs = np.array([[a, b, c] for a in (-1, 1) for b in (-1, 1) for c in (-1, 1)], float)
+    return np.asarray(item.position_m, float) + (signs * half) @ np.asarray(item.rotation).T
+
+
+def _hull(xs, ys):
+    """The convex hull of points on the page, counter-clockwise (Andrew's monotone chain)."""
+    points = sorted(set(zip(np.round(xs, 4).tolist(), np.round(ys, 4).tolist())))
+    if len(points) <= 2:
+        return points
+
+    def cross(o, a, b):
+        return (a[0] - o[0]) * (b[1] - o[1]) - (a[1] - o[1]) * (b[0] - o[0])
+
+    lower: list = []
+    for p in points:
+        while len(lower) >= 2 and cross(lower[-2], lower[-1], p) <= 0:
+            lower.pop()
+        lower.append(p)
+    upper: list = []
+    for p in reversed(points):
+        while len(upper) >= 2 and cross(upper[-2], upper[-1], p) <= 0:
+            upper.pop()
+        upper.append(p)
+    return lower[:-1] + upper[:-1]
+
+
 def two_views(plan):
     """The two views that keep a small drawing low: profile and plan for a long vessel, profile
     and end view for a broad one (a drone, a square frame)."""
@@ -138,6 +177,7 @@ def drawing_svg(plan, result=None, *, width_mm=180.0, views=("profile", "end", "
     runs = _runs(plan, result)
     things = [r.points_m for r in runs] + [s.position_m[None, :] for s in plan.sensors]
     things += [e.position_m[None, :] for e in plan.equipment]
+    things += [steel_corners(item) for item in plan.steel]
     if landmarks:
         things += [p[None, :] for _, p in plan.points]
     every = np.concatenate([np.asarray(t, dtype=float).reshape(-1, 3) for t in things]) \
@@ -210,6 +250,19 @@ def drawing_svg(plan, result=None, *, width_mm=180.0, views=("profile", "end", "
                 xs, ys = to_page(view, position)
                 out.append(f'<circle cx="{xs[0]:.2f}" cy="{ys[0]:.2f}" r="0.45" '
                            f'fill="{LANDMARK_COLOUR}"/>')
+    for steel in plan.steel:
+        for view in frames:
+            if steel.shape == "sphere":
+                xs, ys = to_page(view, steel.position_m)
+                radius = steel.sizes_m[0] / 2 / scale_unit * s
+                out.append(f'<circle cx="{xs[0]:.2f}" cy="{ys[0]:.2f}" r="{radius:.2f}" '
+                           f'fill="{STEEL_COLOUR}" fill-opacity="0.18" stroke="{STEEL_COLOUR}" '
+                           'stroke-width="0.35"/>')
+                continue
+            xs, ys = to_page(view, steel_corners(steel))
+            points = " ".join(f"{a:.2f},{b:.2f}" for a, b in _hull(xs, ys))
+            out.append(f'<polygon points="{points}" fill="{STEEL_COLOUR}" fill-opacity="0.18" '
+                       f'stroke="{STEEL_COLOUR}" stroke-width="0.35"/>')
     for item in plan.equipment:
         for view in frames:
             xs, ys = to_page(view, item.position_m)
@@ -246,10 +299,16 @@ def drawing_svg(plan, result=None, *, width_mm=180.0, views=("profile", "end", "
         for view in frames:
             xs, ys = to_page(view, item.position_m)
             text(view, xs[0] + 1.4, ys[0] + 2.6, item.name, 2.0, ITEM_COLOUR)
+    for steel in plan.steel:
+        for view in frames:
+            xs, ys = to_page(view, steel_corners(steel))
+            text(view, float(xs.max()) + 0.8, float(ys.min()) + 2.2, f"{steel.name} (steel)",
+                 2.0, STEEL_COLOUR)
     if landmarks:
         # A point where a sensor or an item is mounted is named by it already.
         marked = [np.asarray(p, dtype=float) for p in
-                  [s.position_m for s in plan.sensors] + [e.position_m for e in plan.equipment]]
+                  [s.position_m for s in plan.sensors] + [e.position_m for e in plan.equipment]
+                  + [item.position_m for item in plan.steel]]
         for name, position in plan.points:
             if any(np.allclose(position, m, atol=1e-6) for m in marked):
                 continue

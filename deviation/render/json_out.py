@@ -67,7 +67,7 @@ def state_json(sensor, state, unit_system, plan_source):
         "switched_on": [{"circuit": name, "sign": sign} for name, sign in state.switched_on],
         "totals": [{"figure": t.label, "deg": _deg(t.value_deg), "held": t.held}
                    for t in view.total_rows(sensor, state)],
-        "runs": [{"run": r.name, "current_a": round(r.current_a, 6),
+        "runs": [{"run": r.name, "current_a": round(by_run[r.name].current_a, 6),
                   "field_ut": _ut(by_run[r.name].field_t),
                   "max_deviation_deg": _deg(r.max_deviation_deg), "nearest_m": _m(r.nearest_m),
                   "change_from_reference_deg": _deg(r.change_deg),

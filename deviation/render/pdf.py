@@ -130,7 +130,8 @@ def pdf_bytes(document) -> bytes:
             if room() < KEEP_WITH_NEXT_MM / 2:
                 pdf.add_page()
             text(block.title, 8.5, block.tone, bold=True)
-        chosen, widths = None, None
+        chosen: float = TABLE_POINTS[-1]        # the loop always chooses: its last size fits by fiat
+        widths: list[float] = []
         for points in TABLE_POINTS[1:] if small else TABLE_POINTS:
             font(points)
             pad = 2.2

@@ -251,10 +251,13 @@ class TerminalProgress:
 
     def _remove(self, task):
         with self._lock:
-            self._progress.remove_task(task)
+            progress = self._progress
+            if progress is None:
+                return
+            progress.remove_task(task)
             self._shown -= 1
             if not self._shown:
-                self._progress.stop()
+                progress.stop()
                 self._progress = None
 
     def _update(self, task, completed):
@@ -349,10 +352,10 @@ def render_spots(search, plan, console, seconds):
     console.print(table)
     if search.best_on_edge:
         # The faces in the words of a vessel's plan (x forward, y port, z up).
-        named = {"x low": "aft", "x high": "forward", "y low": "starboard", "y high": "port",
-                 "z low": "bottom", "z high": "top"}
-        faces = [named[f] for f in search.edge_faces]
-        faces = " and ".join([", ".join(faces[:-1]), faces[-1]] if len(faces) > 1 else faces)
+        face_words = {"x low": "aft", "x high": "forward", "y low": "starboard",
+                      "y high": "port", "z low": "bottom", "z high": "top"}
+        listed = [face_words[f] for f in search.edge_faces]
+        faces = " and ".join([", ".join(listed[:-1]), listed[-1]] if len(listed) > 1 else listed)
         plural = "s" if len(search.edge_faces) > 1 else ""
         console.print(Text(f"The best spot lies on the edge of the searched box: the box may be "
                            f"too small (the spot is on its {faces} face{plural}).",
@@ -360,9 +363,9 @@ def render_spots(search, plan, console, seconds):
     if search.volumes:
         kinds = [(kind, [v.name for v in search.volumes if v.kind == kind])
                  for kind in ("mount in", "keep out")]
-        listed = "; ".join(f"{kind} " + ", ".join(f'"{n}"' for n in names)
-                           for kind, names in kinds if names)
-        console.print(Text(f"Volumes honoured: {listed}."))
+        honoured = "; ".join(f"{kind} " + ", ".join(f'"{n}"' for n in names)
+                             for kind, names in kinds if names)
+        console.print(Text(f"Volumes honoured: {honoured}."))
     if search.excluded:
         console.print(Text("Left out by the volumes: " + "; ".join(
             f"{name} ({why})" for name, why in search.excluded) + "."))

@@ -171,3 +171,46 @@ def test_heeled_figure_is_exact_worst_over_heel(plan_dir):
     exact = heading.max_heeled_deviation_deg(st.field_t, 20e-6, 30)
     assert st.heeled_max_deviation_deg == pytest.approx(float(exact))
     assert st.held == st.heeled_max_deviation_deg
+
+
+def test_the_distances_found_once_give_each_runs_nearest_as_found_afresh():
+    # analyse finds the sensors' distances to every segment once, for the inside-a-conductor
+    # check and each run's nearest distance; the same numbers as parts_at finding them itself
+    # (min over the run's segments of the point-segment distance), to the bit.
+    from deviation.analysis import parts_at
+
+    plan = read_plan(SAMPLES / "cruising_sailboat")
+    analysis = analyse(plan)
+    positions = np.array([s.position_m for s in plan.sensors])
+    afresh = parts_at(plan, positions).nearest_m
+    for i, result in enumerate(analysis.sensors):
+        found = {run.name: run.nearest_m for run in result.states[0].runs}
+        assert [found[run.name] for run in plan.runs] == afresh[i].tolist()
+
+
+@pytest.mark.compiled
+@pytest.mark.parametrize("threshold", [1, 10_000, 10**12])
+def test_runs_routed_in_turn_have_the_fields_of_the_runs_routed_together(monkeypatch, threshold):
+    # The ends' share routes the twisted runs again without their ends; a large plan takes
+    # their field a few runs at a time (never every segment held at once). Each run's field is
+    # the same to the bit as with every run routed and summed in one call, whether that is
+    # taken in many pieces (threshold 1), in two (10 000 pairs: the first five runs, then the
+    # rest), or whole (never reached).
+    from dataclasses import replace
+
+    from deviation.budget import fields_routed_in_turn
+    from deviation.physics import field as field_module
+    from deviation.physics.field import segment_field_by_group
+    from deviation.physics.routing import route_runs
+
+    plan = read_plan(SAMPLES / "cruising_sailboat")
+    geometries = [replace(r.geometry, untwisted_end_m=0.0) if r.geometry.return_kind ==
+                  "twisted" else r.geometry for r in plan.runs]
+    points = np.array([s.position_m for s in plan.sensors] + [[0.3, 0.2, 0.5]])
+    routed = route_runs(geometries)
+    backend = "numpy" if threshold == 10**12 else "compiled"
+    together = segment_field_by_group(routed.start_m, routed.end_m, routed.sign,
+                                      routed.run_index, len(geometries), points,
+                                      radius_m=routed.radius_m, backend=backend)[0]
+    monkeypatch.setattr(field_module, "COMPILED_MIN_PAIRS", threshold)
+    assert np.array_equal(fields_routed_in_turn(geometries, points), together)

@@ -243,3 +243,37 @@ def test_a_deviation_is_posted_to_the_nearest_half_degree(value, posted_deg):
     text = east_west_half(value).text
     assert text == posted(value)                  # the test's own writing of it (above)
     assert text.endswith("E" if posted_deg > 0 else "W" if posted_deg < 0 else "°")
+
+
+def test_the_drawing_outlines_each_steel_item_at_its_size():
+    # The sailboat's engine block, a 0.70 x 0.48 x 0.52 m box along the vessel's axes: its
+    # outline is 0.70 wide and 0.52 high in profile, 0.48 x 0.52 from astern and 0.70 x 0.48 from
+    # above, all at the drawing's one scale (ratios of the drawn sizes, read from the SVG).
+    from deviation.render.drawing import STEEL_COLOUR, drawing_svg
+
+    plan = deviation.read_plan(SAMPLES / "cruising_sailboat")
+    svg = drawing_svg(plan).decode()
+    outlines = re.findall(rf'<polygon points="([^"]+)" fill="{STEEL_COLOUR}"', svg)
+    assert len(outlines) == 3                                  # profile, end view, plan
+    sizes = []
+    for points in outlines:
+        xy = [tuple(map(float, p.split(","))) for p in points.split()]
+        xs, ys = [p[0] for p in xy], [p[1] for p in xy]
+        sizes.append((max(xs) - min(xs), max(ys) - min(ys)))
+    (pw, ph), (ew, eh), (qw, qh) = sizes
+    mm_per_m = pw / 0.70
+    assert (ph, ew, eh, qw, qh) == pytest.approx(
+        tuple(mm_per_m * v for v in (0.52, 0.48, 0.52, 0.70, 0.48)), abs=0.02)
+    assert "engine block (steel)" in svg
+
+
+def test_a_steel_items_outline_turns_with_its_axis():
+    # The workboat's helm pump: a cylinder 200 mm long and 150 mm across, its axis fore and aft,
+    # is held by a box 0.20 m along x and 0.15 m across y and z, about its centre.
+    from deviation.render.drawing import steel_corners
+
+    plan = deviation.read_plan(SAMPLES / "survey_workboat")
+    pump = next(item for item in plan.steel if item.name == "helm pump")
+    corners = steel_corners(pump)
+    assert corners.max(axis=0) - corners.min(axis=0) == pytest.approx([0.20, 0.15, 0.15])
+    assert corners.mean(axis=0) == pytest.approx(pump.position_m)

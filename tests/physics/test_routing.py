@@ -104,3 +104,17 @@ def test_segment_currents_follow_sign_and_run():
     assert isinstance(conductors, Conductors) and conductors.run_names == ["a", "b"]
     assert set(np.unique(currents[conductors.run_index == 0, 0])) == {-2.0, 2.0}
     assert np.all(currents[conductors.run_index == 1] == [3.0, -1.0])
+
+
+def test_the_routes_cross_product_is_numpys_to_the_bit():
+    # routing._cross replaces numpy.cross (the same products and differences, in its order)
+    # in the loops over stretches; the same numbers to the bit, signed zeros included.
+    from deviation.physics.routing import _cross
+
+    rng = np.random.default_rng(20)
+    a, b = rng.normal(size=(500, 3)), rng.normal(size=(500, 3))
+    a[::7] = 0.0
+    b[::5, 1] = -0.0
+    for x, y in ((a, b), ([0.0, 0.0, 1.0], b), (a[3], b[4])):
+        assert np.array_equal(_cross(x, y), np.cross(x, y))
+        assert np.array_equal(np.signbit(_cross(x, y)), np.signbit(np.cross(x, y)))

@@ -423,3 +423,30 @@ def test_the_strip_bound_holds_off_the_real_line_for_ends_and_corners(kind, rout
         for t, k in zip(tau[0, 0], bound[0, 0]):
             turns = np.r_[real + 1j * t, real - 1j * t]
             assert np.linalg.norm(_complex_field(part, at, turns), axis=-1).max() <= k
+
+
+def test_a_routed_twisted_run_gives_the_turning_parts_it_routes_afresh_and_forgets_them():
+    # Routing a twisted run keeps its untwisted ends' turning parts while its geometry lives,
+    # so the budget does not make its helices a second time: the same arrays, to the bit, as
+    # turning_run finding them afresh; and nothing kept once the geometry is gone.
+    import gc
+    from dataclasses import fields
+
+    from deviation.physics import routing
+
+    geometry = routing.RunGeometry("feed", np.array([[0.0, 0.0, 0.0], [1.2, 0.0, 0.0],
+                                                     [1.2, 0.8, 0.3]]), "twisted",
+                                   spacing_m=0.006, lay_m=0.05, radius_m=0.002,
+                                   untwisted_end_m=0.15)
+    routing.route_runs([geometry])
+    kept = routing.turning_parts(geometry)
+    assert routing._TWISTED_PARTS[id(geometry)][1] is kept
+    afresh = routing.turning_run(geometry)[1]
+    assert len(kept) == len(afresh) == 2                        # the lead and the tail
+    for mine, theirs in zip(kept, afresh):
+        for f in fields(mine):
+            assert np.array_equal(getattr(mine, f.name), getattr(theirs, f.name))
+    key = id(geometry)
+    del geometry, kept
+    gc.collect()
+    assert key not in routing._TWISTED_PARTS

@@ -334,7 +334,7 @@ def deflection_document(row, moment_am2, deflection_deg, distance_m, position,
                      ((cell(row["item"]), cell(abs(deflection_deg), 1), cell(distance_m, 3),
                        cell(position), cell(horizontal_t * 1e6, 2),
                        cell(float(f"{moment_am2:.3g}"), text=f"{moment_am2:.3g}")),))
-    blocks = (headline, Paragraph(
+    blocks: tuple = (headline, Paragraph(
         "tan δ = µ0 m / (2π r³ H) end-on, µ0 m / (4π r³ H) broadside (Gauss's deflection "
         "method); the item taken as a point dipole, so r should be several times its size."),
         Paragraph("Equipment row (axis blank: the orientation aboard is not known, the worst "

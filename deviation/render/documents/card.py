@@ -9,6 +9,7 @@ from ...quantities import Unit
 from .. import words
 from ..model import (
     TONE_OF,
+    Block,
     Bullets,
     Cell,
     Chart,
@@ -47,7 +48,7 @@ def card_blocks(card):
     from .. import plots
 
     scalar = card.unit is Unit.NANOTESLA
-    blocks = [Paragraph(
+    blocks: list[Block] = [Paragraph(
         "Level total-field error |F + b| - |F| against magnetic heading, in nT; ± the most "
         "parts of unknown direction may add." if scalar else
         "Level; east positive; ± the most that parts of unknown direction may turn the needle "

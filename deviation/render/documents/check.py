@@ -12,6 +12,7 @@ from .. import words
 from ..drawing import drawing_svg, two_views
 from ..model import (
     TONE_OF,
+    Block,
     Bullets,
     Cell,
     Chart,
@@ -93,9 +94,10 @@ def _summary_section(analysis, rows):
                          f"{words.with_degree_sign(row.adjustment_absorbs_deg)}.")
     from .. import plots
 
-    blocks = [Table(columns, table_rows, "Figure held against each budget", notes=tuple(notes)),
-              Chart("held figure by state, as a share of each budget",
-                    lambda fmt: plots.budget_bars(analysis, fmt=fmt))]
+    blocks: list[Block] = [
+        Table(columns, table_rows, "Figure held against each budget", notes=tuple(notes)),
+        Chart("held figure by state, as a share of each budget",
+              lambda fmt: plots.budget_bars(analysis, fmt=fmt))]
     return Section("Summary", tuple(blocks), sheet="summary")
 
 
@@ -137,7 +139,7 @@ def _owner_section(analysis, rows, digest):
                         tuple((cell(r.sensor.name),
                                Cell(_verdict_words(r), r.status.value, None, TONE_OF[r.status]))
                               for r in analysis.sensors), "Each sensor's verdict"))
-    fixes = []
+    fixes: list[Block] = []
     for result in analysis.sensors:
         if result.status is Status.WITHIN or result.fixes is None:
             continue
@@ -386,8 +388,9 @@ def _fix_blocks(result, plan):
     fixes = result.fixes
     if fixes is None or (not fixes.steps and fixes.reaches_budget):
         return []
-    blocks = [Paragraph("The set of fixes, each figure with the changes before it made (every "
-                        "state it is used in, worst attitude and switching):", Tone.STRONG)]
+    blocks: list[Block] = [Paragraph(
+        "The set of fixes, each figure with the changes before it made (every state it is "
+        "used in, worst attitude and switching):", Tone.STRONG)]
     lines = words.fix_set_lines(fixes, plan.site.units, result.sensor.budget.unit)
     if lines:
         blocks.append(Bullets(tuple(lines), ordered=True))
@@ -448,6 +451,11 @@ def _site_section(site):
     return Section("Site", (table,), screen=False, sheet="site")
 
 
+
+def _drawing_of(plan, result):
+    """The drawing of the things around one sensor, for a chart (the same in every format)."""
+    return lambda fmt: drawing_svg(plan, result)
+
 def check_document(analysis, *, all_runs=False, digest=None, voltage_v=None) -> Document:
     """The check of a plan as one document (see :mod:`deviation.render.model`).
 
@@ -473,7 +481,7 @@ def check_document(analysis, *, all_runs=False, digest=None, voltage_v=None) -> 
         blocks = (*_short_blocks(result, analysis, lengths),
                   Chart(f"where things are around {sensor.name}: profile, end view and plan, "
                         "runs coloured by their share of its budget",
-                        lambda fmt, result=result: drawing_svg(plan, result)))
+                        _drawing_of(plan, result)))
         sections.append(Section(sensor.name, blocks, tone=tone, sheet=f"budget {sensor.name}",
                                 new_page=True))
         for st in result.states:

@@ -16,7 +16,7 @@ from ...constants import (
 from ...quantities import Status
 from ...schema import TOTAL_FIELD_KIND
 from .. import words
-from ..model import TONE_OF, Cell, Column, Document, Paragraph, Section, Table, Tone, cell
+from ..model import TONE_OF, Block, Cell, Column, Document, Paragraph, Section, Table, Tone, cell
 from .common import amperes, paper_for, stamp
 from .common import figure as figure_cell
 
@@ -84,7 +84,7 @@ STANDING_TONE = {"within": Tone.GOOD, "within compensated": Tone.WARN, "over": T
 
 def _vector_blocks(report, unit):
     label = UNIT_LABEL[unit]
-    blocks = []
+    blocks: list[Block] = []
     grade = report.grade
     if grade is not None:
         blocks.append(Paragraph(f"{grade.standing.value.upper()}: " + words.standing_words(grade),

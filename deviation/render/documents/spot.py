@@ -68,6 +68,13 @@ def spots_data(search) -> dict:
         "excluded": [{"spot": name, "reason": why} for name, why in search.excluded]})
     return data
 
+#: What a search over a grid does with steel items in the plan, said under its ranking.
+STEEL_SEARCH_NOTE = ("With steel in the plan, the grid is ranked by a quicker bound that is never "
+                     "below the exact figure (near steel it can be several times larger), and only "
+                     "the best of that ranking are worked out exactly and ranked again: each "
+                     "figure shown is exact, but a better spot may lie among the positions not "
+                     "worked out exactly.")
+
 
 def spots_document(search, plan, seconds=None) -> Document:
     """``deviation spot``: the ranked spots of one sensor (see :mod:`deviation.render.model`)."""
@@ -99,6 +106,8 @@ def spots_document(search, plan, seconds=None) -> Document:
         blocks.append(Paragraph(
             f"Searched {search.evaluated:,} positions for a {search.grid_points:,}-point grid at "
             f"{lengths.text(search.step_m)} steps{timing}."))
+        if plan.steel:
+            blocks.append(Paragraph(STEEL_SEARCH_NOTE))
     blocks.append(Paragraph(FIGURE_NOTE))
     title = f"Best spots for {sensor.name}"
     section = Section(f"{sensor.name} ({sensor.kind}), budget {sensor.budget}", tuple(blocks),
