@@ -107,8 +107,9 @@ def _joined(pieces):
 
 
 #: Harmonics of a turning part's field whose ellipses the exact worst-case search sees (each as
-#: the four generators of its circumscribed octagon): two for a pair of unknown lie, one for each
-#: untwisted end of a twisted run. Higher harmonics are counted by size (see :func:`turn_cover`).
+#: the four generators of its circumscribed octagon): one for a pair of unknown lie and one for
+#: each untwisted end of a twisted run (the circle cover, taken where smaller, holds the rest).
+#: Higher harmonics are counted by size (see :func:`turn_cover`).
 PAIR_HARMONICS = 1
 END_HARMONICS = 1
 #: Generators of a run's spread: four per harmonic seen.

@@ -6,6 +6,9 @@ the reports and the JSON say the same thing in the same words.
 
 from __future__ import annotations
 
+import datetime as _dt
+import re
+
 from ..constants import OVERWHELMED_DEG
 from ..quantities import Status, Unit
 from ..units import LENGTH_UNITS, format_length
@@ -398,3 +401,17 @@ def trigger_text(found) -> str:
                                            _names("circuits", list(found.circuits)),
                                            _names("items", list(found.items))) if part)
     return f"{head} — {what}."
+
+
+def plan_date(site) -> str:
+    """The site's date for a reader: as given, or a decimal year (2028.30) as the calendar day
+    it stands for (the inverse of WMM's year + (day of year - 1) / days in year), said to be
+    about that day with the decimal year beside it."""
+    text = site.date_text
+    if not re.fullmatch(r"\d{4}(\.\d+)?", text):
+        return text
+    year = int(site.decimal_year)
+    start = _dt.date(year, 1, 1)
+    days = (_dt.date(year + 1, 1, 1) - start).days
+    day = start + _dt.timedelta(days=min(days - 1, round((site.decimal_year - year) * days)))
+    return f"about {day.isoformat()} ({text} as a decimal year)"

@@ -241,7 +241,8 @@ def test_the_search_scores_each_position_with_the_per_position_figure(sample, se
     sensor = next(s for s in plan.sensors if s.name == sensor_name)
     span = 0.3                                       # [m]: the plan is held in SI units
     rng = np.random.default_rng(17)
-    points = sensor.position_m + rng.uniform(-span, span, size=(40, 3))
+    # With steel the per-position call's exact worst takes 0.2-0.8 s a position: fewer points.
+    points = sensor.position_m + rng.uniform(-span, span, size=(6 if plan.steel else 40, 3))
     searched, _, inside = spot_module._figures_at(plan, sensor, analysis.site, points)
     compared = 0
     for point, figure, hit in zip(points, searched, inside):
@@ -266,7 +267,7 @@ def test_the_search_scores_each_position_with_the_per_position_figure(sample, se
     one_by_one = [spot_module._figures_at(plan, sensor, analysis.site, p[None])[0][0]
                   for p in points[:8]]
     assert one_by_one == list(searched[:8])
-    assert compared >= 30
+    assert compared >= 3 * len(points) // 4
 
 
 @pytest.mark.slow

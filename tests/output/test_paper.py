@@ -277,3 +277,30 @@ def test_a_steel_items_outline_turns_with_its_axis():
     corners = steel_corners(pump)
     assert corners.max(axis=0) - corners.min(axis=0) == pytest.approx([0.20, 0.15, 0.15])
     assert corners.mean(axis=0) == pytest.approx(pump.position_m)
+
+
+def test_a_decimal_year_is_printed_as_the_day_it_stands_for():
+    # WMM's decimal year is year + (day of year - 1) / days in year (the WMM2025 report's
+    # convention, physics.geomag.decimal_year): every day of a common and a leap year, written to
+    # four decimals, reads back as that day (a day out, or a year's length of 365 in 2028, fails).
+    import datetime as dt
+    from types import SimpleNamespace
+
+    from deviation.physics.geomag import decimal_year
+    from deviation.render.words import plan_date
+
+    for year in (2027, 2028):
+        day = dt.date(year, 1, 1)
+        while day.year == year:
+            text = f"{decimal_year(day):.4f}"
+            site = SimpleNamespace(date_text=text, decimal_year=float(text))
+            assert plan_date(site) == f"about {day.isoformat()} ({text} as a decimal year)"
+            day += dt.timedelta(days=1)
+    assert plan_date(SimpleNamespace(date_text="2027-04-15", decimal_year=2027.28)) == "2027-04-15"
+
+
+def test_the_first_page_gives_the_plans_date_as_a_day(tmp_path):
+    out = tmp_path / "r.html"
+    result = run_cli("check", str(SAMPLES / "survey_drone"), "--report", str(out))
+    assert result.exit_code in (0, 1)
+    assert "about 2028-04-20 (2028.30 as a decimal year)" in out.read_text()

@@ -129,7 +129,7 @@ def _owner_section(analysis, rows, digest):
 
     particulars = [("vessel or vehicle", site.vessel or ""), ("owner", site.owner or ""),
                    ("installer", site.installer or ""),
-                   ("date of the plan", site.date_text),
+                   ("date of the plan", words.plan_date(site)),
                    ("plan file", Path(str(plan.source)).name),
                    ("plan SHA-256", digest or "not a file (built in Python)")]
     blocks: list = [Table((Column("", wrap=True), Column("", wrap=True)),
