@@ -480,8 +480,12 @@ def test_a_real_file_of_someone_else_is_refused_and_kept(plan, tmp_path):
 
 #: Runs the command line with every write to a temporary output slowed down: the first write
 #: lands, then the save waits, so that a signal arrives in the middle of it.
+# Ctrl-C reaches the program as a user's terminal would send it: a shell without job control
+# starts a background job with SIGINT ignored (POSIX), and Python then sets no KeyboardInterrupt
+# handler, so under such a parent (a CI script run in the background) the child restores it.
 SLOW_SAVE = """
-import builtins, io, sys, time
+import builtins, io, signal, sys, time
+signal.signal(signal.SIGINT, signal.default_int_handler)
 real_open = builtins.open
 def opening(file, mode="r", *args, **kwargs):
     handle = real_open(file, mode, *args, **kwargs)
