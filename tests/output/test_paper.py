@@ -304,3 +304,18 @@ def test_the_first_page_gives_the_plans_date_as_a_day(tmp_path):
     result = run_cli("check", str(SAMPLES / "survey_drone"), "--report", str(out))
     assert result.exit_code in (0, 1)
     assert "about 2028-04-20 (2028.30 as a decimal year)" in out.read_text()
+
+
+def test_the_first_page_names_steel_that_no_rerouting_moves(tmp_path):
+    # The workboat's compass is over budget because of its cast-iron helm pump: page 1 says so
+    # with the pump's own held figure, the one the budget table gives it.
+    import html as html_module
+
+    plan = deviation.read_plan(SAMPLES / "survey_workboat")
+    worst = deviation.check(plan, remedies=False).sensors[0].worst
+    pump = next(item for item in worst.steel if item.name == "helm pump")
+    out = tmp_path / "r.html"
+    run_cli("check", str(SAMPLES / "survey_workboat"), "--report", str(out))
+    page = html_module.unescape(out.read_text())
+    assert (f'Steel item "helm pump" alone gives ≤ {pump.held:.2f}° '
+            f"({pump.share_of_budget * 100:.0f} % of the budget)") in page

@@ -9,7 +9,7 @@ import numpy as np
 
 from ...quantities import Budget, Status, Unit
 from .. import words
-from ..drawing import drawing_svg, two_views
+from ..drawing import CULPRIT_SHARE, drawing_svg, two_views
 from ..model import (
     TONE_OF,
     Block,
@@ -149,6 +149,15 @@ def _owner_section(analysis, rows, digest):
             fixes.append(Bullets(tuple(lines), ordered=True))
         if not result.fixes.reaches_budget:
             fixes.append(Paragraph(words.NO_FIX_SET, Tone.BAD))
+        # Steel no rerouting moves, named where it alone takes a culprit's share of the budget.
+        budget = result.sensor.budget
+        for item in sorted(result.worst.steel, key=lambda s: -s.held):
+            if item.share_of_budget >= CULPRIT_SHARE:
+                fixes.append(Paragraph(
+                    f'Steel item "{item.name}" alone gives {"≤ " if item.bound else ""}'
+                    f"{words.figure_text(item.held, budget.unit)} "
+                    f"({item.share_of_budget * 100:.0f} % of the budget): no rerouting changes "
+                    "it; move the sensor or the item.", Tone.BAD))
     if fixes:
         blocks += fixes
     over = [r for r in analysis.sensors if r.status is not Status.WITHIN]
