@@ -239,10 +239,11 @@ def plan_view(plan, path=None, fmt=None):
 def budget_bars(analysis, path=None, fmt=None):
     """Each sensor's held figure by state, as percent of its own budget (degrees or nT alike).
 
-    States a sensor is not relied on in are drawn hatched and pale, and the legend says so: their
+    States a sensor is not relied on in are drawn pale and outlined, and the legend says so: their
     figure is shown, not held against the budget.
     """
     plt = _pyplot()
+    from matplotlib.colors import to_rgb
     from matplotlib.patches import Patch
 
     fig, ax = plt.subplots(figsize=(7, 3.6), dpi=130)
@@ -254,10 +255,14 @@ def budget_bars(analysis, path=None, fmt=None):
         used = [result.sensor.budget.share(st.held) * 100 for st in result.states]
         bars = ax.bar(np.arange(len(states)) + i * width, np.minimum(used, 300.0), width,
                       color=colour, label=f"{result.sensor.name} ({result.sensor.budget})")
+        # Pale by a lighter solid colour and an outline, not by transparency or hatching: the PDF
+        # writer reads the chart as vectors and draws neither (a hatched bar came out empty).
+        pale = tuple(0.35 * c + 0.65 for c in to_rgb(colour))
         for bar, st in zip(bars, result.states):
             if not st.used:
-                bar.set_hatch("///")
-                bar.set_alpha(0.35)
+                bar.set_facecolor(pale)
+                bar.set_edgecolor(colour)
+                bar.set_linewidth(0.8)
         ax.bar_label(bars, labels=[f"{u:.0f} %" + ("" if st.used else "\nnot used")
                                    for u, st in zip(used, result.states)],
                      fontsize=6, padding=1)
@@ -267,8 +272,8 @@ def budget_bars(analysis, path=None, fmt=None):
     ax.set_ylabel("held figure [% of budget]")
     ax.set_title("Held figure by state (red: the budget; bars stop at 300 %)", fontsize=9)
     handles, _ = ax.get_legend_handles_labels()
-    handles.append(Patch(facecolor="white", edgecolor="grey", hatch="///",
-                         label="state not relied on (not held)"))
+    handles.append(Patch(facecolor="#d9d9d9", edgecolor="grey",
+                         label="state not relied on (not held): pale, outlined"))
     ax.legend(handles=handles, fontsize=7)
     fig.tight_layout()
     data = _save(fig, path, fmt)

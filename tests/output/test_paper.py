@@ -319,3 +319,17 @@ def test_the_first_page_names_steel_that_no_rerouting_moves(tmp_path):
     page = html_module.unescape(out.read_text())
     assert (f'Steel item "helm pump" alone gives ≤ {pump.held:.2f}° '
             f"({pump.share_of_budget * 100:.0f} % of the budget)") in page
+
+
+def test_a_state_not_relied_on_is_drawn_pale_without_transparency_or_hatching():
+    # The PDF writer reads charts as vectors and draws neither transparency nor hatching (a
+    # hatched bar came out empty on paper): the sailboat's autopilot sensor, not relied on in
+    # harbour and at anchor, has those bars filled with a pale solid colour.
+    from deviation.render.plots import budget_bars
+
+    analysis = deviation.check(deviation.read_plan(SAMPLES / "cruising_sailboat"),
+                               remedies=False)
+    svg = budget_bars(analysis, fmt="svg").decode()
+    assert "<pattern" not in svg                           # no hatching
+    assert svg.count("opacity") <= 1                        # the legend's frame alone
+    assert svg.count("fill: #ffd2ab") >= 2    # orange #ff7f0e at 35 % on white: 0.35 c + 0.65
