@@ -318,7 +318,13 @@ def test_the_first_page_names_steel_that_no_rerouting_moves(tmp_path):
     run_cli("check", str(SAMPLES / "survey_workboat"), "--report", str(out))
     page = html_module.unescape(out.read_text())
     assert (f'Steel item "helm pump" alone gives ≤ {pump.held:.2f}° '
-            f"({pump.share_of_budget * 100:.0f} % of the budget)") in page
+            f"({pump.share_of_budget * 100:.0f} % of the budget), which no rerouting") in page
+    # Where a twist brings the sensor within its budget, its steel is not blamed: the
+    # sailboat's helm compass (its engine block 38 % of the budget) is fixed by the twist.
+    sailboat = tmp_path / "s.html"
+    run_cli("check", str(SAMPLES / "cruising_sailboat"), "--report", str(sailboat))
+    page = html_module.unescape(sailboat.read_text())
+    assert page.count('Steel item "engine block" alone gives') == 1     # the autopilot's only
 
 
 def test_a_state_not_relied_on_is_drawn_pale_without_transparency_or_hatching():

@@ -147,17 +147,19 @@ def _owner_section(analysis, rows, digest):
         fixes.append(Paragraph(f"To bring {result.sensor.name} within its budget:", Tone.STRONG))
         if lines:
             fixes.append(Bullets(tuple(lines), ordered=True))
-        if not result.fixes.reaches_budget:
-            fixes.append(Paragraph(words.NO_FIX_SET, Tone.BAD))
-        # Steel no rerouting moves, named where it alone takes a culprit's share of the budget.
+        if result.fixes.reaches_budget:
+            continue
+        fixes.append(Paragraph(words.NO_FIX_SET, Tone.BAD))
+        # Where rerouting does not reach the budget, the steel it cannot move, named where it
+        # alone takes a culprit's share of the budget.
         budget = result.sensor.budget
         for item in sorted(result.worst.steel, key=lambda s: -s.held):
             if item.share_of_budget >= CULPRIT_SHARE:
                 fixes.append(Paragraph(
                     f'Steel item "{item.name}" alone gives {"≤ " if item.bound else ""}'
                     f"{words.figure_text(item.held, budget.unit)} "
-                    f"({item.share_of_budget * 100:.0f} % of the budget): no rerouting changes "
-                    "it; move the sensor or the item.", Tone.BAD))
+                    f"({item.share_of_budget * 100:.0f} % of the budget), which no rerouting "
+                    "changes: move the sensor or the item.", Tone.BAD))
     if fixes:
         blocks += fixes
     over = [r for r in analysis.sensors if r.status is not Status.WITHIN]
