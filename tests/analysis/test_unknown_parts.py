@@ -182,6 +182,21 @@ def test_a_pair_of_unknown_lie_on_an_independent_load_counts_its_worst_turn(curr
     assert worst <= held <= worst / math.cos(math.pi / 8) * 1.01
 
 
+@pytest.mark.parametrize("current", [4.0, -4.0])
+def test_a_pair_of_unknown_lie_counts_its_worst_turn_whatever_the_sign_of_its_current(current):
+    # A circuit always on in its state (not switched on its own) may carry a negative current
+    # (a charger feeding the battery): its pair's lie counts at the size of that current, never
+    # less. Brute force over turns (magpylib); dropping abs() on the circuit's own current gives
+    # a negative scale and a held figure below the worst turn.
+    plan = windlass_plan(current)
+    plan["states"][0]["switching"] = ""
+    held = check(plan).sensors[0].states[0].held
+    turns = np.radians(np.arange(0, 360, 1.0))
+    b = abs(current) * turned_pair_fields([[-2, 0, -0.05], [2, 0, -0.05]], 0.008, turns)
+    worst = math.degrees(math.asin(np.hypot(b[:, 0], b[:, 1]).max() / H))
+    assert worst <= held <= worst / math.cos(math.pi / 8) * 1.01
+
+
 @pytest.mark.parametrize("current", [40.0, -40.0])
 def test_a_twisted_floor_on_an_independent_load_is_scaled_by_its_size(current):
     # A twisted run into its terminals, 1.5 m under the compass: the floor (50 dB under the
