@@ -33,6 +33,7 @@ FONT = "DejaVu Sans"
 SENSOR_COLOUR = "#c0392b"
 ITEM_COLOUR = "#6a3d9a"
 STEEL_COLOUR = "#4d5a66"
+STEEL_FILL = "#e3e6e9"
 LANDMARK_COLOUR = "#8c8c8c"
 
 #: The views: name, title, (page-right axis, sign), (page-up axis, sign). Axes: 0 x, 1 y, 2 z.
@@ -234,6 +235,20 @@ def drawing_svg(plan, result=None, *, width_mm=180.0, views=("profile", "end", "
         labels.boxes.append((fx, fy - title, fx + fw, fy))
         out.append(f'<text x="{fx:.2f}" y="{fy - 1.3:.2f}" font-size="2.6" fill="#333">'
                    f'{html.escape(VIEWS[view][0])}</text>')
+    # Steel items first, pale and solid (the PDF writer draws no transparency), so the runs
+    # that pass by them are drawn on top.
+    for steel in plan.steel:
+        for view in frames:
+            if steel.shape == "sphere":
+                xs, ys = to_page(view, steel.position_m)
+                radius = steel.sizes_m[0] / 2 / scale_unit * s
+                out.append(f'<circle cx="{xs[0]:.2f}" cy="{ys[0]:.2f}" r="{radius:.2f}" '
+                           f'fill="{STEEL_FILL}" stroke="{STEEL_COLOUR}" stroke-width="0.35"/>')
+                continue
+            xs, ys = to_page(view, steel_corners(steel))
+            points = " ".join(f"{a:.2f},{b:.2f}" for a, b in _hull(xs, ys))
+            out.append(f'<polygon points="{points}" fill="{STEEL_FILL}" '
+                       f'stroke="{STEEL_COLOUR}" stroke-width="0.35"/>')
     # Runs: light first, so the culprits lie on top.
     for run in sorted(runs, key=lambda r: r.share):
         colour = share_colour(run.share)
@@ -250,19 +265,6 @@ def drawing_svg(plan, result=None, *, width_mm=180.0, views=("profile", "end", "
                 xs, ys = to_page(view, position)
                 out.append(f'<circle cx="{xs[0]:.2f}" cy="{ys[0]:.2f}" r="0.45" '
                            f'fill="{LANDMARK_COLOUR}"/>')
-    for steel in plan.steel:
-        for view in frames:
-            if steel.shape == "sphere":
-                xs, ys = to_page(view, steel.position_m)
-                radius = steel.sizes_m[0] / 2 / scale_unit * s
-                out.append(f'<circle cx="{xs[0]:.2f}" cy="{ys[0]:.2f}" r="{radius:.2f}" '
-                           f'fill="{STEEL_COLOUR}" fill-opacity="0.18" stroke="{STEEL_COLOUR}" '
-                           'stroke-width="0.35"/>')
-                continue
-            xs, ys = to_page(view, steel_corners(steel))
-            points = " ".join(f"{a:.2f},{b:.2f}" for a, b in _hull(xs, ys))
-            out.append(f'<polygon points="{points}" fill="{STEEL_COLOUR}" fill-opacity="0.18" '
-                       f'stroke="{STEEL_COLOUR}" stroke-width="0.35"/>')
     for item in plan.equipment:
         for view in frames:
             xs, ys = to_page(view, item.position_m)

@@ -249,12 +249,16 @@ def test_the_drawing_outlines_each_steel_item_at_its_size():
     # The sailboat's engine block, a 0.70 x 0.48 x 0.52 m box along the vessel's axes: its
     # outline is 0.70 wide and 0.52 high in profile, 0.48 x 0.52 from astern and 0.70 x 0.48 from
     # above, all at the drawing's one scale (ratios of the drawn sizes, read from the SVG).
-    from deviation.render.drawing import STEEL_COLOUR, drawing_svg
+    from deviation.render.drawing import STEEL_FILL, drawing_svg
 
     plan = deviation.read_plan(SAMPLES / "cruising_sailboat")
     svg = drawing_svg(plan).decode()
-    outlines = re.findall(rf'<polygon points="([^"]+)" fill="{STEEL_COLOUR}"', svg)
+    outlines = re.findall(rf'<polygon points="([^"]+)" fill="{STEEL_FILL}"', svg)
     assert len(outlines) == 3                                  # profile, end view, plan
+    # Solid and under the runs: the PDF writer draws no transparency, so a run passing the
+    # item must be drawn after it to stay visible.
+    assert "opacity" not in svg
+    assert svg.index("<polygon") < svg.index("<polyline")
     sizes = []
     for points in outlines:
         xy = [tuple(map(float, p.split(","))) for p in points.split()]

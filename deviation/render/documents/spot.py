@@ -68,6 +68,7 @@ def spots_data(search) -> dict:
         "excluded": [{"spot": name, "reason": why} for name, why in search.excluded]})
     return data
 
+
 #: What a search over a grid does with steel items in the plan, said under its ranking.
 STEEL_SEARCH_NOTE = ("With steel in the plan, the grid is ranked by a quicker bound that is never "
                      "below the exact figure (near steel it can be several times larger), and only "
