@@ -2,6 +2,7 @@
 
 import csv
 import os
+from html.parser import HTMLParser
 from pathlib import Path
 
 import pytest
@@ -62,3 +63,28 @@ def run_cli(*args, **kwargs):
 def cli():
     """The command line as a function of its arguments: ``cli("check", plan).exit_code``."""
     return run_cli
+
+
+class HtmlTables(HTMLParser):
+    """Every table of an html page as rows of cell texts (``.tables`` after ``.feed(page)``)."""
+
+    def __init__(self):
+        super().__init__()
+        self.tables, self._cell = [], None
+
+    def handle_starttag(self, tag, attrs):
+        if tag == "table":
+            self.tables.append([])
+        elif tag == "tr" and self.tables:
+            self.tables[-1].append([])
+        elif tag in ("td", "th"):
+            self._cell = ""
+
+    def handle_endtag(self, tag):
+        if tag in ("td", "th") and self._cell is not None:
+            self.tables[-1][-1].append(self._cell.strip())
+            self._cell = None
+
+    def handle_data(self, data):
+        if self._cell is not None:
+            self._cell += data

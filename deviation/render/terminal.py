@@ -14,11 +14,10 @@ from rich.table import Table
 from rich.text import Text
 
 from ..text import terminal_text
-from ..units import LENGTH_UNITS, format_length
-from . import words
+from ..units import format_length
 from .model import Bullets, Paragraph, Tone
 from .model import Table as DocumentTable
-from .words import CAUTIONS, site_line
+from .words import CAUTIONS
 
 #: Width of tables written to a file or a pipe, where no terminal says how wide it is.
 PIPED_WIDTH = 120
@@ -47,14 +46,6 @@ def make_console(file=None, width=None):
 
 def _box(console):
     return box.SIMPLE_HEAVY if console.is_terminal else box.ASCII2
-
-
-def _style(status):
-    return {"ok": "green", "over": "bold red", "unused": "dim"}[status]
-
-
-def _ok(flag):
-    return _style("ok" if flag else "over")
 
 
 def render_site(site, console):
@@ -320,71 +311,6 @@ class _TerminalStep:
                 self.task = None
 
 
-def render_spots(search, plan, console, seconds):
-    unit = plan.site.units
-    sensor = search.sensor
-    figure_unit = sensor.budget.unit
-    table = Table(title=Text(f"Best spots for {sensor.name} (budget {words.budget_text(sensor)})"),
-                  box=_box(console), title_justify="left")
-    table.add_column("#", justify="right")
-    if any(s.name for s in search.spots):
-        table.add_column("spot")
-    # One unit for the three coordinates of a spot, as words.position writes a position.
-    axis_unit, axis_digits = ("in", 1) if unit in ("ft", "in") else ("m", 3)
-    for axis in "xyz":
-        table.add_column(f"{axis} {axis_unit}", justify="right", no_wrap=True)
-    table.add_column(f"figure {figure_unit.label}", justify="right")
-    table.add_column("worst state")
-    table.add_column("dominated by", overflow="fold")
-    for rank, s in enumerate(search.spots, start=1):
-        named = [s.name or ""] if any(x.name for x in search.spots) else []
-        runs = ", ".join(f"{name} {share * 100:.0f} %" for name, share in s.dominant_runs)
-        coordinates = (words.number(v / LENGTH_UNITS[axis_unit], axis_digits)
-                       for v in s.position_m)
-        table.add_row(str(rank), *(Text(n) for n in named), *coordinates,
-                      Text(words.figure_number(s.held, figure_unit), style=_ok(s.within_budget)),
-                      Text(s.worst_state), Text(runs or "—"))
-    if search.spots and not search.within_budget:
-        table.caption = Text(f"No spot meets the {words.budget_text(sensor)} budget: the best "
-                             f"found uses {words.figure_text(search.spots[0].held, figure_unit)}.",
-                             style="bold red")
-        table.caption_justify = "left"
-    console.print(table)
-    if search.best_on_edge:
-        # The faces in the words of a vessel's plan (x forward, y port, z up).
-        face_words = {"x low": "aft", "x high": "forward", "y low": "starboard",
-                      "y high": "port", "z low": "bottom", "z high": "top"}
-        listed = [face_words[f] for f in search.edge_faces]
-        faces = " and ".join([", ".join(listed[:-1]), listed[-1]] if len(listed) > 1 else listed)
-        plural = "s" if len(search.edge_faces) > 1 else ""
-        console.print(Text(f"The best spot lies on the edge of the searched box: the box may be "
-                           f"too small (the spot is on its {faces} face{plural}).",
-                           style="yellow"))
-    if search.volumes:
-        kinds = [(kind, [v.name for v in search.volumes if v.kind == kind])
-                 for kind in ("mount in", "keep out")]
-        honoured = "; ".join(f"{kind} " + ", ".join(f'"{n}"' for n in names)
-                             for kind, names in kinds if names)
-        console.print(Text(f"Volumes honoured: {honoured}."))
-    if search.excluded:
-        console.print(Text("Left out by the volumes: " + "; ".join(
-            f"{name} ({why})" for name, why in search.excluded) + "."))
-    if search.current is not None:
-        now = search.current
-        inside = [v.name for v in search.volumes
-                  if v.kind == "keep out" and v.contains(now.position_m)[0]]
-        where = f' (inside keep-out "{inside[0]}")' if inside else ""
-        console.print(Text(f"Where it is now {words.position(now.position_m, unit)}{where}: "
-                           f"{words.figure_text(now.held, figure_unit)} in {now.worst_state}"))
-    if search.step_m:
-        console.print(Text(f"Searched {search.evaluated:,} positions for a {search.grid_points:,}-point "
-                      f"grid at {format_length(search.step_m, unit)} steps in {seconds:.1f} s."))
-    console.print("The figure is the one held against the budget: the worst state it is used "
-                  "in, at the worst attitude, after adjustment where it has a reference state. "
-                  "Check the spot for vibration, heat, access and equipment not in the plan "
-                  "before mounting.")
-
-
 def render_clearance(table, console, unit, source, notes, warning=None):
     """The clearance table: least distance per current, then what it assumes and the cautions.
 
@@ -435,38 +361,3 @@ def render_clearance(table, console, unit, source, notes, warning=None):
 def _signed(deviation):
     side = "E" if deviation > 0.005 else "W" if deviation < -0.005 else " "
     return f"{abs(deviation):.2f}°{side}"
-
-
-def render_cards(cards, analysis, console):
-    console.print(Text("Predicted deviation card", style="bold"))
-    console.print(Text(f"Site  {site_line(analysis.site)}"))
-    console.print("Level, from the plan's wiring and oriented magnets; east positive. Steer the "
-                  "compass heading to make good the magnetic heading.")
-    for card in cards:
-        sensor = card.sensor
-        console.print()
-        reference = sensor.reference_state
-        note = (f"; after adjustment in {reference!r} (before it, in brackets)" if reference
-                else "")
-        table = Table(title=Text(f"{sensor.name} ({sensor.kind}){note}"), title_justify="left",
-                      box=_box(console), padding=(0, 1), pad_edge=False)
-        table.add_column("magnetic", justify="right", no_wrap=True)
-        for st in card.states:
-            table.add_column(Text(f"{st.state}\ndeviation"), justify="right", no_wrap=True)
-            if card.steers:
-                table.add_column("steer", justify="right", no_wrap=True)
-        for i, psi in enumerate(card.states[0].headings_deg):
-            cells = [f"{psi:03.0f}°"]
-            for st in card.states:
-                text = _signed(st.deviation_deg[i])
-                if st.unadjusted_deg is not None:
-                    text += f" ({_signed(st.unadjusted_deg[i])})"
-                cells.append(text)
-                if card.steers:
-                    cells.append(f"{st.compass_deg[i]:05.1f}°")
-            table.add_row(*cells)
-        console.print(table)
-    console.print()
-    console.print(Text("Cautions", style="bold"))
-    for caution in CAUTIONS:
-        console.print(f"  • {caution}")

@@ -6,13 +6,12 @@ from __future__ import annotations
 
 import json
 import re
-from html.parser import HTMLParser
 
 import openpyxl
 import pytest
 
 import deviation
-from conftest import SAMPLES, run_cli, write_plan
+from conftest import SAMPLES, HtmlTables, run_cli, write_plan
 
 SAMPLE_NAMES = ["cruising_sailboat", "camper_van", "survey_drone", "survey_boom"]
 
@@ -84,31 +83,8 @@ def from_terminal(text, n_states):
     return out
 
 
-class _Tables(HTMLParser):
-    def __init__(self):
-        super().__init__()
-        self.tables, self._cell = [], None
-
-    def handle_starttag(self, tag, attrs):
-        if tag == "table":
-            self.tables.append([])
-        elif tag == "tr" and self.tables:
-            self.tables[-1].append([])
-        elif tag in ("td", "th"):
-            self._cell = ""
-
-    def handle_endtag(self, tag):
-        if tag in ("td", "th") and self._cell is not None:
-            self.tables[-1][-1].append(self._cell.strip())
-            self._cell = None
-
-    def handle_data(self, data):
-        if self._cell is not None:
-            self._cell += data
-
-
 def from_html(page):
-    parser = _Tables()
+    parser = HtmlTables()
     parser.feed(page)
     # The summary table: the first headed sensor, budget, ... (page 1's tables come before it).
     summary = next(t for t in parser.tables if t and t[0][:2] == ["sensor", "budget"])
@@ -188,7 +164,7 @@ def test_the_summary_is_the_same_in_every_output(name, tmp_path):
 
 
 def _html_table(page, header):
-    parser = _Tables()
+    parser = HtmlTables()
     parser.feed(page)
     return next(t for t in parser.tables if t and t[0][:len(header)] == header)[1:]
 

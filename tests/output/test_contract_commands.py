@@ -14,13 +14,12 @@ import csv
 import json
 import re
 import shutil
-from html.parser import HTMLParser
 
 import openpyxl
 import pytest
 
 import deviation
-from conftest import SAMPLES, run_cli
+from conftest import SAMPLES, HtmlTables, run_cli
 from deviation.aftercare import refit, switch_on_test
 from deviation.units import LENGTH_UNITS, parse_length
 
@@ -64,31 +63,8 @@ def terminal_tables(text):
     return tables
 
 
-class _Tables(HTMLParser):
-    def __init__(self):
-        super().__init__()
-        self.tables, self._cell = [], None
-
-    def handle_starttag(self, tag, attrs):
-        if tag == "table":
-            self.tables.append([])
-        elif tag == "tr" and self.tables:
-            self.tables[-1].append([])
-        elif tag in ("td", "th"):
-            self._cell = ""
-
-    def handle_endtag(self, tag):
-        if tag in ("td", "th") and self._cell is not None:
-            self.tables[-1][-1].append(self._cell.strip())
-            self._cell = None
-
-    def handle_data(self, data):
-        if self._cell is not None:
-            self._cell += data
-
-
 def html_tables(page):
-    parser = _Tables()
+    parser = HtmlTables()
     parser.feed(page)
     return [(t[0], t[1:]) for t in parser.tables if t]
 

@@ -7,14 +7,13 @@ import hashlib
 import math
 import re
 import shutil
-from html.parser import HTMLParser
 
 import openpyxl
 import pypdf
 import pytest
 
 import deviation
-from conftest import SAMPLES, run_cli, write_plan
+from conftest import SAMPLES, HtmlTables, run_cli, write_plan
 
 
 def pdf_pages(path):
@@ -85,34 +84,11 @@ def posted(value):
     return f"{text}°{side}"
 
 
-class _Tables(HTMLParser):
-    def __init__(self):
-        super().__init__()
-        self.tables, self._cell = [], None
-
-    def handle_starttag(self, tag, attrs):
-        if tag == "table":
-            self.tables.append([])
-        elif tag == "tr" and self.tables:
-            self.tables[-1].append([])
-        elif tag in ("td", "th"):
-            self._cell = ""
-
-    def handle_endtag(self, tag):
-        if tag in ("td", "th") and self._cell is not None:
-            self.tables[-1][-1].append(self._cell.strip())
-            self._cell = None
-
-    def handle_data(self, data):
-        if self._cell is not None:
-            self._cell += data
-
-
 def test_the_postable_card_rounds_the_cards_own_figures_to_half_degrees(tmp_path):
     folder = SAMPLES / "cruising_sailboat"
     page = tmp_path / "card.html"
     assert run_cli("card", folder, "--sheet", page).exit_code == 0
-    parser = _Tables()
+    parser = HtmlTables()
     parser.feed(page.read_text(encoding="utf-8"))
     cards = deviation.deviation_cards(deviation.read_plan(folder), None, 15.0)
     tables = [t for t in parser.tables if t[0][0] == "ship's head magnetic"]
